@@ -1,0 +1,1 @@
+"""Body model: habitus (BMI, WHO class), body-wall layers per window, conditions, layer stacks."""

@@ -1,0 +1,124 @@
+"""Body-wall layer models per acoustic-window family (vectorised over BMI).
+
+Each layer's median thickness is ``max(floor, a + b (BMI - 25))`` with BMI clipped to
+17-60 and a log-normal spread of coefficient of variation CV (CV + 0.1 above BMI 40):
+``t_z = m exp(z sigma)``, ``sigma = sqrt(ln(1 + CV^2))``; z = -1 / 0 / +1 give the 16th /
+50th / 84th centiles. Layer data and sources: ``planner/data/walls.yaml``.
+
+References
+----------
+Gibney2010, Chandak2018, Milad2002, AfifiNomogram, Eley2019, Youness2007, Ezri2003,
+FemoralDepth2009, Tonnesen1975, SCDThresholds (per layer; see the data file).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from functools import lru_cache
+
+import numpy as np
+
+from planner.datafiles import load_package_yaml
+from planner.provenance import Sourced
+
+BMI_MODEL_RANGE: tuple[float, float] = (17.0, 60.0)
+"""BMI range the wall model is fitted over; inputs outside it are clipped and flagged. [kg/m^2]"""
+
+
+@dataclass(frozen=True, slots=True)
+class WallLayerModel:
+    """One layer of a wall model; a/b are (female, male) pairs. [mm, mm per kg/m^2]"""
+
+    role: str
+    tissue: str
+    a_mm: tuple[float, float]
+    b_mm_per_bmi: tuple[float, float]
+    floor_mm: float
+    cv: float
+    provenance: Sourced
+
+
+@dataclass(frozen=True, slots=True)
+class WallModel:
+    """A body-wall model: ordered layers from the skin inwards."""
+
+    id: str
+    name: str
+    layers: tuple[WallLayerModel, ...]
+    bmi_dependent: bool = True
+    pannus: bool = False
+    notes: tuple[str, ...] = field(default=())
+
+
+def _pair(value) -> tuple[float, float]:
+    if isinstance(value, dict):
+        return float(value["female"]), float(value["male"])
+    return float(value), float(value)
+
+
+@lru_cache(maxsize=1)
+def load_wall_models() -> dict[str, WallModel]:
+    """Return every wall model ``{id: WallModel}`` (cached)."""
+    data = load_package_yaml("walls.yaml")["walls"]
+    models = {}
+    for wall_id, raw in data.items():
+        layers = tuple(
+            WallLayerModel(role=lay["role"], tissue=lay["tissue"], a_mm=_pair(lay["a_mm"]),
+                           b_mm_per_bmi=_pair(lay["b_mm_per_bmi"]),
+                           floor_mm=float(lay["floor_mm"]), cv=float(lay["cv"]),
+                           provenance=Sourced(lay["a_mm"], lay["source"], lay["status"],
+                                              lay.get("note", "")))
+            for lay in raw["layers"])
+        models[wall_id] = WallModel(id=wall_id, name=raw["name"], layers=layers,
+                                    bmi_dependent=raw.get("bmi_dependent", True),
+                                    pannus=raw.get("pannus", False))
+    return models
+
+
+def _sex_weights(sex: str | None) -> tuple[float, float]:
+    return {"female": (1.0, 0.0), "male": (0.0, 1.0)}.get(sex, (0.5, 0.5))
+
+
+def wall_layers_mm(model: WallModel, bmi, sex: str | None = None, z: float = 0.0) -> np.ndarray:
+    """Layer thicknesses of a wall model. [mm]
+
+    Parameters
+    ----------
+    model : WallModel
+    bmi : float or array, shape (N,)
+        Body-mass index; clipped to :data:`BMI_MODEL_RANGE`. [kg/m^2]
+    sex : {'female', 'male', None}
+        None gives the mean of the female and male values.
+    z : float
+        Standard-normal centile of the log-normal spread (0 = median, +1 = 84th centile).
+
+    Returns
+    -------
+    array, shape (..., n_layers)
+    """
+    b = np.clip(np.asarray(bmi, dtype=float), *BMI_MODEL_RANGE)
+    delta = (b - 25.0) if model.bmi_dependent else np.zeros_like(b)
+    wf, wm = _sex_weights(sex)
+    out = []
+    for layer in model.layers:
+        a = wf * layer.a_mm[0] + wm * layer.a_mm[1]
+        slope = wf * layer.b_mm_per_bmi[0] + wm * layer.b_mm_per_bmi[1]
+        median = np.maximum(layer.floor_mm, a + slope * delta)
+        if z:
+            cv = layer.cv + np.where(b > 40.0, 0.1, 0.0)
+            median = median * np.exp(z * np.sqrt(np.log1p(cv ** 2)))
+        out.append(median)
+    return np.stack(out, axis=-1)
+
+
+PANNUS_BMI: float = 40.0
+"""BMI from which a hanging pannus is assumed over suprapubic windows (Seif2023Pannus; from memory). [kg/m^2]"""
+
+
+def pannus_fat_mm(bmi: float) -> tuple[float, float]:
+    """Subcutaneous fat through the pannus and in the fold under the lifted pannus. [mm]
+
+    ``60 + 3 (BMI - 40)`` and ``25 + 0.8 (BMI - 40)`` (from memory; HabitusPracticeModel).
+    """
+    excess = max(0.0, min(bmi, BMI_MODEL_RANGE[1]) - PANNUS_BMI)
+    return 60.0 + 3.0 * excess, 25.0 + 0.8 * excess

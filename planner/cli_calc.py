@@ -1,0 +1,217 @@
+"""``scanplan calc``: quick calculations for practitioners and scripts."""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+
+from planner.cli import emit_json, finite_float
+from planner.errors import InputError
+from planner.physics import attenuation, doppler, interfaces, sound_speed
+from planner.physics.tissues import get_tissue, load_tissues
+
+ANGLE_ERROR_DEG = 5.0
+"""Angle uncertainty used for the velocity-error figures. [deg]"""
+
+
+def register(sub) -> None:
+    calc = sub.add_parser("calc", help="quick physics calculations")
+    calc_sub = calc.add_subparsers(dest="calc_command", required=True)
+
+    p = calc_sub.add_parser("interface", help="reflection and refraction at an interface")
+    p.add_argument("--from", dest="from_tissue", metavar="TISSUE")
+    p.add_argument("--to", dest="to_tissue", metavar="TISSUE")
+    p.add_argument("--z1", type=finite_float, help="impedance of the first medium [MRayl]")
+    p.add_argument("--z2", type=finite_float, help="impedance of the second medium [MRayl]")
+    p.add_argument("--c1", type=finite_float, help="speed of sound in the first medium [m/s]")
+    p.add_argument("--c2", type=finite_float, help="speed of sound in the second medium [m/s]")
+    p.add_argument("--angle-deg", type=finite_float, default=0.0,
+                   help="incidence angle from the normal [deg] (default 0)")
+    p.add_argument("--json", action="store_true")
+    p.set_defaults(func=run_interface)
+
+    p = calc_sub.add_parser("path", help="round-trip loss and depth error through layers")
+    p.add_argument("--layers", required=True, metavar="TISSUE:CM,...",
+                   help="layers from the skin, e.g. fat:3,liver:10 (thickness in cm)")
+    p.add_argument("--frequency-mhz", type=finite_float, required=True)
+    p.add_argument("--json", action="store_true")
+    p.set_defaults(func=run_path)
+
+    p = calc_sub.add_parser("doppler", help="Nyquist limit, shift and angle error at a depth")
+    p.add_argument("--depth-cm", type=finite_float, required=True)
+    p.add_argument("--frequency-mhz", type=finite_float, required=True)
+    p.add_argument("--angle-deg", type=finite_float, required=True, help="beam-to-flow angle [deg]")
+    p.add_argument("--velocity-cm-s", type=finite_float)
+    p.add_argument("--json", action="store_true")
+    p.set_defaults(func=run_doppler)
+
+
+def _tissue(name: str):
+    try:
+        return get_tissue(name)
+    except ValueError as exc:
+        raise InputError(str(exc)) from None
+
+
+def _angle(value: float, upper: float = 90.0) -> float:
+    if not 0.0 <= value <= upper:
+        raise InputError(f"--angle-deg must be between 0 and {upper:g} degrees, got {value:g}")
+    return value
+
+
+def _nullable(x) -> float | None:
+    x = float(x)
+    return None if math.isnan(x) else x
+
+
+def interface_result(z1, z2, c1, c2, angle_deg) -> dict:
+    """The quick interface calculation as a JSON-ready dict."""
+    if c1 is None or c2 is None:
+        r = float(interfaces.intensity_reflection_normal(z1, z2)) if angle_deg == 0 else None
+        if r is None:
+            raise InputError("an oblique angle needs the speeds --c1 and --c2 (or tissues)")
+        return {"reflection_intensity": r, "transmission_intensity": 1.0 - r,
+                "transmitted_angle_deg": 0.0, "critical_angle_deg": None}
+    r = float(interfaces.intensity_reflection_oblique(z1, z2, c1, c2, angle_deg))
+    return {"reflection_intensity": r, "transmission_intensity": 1.0 - r,
+            "transmitted_angle_deg": _nullable(interfaces.transmitted_angle_deg(angle_deg, c1, c2)),
+            "critical_angle_deg": _nullable(interfaces.critical_angle_deg(c1, c2))}
+
+
+def run_interface(args) -> int:
+    _angle(args.angle_deg)
+    if args.from_tissue or args.to_tissue:
+        if not (args.from_tissue and args.to_tissue):
+            raise InputError("give both --from and --to tissues")
+        if any(v is not None for v in (args.z1, args.z2, args.c1, args.c2)):
+            raise InputError("give tissues (--from/--to) or values (--z1/--z2/--c1/--c2), not both")
+        t1, t2 = _tissue(args.from_tissue), _tissue(args.to_tissue)
+        z1, z2, c1, c2 = t1.impedance_mrayl, t2.impedance_mrayl, t1.speed_m_per_s, t2.speed_m_per_s
+        names = (t1.name, t2.name)
+    else:
+        if args.z1 is None or args.z2 is None:
+            raise InputError("give --from and --to tissues, or --z1 and --z2 (MRayl)")
+        if (args.c1 is None) != (args.c2 is None):
+            raise InputError("give both --c1 and --c2, or neither")
+        for name, value in (("--z1", args.z1), ("--z2", args.z2), ("--c1", args.c1), ("--c2", args.c2)):
+            if value is not None and value <= 0:
+                raise InputError(f"{name} must be > 0, got {value:g}")
+        z1, z2, c1, c2 = args.z1, args.z2, args.c1, args.c2
+        names = ("medium 1", "medium 2")
+    result = interface_result(z1, z2, c1, c2, args.angle_deg)
+    if args.json:
+        emit_json(result)
+        return 0
+    t_angle = result["transmitted_angle_deg"]
+    crit = result["critical_angle_deg"]
+    print(f"{names[0]} -> {names[1]} at {args.angle_deg:g} deg from the normal")
+    print(f"  reflected intensity   {result['reflection_intensity']:.4f} "
+          f"({10 * math.log10(max(result['reflection_intensity'], 1e-12)):.1f} dB)")
+    print(f"  transmitted intensity {result['transmission_intensity']:.4f}")
+    print(f"  transmitted angle     {'none (total reflection)' if t_angle is None else f'{t_angle:.1f} deg'}")
+    print(f"  critical angle        {'none (second medium not faster)' if crit is None else f'{crit:.1f} deg'}")
+    return 0
+
+
+def parse_layers(text: str) -> list[tuple[str, float]]:
+    """Parse ``tissue:cm,tissue:cm`` into (tissue id, thickness) pairs."""
+    layers = []
+    for item in text.split(","):
+        name, sep, thick = item.strip().partition(":")
+        if not sep or not name:
+            raise InputError(f"layer {item.strip()!r} must be TISSUE:CM, e.g. fat:3")
+        _tissue(name)
+        try:
+            value = float(thick)
+        except ValueError:
+            raise InputError(f"layer {item.strip()!r}: thickness must be a number of cm") from None
+        if not math.isfinite(value) or value <= 0:
+            raise InputError(f"layer {item.strip()!r}: thickness must be > 0 cm")
+        layers.append((name, value))
+    return layers
+
+
+def path_result(layers: list[tuple[str, float]], frequency_mhz: float) -> dict:
+    """The quick path calculation as a JSON-ready dict."""
+    if frequency_mhz <= 0:
+        raise InputError(f"--frequency-mhz must be > 0, got {frequency_mhz:g}")
+    tissues = [get_tissue(name) for name, _ in layers]
+    d = np.array([t for _, t in layers])
+    c = np.array([t.speed_m_per_s for t in tissues])
+    a0 = np.array([t.attenuation_db_per_cm_mhz for t in tissues])
+    y = np.array([t.attenuation_exponent for t in tissues])
+    z = np.array([t.impedance_mrayl for t in tissues])
+    per_layer = attenuation.round_trip_attenuation_db(d, frequency_mhz, a0, y)
+    total = float(attenuation.stack_round_trip_loss_db(d, frequency_mhz, a0, y, z))
+    shown = float(sound_speed.displayed_depth_cm(d, c))
+    return {
+        "frequency_mhz": frequency_mhz,
+        "round_trip_loss_db": total,
+        "interface_loss_db": float(attenuation.interface_round_trip_loss_db(z)),
+        "true_depth_cm": float(d.sum()), "displayed_depth_cm": shown,
+        "depth_error_mm": 10.0 * (shown - float(d.sum())),
+        "layers": [{"tissue": t.id, "thickness_cm": float(th), "speed_m_per_s": t.speed_m_per_s,
+                    "attenuation_db_per_cm_mhz": t.attenuation_db_per_cm_mhz,
+                    "attenuation_exponent": t.attenuation_exponent, "loss_db": float(loss)}
+                   for t, th, loss in zip(tissues, d, per_layer)],
+    }
+
+
+def run_path(args) -> int:
+    result = path_result(parse_layers(args.layers), args.frequency_mhz)
+    if args.json:
+        emit_json(result)
+        return 0
+    print(f"Round trip at {args.frequency_mhz:g} MHz")
+    for lay in result["layers"]:
+        print(f"  {lay['tissue']:<16} {lay['thickness_cm']:6.2f} cm  {lay['speed_m_per_s']:6.0f} m/s  "
+              f"{lay['attenuation_db_per_cm_mhz']:5.2f} dB/cm/MHz  {lay['loss_db']:6.1f} dB")
+    print(f"  interfaces {result['interface_loss_db']:.2f} dB; total {result['round_trip_loss_db']:.1f} dB")
+    print(f"  true depth {result['true_depth_cm']:.2f} cm, displayed {result['displayed_depth_cm']:.2f} cm "
+          f"(error {result['depth_error_mm']:+.1f} mm at 1540 m/s)")
+    return 0
+
+
+def doppler_result(depth_cm: float, frequency_mhz: float, angle_deg: float,
+                   velocity_cm_s: float | None) -> dict:
+    """The quick Doppler calculation as a JSON-ready dict."""
+    if depth_cm <= 0:
+        raise InputError(f"--depth-cm must be > 0, got {depth_cm:g}")
+    if frequency_mhz <= 0:
+        raise InputError(f"--frequency-mhz must be > 0, got {frequency_mhz:g}")
+    if not 0 <= angle_deg < 90:
+        raise InputError(f"--angle-deg must be from 0 to below 90 degrees for Doppler, got {angle_deg:g}")
+    prf = float(doppler.prf_max_hz(depth_cm))
+    plus, minus = (float(v) for v in doppler.velocity_error_fraction(angle_deg, [ANGLE_ERROR_DEG,
+                                                                                 -ANGLE_ERROR_DEG]))
+    out = {"depth_cm": depth_cm, "frequency_mhz": frequency_mhz, "angle_deg": angle_deg,
+           "prf_max_hz": prf,
+           "v_max_cm_s": float(doppler.nyquist_velocity_cm_s(prf, frequency_mhz, angle_deg)),
+           "angle_error_deg": ANGLE_ERROR_DEG,
+           "velocity_error_percent": {"plus_5_deg": None if math.isnan(plus) else 100 * plus,
+                                      "minus_5_deg": None if math.isnan(minus) else 100 * minus}}
+    if velocity_cm_s is not None:
+        out["velocity_cm_s"] = velocity_cm_s
+        out["doppler_shift_hz"] = float(doppler.doppler_shift_hz(frequency_mhz, velocity_cm_s, angle_deg))
+        out["aliasing_expected"] = abs(velocity_cm_s) > out["v_max_cm_s"]
+    return out
+
+
+def run_doppler(args) -> int:
+    result = doppler_result(args.depth_cm, args.frequency_mhz, args.angle_deg, args.velocity_cm_s)
+    if args.json:
+        emit_json(result)
+        return 0
+    err = result["velocity_error_percent"]
+    print(f"Doppler at {args.depth_cm:g} cm, {args.frequency_mhz:g} MHz, {args.angle_deg:g} deg")
+    print(f"  range-limited PRF  {result['prf_max_hz']:.0f} Hz")
+    print(f"  Nyquist velocity   {result['v_max_cm_s']:.1f} cm/s")
+    if "doppler_shift_hz" in result:
+        print(f"  Doppler shift      {result['doppler_shift_hz']:.0f} Hz for {args.velocity_cm_s:g} cm/s"
+              + ("  -> ALIASING expected" if result["aliasing_expected"] else ""))
+    fmt = lambda v: "n/a" if v is None else f"{v:+.1f} %"
+    print(f"  angle error +/-5 deg -> velocity {fmt(err['plus_5_deg'])} / {fmt(err['minus_5_deg'])}")
+    if args.angle_deg > 60:
+        print("  note: above 60 deg the velocity error grows fast; keep <= 60 deg for velocities")
+    return 0

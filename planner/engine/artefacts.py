@@ -1,0 +1,145 @@
+"""Artefact rules: refraction, edge shadows, sound-speed error, shadowing, fluid windows."""
+
+from __future__ import annotations
+
+from planner.engine.context import RuleContext
+from planner.findings import Finding
+from planner.physics import beam, refraction
+from planner.physics.tissues import get_tissue
+from planner.provenance import Sourced
+
+PRISM_FACE_ANGLE = Sourced(
+    46.0, "DoubleAortaPhantom2009", "derived",
+    "face angle at which the entry-face Snell model (fat 1450 to muscle 1562 m/s) reproduces the "
+    "published 5.1 mm separation of a structure 3 cm beyond the rectus muscles")
+"""Effective tilt of the rectus-muscle faces for the duplication estimate. [deg]"""
+
+DEPTH_ERROR_CAUTION_MM: float = 5.0
+"""Depth error above which axial measurements deserve a caution (common practice). [mm]"""
+
+GAS_LEVEL = {"none": 0, "low": 1, "moderate": 2, "high": 3}
+
+
+def _r(x, nd=1):
+    return round(float(x), nd)
+
+
+def prism_findings(ctx: RuleContext) -> list[Finding]:
+    """Midline duplication when the paired rectus muscles act as a prism."""
+    if not getattr(ctx.window, "midline_rectus", False) or ctx.option is None:
+        return []
+    wall_cm = ctx.stack.wall_cm
+    beyond = max(ctx.stack.depth_cm - wall_cm, 0.1)
+    fat, muscle = get_tissue("fat"), get_tissue("muscle_across")
+    sep = float(refraction.prism_duplication_separation_mm(
+        PRISM_FACE_ANGLE.value, fat.speed_m_per_s, muscle.speed_m_per_s, beyond))
+    lateral = float(beam.lateral_resolution_mm(ctx.option.high_mhz, ctx.option.f_number))
+    values = {"separation_mm": _r(sep), "lateral_resolution_mm": _r(lateral, 2),
+              "depth_beyond_wall_cm": _r(beyond), "prism_face_deg": PRISM_FACE_ANGLE.value}
+    severity = "caution" if sep > lateral else "info"
+    return [Finding(
+        "refraction.midline_prism", severity, "Midline duplication possible",
+        f"Through the midline the rectus muscles can bend the beam into two paths: a structure "
+        f"{beyond:.1f} cm deep may appear twice, about {sep:.1f} mm apart (lateral resolution "
+        f"{lateral:.1f} mm). Confirm from a paramedian or oblique approach or in the sagittal plane.",
+        values, ("DoubleAortaPhantom2009", "RCEMRefraction", "KinslerFrey2000"),
+        "Snell's law at each tilted muscle face (fat 1450 m/s into muscle 1562 m/s) deviates the beam by "
+        "delta; beams through the left and right muscle converge on one deep point, which the scanner "
+        "draws twice, 2 x depth x tan(delta) apart.")]
+
+
+def edge_shadow_findings(ctx: RuleContext) -> list[Finding]:
+    """Edge shadows at the rims of curved fluid-filled targets."""
+    target = ctx.target
+    radii = [s.radius_mm for s in target.surfaces if getattr(s, "radius_mm", None)]
+    if not target.fluid_filled or not radii or not target.lumen_tissue:
+        return []
+    lumen = get_tissue(target.lumen_tissue)
+    around = next((lay.tissue for lay in reversed(ctx.stack.layers)
+                   if lay.tissue.id not in (target.lumen_tissue, target.wall_tissue)), None)
+    if around is None:
+        return []
+    radius = max(radii)
+    width = float(refraction.edge_shadow_width_mm(radius, around.speed_m_per_s, lumen.speed_m_per_s))
+    return [Finding(
+        "artefact.edge_shadow", "info", "Edge shadows at the rims",
+        f"Rays grazing the curved wall of the {target.name.lower()} (radius about {radius:.0f} mm) refract "
+        f"or reflect totally; a band about {width:.1f} mm wide at each rim may cast a thin shadow. Do not "
+        "take it for a stone shadow: a true shadow starts at an echogenic focus. Change the angle to move it.",
+        {"radius_mm": radius, "rim_band_mm": _r(width, 2), "speed_inside_m_per_s": lumen.speed_m_per_s,
+         "speed_outside_m_per_s": around.speed_m_per_s},
+        ("EdgeShadowTeaching", "KinslerFrey2000"),
+        "A straight ray at offset x from the centre of a round structure of radius a meets its wall at "
+        "incidence arcsin(x/a); beyond the critical angle arcsin(c_slow/c_fast) it is totally reflected, "
+        "so the rim band is a (1 - c_slow/c_fast) wide.")]
+
+
+def sound_speed_findings(ctx: RuleContext) -> list[Finding]:
+    """Depth error at the target and the stretch of the fat layer (scanner assumes 1540 m/s)."""
+    a = ctx.chosen
+    severity = "caution" if abs(a.depth_error_mm) > DEPTH_ERROR_CAUTION_MM else "info"
+    direction = "deeper" if a.depth_error_mm > 0 else "shallower"
+    return [Finding(
+        "artefact.sound_speed", severity, "Sound-speed depth error",
+        f"The target at {a.stack.depth_cm:.1f} cm is drawn {abs(a.depth_error_mm):.1f} mm {direction} "
+        f"than it is; the fat alone is stretched by {a.fat_error_mm:.1f} mm, so axial measurements "
+        "through or of fat read long. Where the scanner offers a lower sound-speed setting for fatty "
+        "tissue, it can sharpen the image.",
+        {"true_depth_cm": _r(a.stack.depth_cm, 2), "displayed_depth_cm": _r(a.displayed_depth_cm, 2),
+         "depth_error_mm": _r(a.depth_error_mm, 2), "fat_error_mm": _r(a.fat_error_mm, 2)},
+        ("SonographySpeedTutorial",),
+        "The scanner converts echo time to depth at 1540 m/s; each layer is drawn d x 1540 / c thick, "
+        "so slow fat (1450 m/s) is drawn about 6 % thicker.")]
+
+
+def shadowing_findings(ctx: RuleContext) -> list[Finding]:
+    """Ribs, bowel gas, calcification and bone on the path."""
+    window, target, patient, out = ctx.window, ctx.target, ctx.patient, []
+    opt = ctx.option
+    if window.rib_gap_mm is not None and opt is not None:
+        gap = window.rib_gap_mm
+        fit = {"fits": "fits across the rib space",
+               "aligned": "fits only when aligned along the rib space",
+               "blocked": "is wider than the rib space: expect rib shadows"}[opt.fit]
+        out.append(Finding(
+            "shadow.ribs", "advice" if opt.fit != "blocked" else "caution", "Rib gap",
+            f"The rib space is about {gap:.0f} mm; the {opt.probe.label} footprint "
+            f"({opt.probe.footprint_length_mm:.0f} x {opt.probe.footprint_width_mm:.0f} mm) {fit}. Raise the "
+            "arm above the head and time the breath to open the space.",
+            {"rib_gap_mm": gap, "footprint_length_mm": opt.probe.footprint_length_mm,
+             "footprint_width_mm": opt.probe.footprint_width_mm, "fit": opt.fit},
+            ("PositioningTeaching", "CommonPractice")))
+    gas = GAS_LEVEL.get(window.gas_risk, 0) + patient.conditions.get("bowel_gas", 0)
+    if gas >= 2:
+        out.append(Finding(
+            "shadow.gas", "caution" if gas >= 3 else "advice", "Bowel gas on the path",
+            "Gas reflects almost all the sound (soft tissue to air R > 0.99). Use graded compression, "
+            "change position (decubitus, upright), fast the patient, or fill the stomach with water.",
+            {"gas_level": gas}, ("GasShadowTeaching", "ALevelPhysics")))
+    if target.calcification_risk in ("moderate", "high"):
+        out.append(Finding(
+            "shadow.calcification", "info", "Calcification shadows",
+            "Calcified foci (stones, plaque, ossification) shadow only when they fill the beam width: put "
+            "the focal zone at them and use the highest frequency that reaches.",
+            {"risk": target.calcification_risk}, ("StoneShadowTeaching",)))
+    if getattr(window, "bone_in_path", False):
+        out.append(Finding(
+            "shadow.bone", "caution", "Bone on the path",
+            "The beam crosses bone: most energy is reflected or absorbed (soft tissue to bone R about 0.4). "
+            "Use the thinnest part of the bone and the lowest frequency.",
+            {}, ("Diagnostics2023", "ALevelPhysics")))
+    return out
+
+
+def fluid_findings(ctx: RuleContext) -> list[Finding]:
+    """Fluid on the path: a window that attenuates little, and posterior enhancement."""
+    fluid = [lay for lay in ctx.stack.layers if lay.tissue.kind == "fluid"]
+    if not fluid:
+        return []
+    total = sum(lay.thickness_cm for lay in fluid)
+    names = ", ".join(sorted({lay.label.lower() for lay in fluid}))
+    return [Finding(
+        "window.fluid", "info", "Fluid on the path",
+        f"{total:.1f} cm of fluid ({names}) attenuates almost nothing: it helps penetration, and tissue "
+        "behind it looks brighter (posterior enhancement); lower the far-field TGC.",
+        {"fluid_cm": _r(total)}, ("EnhancementTeaching", "Duck1990"))]

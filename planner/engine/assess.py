@@ -1,0 +1,139 @@
+"""Assess one window: reach, detail, probe, band, harmonic reach, tilt, depth error.
+
+Every number comes from :mod:`planner.physics`; this module only arranges the inputs.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+
+from planner.body.stack import LayerStack
+from planner.library.probes import Probe, ProbeInventory
+from planner.physics import attenuation, beam, sound_speed
+from planner.physics.constants import (HARMONIC_CONVERSION_LOSS_DB, SIGNAL_BUDGET_DIFFUSE_DB,
+                                       SPECULAR_ALLOWANCE_DB)
+
+STRONG_REFLECTORS = frozenset({"specular", "fluid"})
+"""Reflector types whose decisive echoes are strong interfaces (walls, bone, calculi)."""
+
+
+@dataclass(frozen=True)
+class ProbeOption:
+    """How one probe performs through one window."""
+
+    probe: Probe
+    fit: str                 # "fits", "aligned" (along the rib space), "blocked", "n/a"
+    floor_mhz: float         # detail floor with this probe's aperture
+    low_mhz: float
+    high_mhz: float
+    f_number: float
+    feasible: bool
+
+
+@dataclass(frozen=True)
+class WindowAssessment:
+    """Everything the rules need about one window."""
+
+    window: object
+    stack: LayerStack
+    budget_db: float
+    interface_loss_db: float
+    ceiling_mhz: float
+    harmonic_ceiling_mhz: float
+    displayed_depth_cm: float
+    depth_error_mm: float
+    fat_error_mm: float
+    options: tuple[ProbeOption, ...]
+    best: ProbeOption | None
+
+    @property
+    def feasible(self) -> bool:
+        return self.best is not None and self.best.feasible
+
+    def loss_db(self, frequency_mhz: float) -> float:
+        """Round-trip loss to the target at a frequency, interfaces included. [dB]"""
+        arr = self.stack.arrays()
+        return float(attenuation.stack_round_trip_loss_db(
+            arr["thickness_cm"], frequency_mhz, arr["attenuation_db_per_cm_mhz"],
+            arr["attenuation_exponent"], arr["impedance_mrayl"]))
+
+
+def signal_budget_db(reflector: str) -> float:
+    """Usable round-trip budget: diffuse default plus the specular allowance. [dB]"""
+    extra = SPECULAR_ALLOWANCE_DB.value if reflector in STRONG_REFLECTORS else 0.0
+    return SIGNAL_BUDGET_DIFFUSE_DB.value + extra
+
+
+def probe_fit(probe: Probe, window) -> str:
+    """Whether a probe's footprint suits the window (rib gap, endocavitary route)."""
+    endo_window = window.wall == "endocavitary"
+    if (probe.type == "endocavitary") != endo_window:
+        return "n/a"
+    gap = window.rib_gap_mm
+    if gap is None:
+        return "fits"
+    if probe.footprint_length_mm <= gap:
+        return "fits"
+    if probe.footprint_width_mm <= gap:
+        return "aligned"
+    return "blocked"
+
+
+def _option(probe: Probe, window, depth_cm: float, detail_mm: float, ceiling_mhz: float) -> ProbeOption:
+    fit = probe_fit(probe, window)
+    f_num = max(probe.receive_f_number, depth_cm * 10.0 / probe.aperture_mm)
+    floor = float(max(beam.min_frequency_axial_mhz(detail_mm, probe.pulse_cycles),
+                      beam.min_frequency_lateral_mhz(detail_mm, f_num)))
+    high = min(probe.high_mhz, ceiling_mhz)
+    low = max(probe.low_mhz, floor)
+    feasible = fit in ("fits", "aligned") and high >= probe.low_mhz and low <= high
+    return ProbeOption(probe, fit, floor, low, high, f_num, feasible)
+
+
+def _rank_key(option: ProbeOption, preferred: list[str]):
+    pref = preferred.index(option.probe.type) if option.probe.type in preferred else len(preferred)
+    usable = option.fit in ("fits", "aligned")
+    reaches = option.high_mhz >= option.probe.low_mhz
+    return (not option.feasible, not usable, not reaches, pref, option.fit != "fits",
+            -option.high_mhz)
+
+
+def assess_window(stack: LayerStack, window, target, inventory: ProbeInventory) -> WindowAssessment:
+    """Compute reach, detail floor, probe options and depth errors for one window."""
+    arr = stack.arrays()
+    budget = signal_budget_db(target.reflector)
+    iface = float(attenuation.interface_round_trip_loss_db(arr["impedance_mrayl"]))
+    ceil_f, ceil_h = _ceilings(arr, budget, iface)
+    depth = stack.depth_cm
+    shown = float(sound_speed.displayed_depth_cm(arr["thickness_cm"], arr["speed_m_per_s"]))
+    fat = [(lay.thickness_cm, lay.tissue.speed_m_per_s) for lay in stack.layers
+           if lay.tissue.id == "fat"]
+    fat_err = float(sound_speed.depth_error_mm([t for t, _ in fat], [c for _, c in fat])) if fat else 0.0
+    options = tuple(_option(p, window, depth, target.detail_mm, ceil_f) for p in inventory.probes)
+    preferred = list(target.probe_types)
+    ranked = sorted((o for o in options if o.fit != "n/a"), key=lambda o: _rank_key(o, preferred))
+    return WindowAssessment(window, stack, budget, iface, ceil_f, ceil_h, shown,
+                            10.0 * (shown - depth), fat_err, options, ranked[0] if ranked else None)
+
+
+def _ceilings(arr: dict, budget: float, iface: float) -> tuple[float, float]:
+    """Fundamental and harmonic (transmit) reach ceilings in one vectorised call. [MHz]"""
+    fundamental = attenuation.max_frequency_for_budget_mhz(
+        budget, arr["thickness_cm"], arr["attenuation_db_per_cm_mhz"],
+        arr["attenuation_exponent"], fixed_loss_db=iface)
+    harmonic = attenuation.max_frequency_for_budget_mhz(
+        budget, arr["thickness_cm"], arr["attenuation_db_per_cm_mhz"],
+        arr["attenuation_exponent"], fixed_loss_db=iface + HARMONIC_CONVERSION_LOSS_DB.value,
+        harmonic=True)
+    return float(fundamental), float(harmonic)
+
+
+def finest_detail_mm(option: ProbeOption, frequency_mhz: float) -> float:
+    """Finest detail resolvable at a frequency with a probe option: max(axial, lateral). [mm]"""
+    if frequency_mhz <= 0 or not math.isfinite(frequency_mhz):
+        return math.inf
+    return float(max(beam.axial_resolution_mm(frequency_mhz, option.probe.pulse_cycles),
+                     beam.lateral_resolution_mm(frequency_mhz, option.f_number)))

@@ -1,0 +1,169 @@
+"""The plan's main decisions: band, harmonic imaging, tilt, depth and focus.
+
+Each function returns a JSON-ready summary and the findings that explain it.
+"""
+
+from __future__ import annotations
+
+import math
+
+from planner.engine.assess import finest_detail_mm
+from planner.engine.context import RuleContext
+from planner.findings import Finding
+from planner.physics import beam
+from planner.physics.constants import HARMONIC_CONVERSION_LOSS_DB, SIGNAL_BUDGET_DIFFUSE_DB, \
+    SPECULAR_ALLOWANCE_DB
+
+CLUTTER_FAT_MM: float = 18.65
+"""Subcutaneous fat above which near-field clutter is expected: the verified abdominal fat
+cut-off that marks BMI >= 30 (Chandak2018), where harmonic imaging is clearly better
+(THIRadioGraphics). [mm]"""
+
+CLUTTER_BMI: float = 30.0
+"""BMI from which harmonic imaging is clearly better in abdominal imaging (THIRadioGraphics). [kg/m^2]"""
+
+
+def _r(x: float, nd: int = 1) -> float:
+    return round(float(x), nd)
+
+
+def band_decision(ctx: RuleContext) -> tuple[dict, list[Finding]]:
+    """Recommended band [detail floor, reach ceiling] within the chosen probe's band."""
+    a, opt, target = ctx.chosen, ctx.option, ctx.target
+    if opt is None:
+        return {"low": None, "high": None, "feasible": False}, [Finding(
+            "band.no_probe", "warning", "No probe fits this window",
+            f"No probe of the inventory ({ctx.inventory.origin}) can be used through "
+            f"{ctx.window.name}.", {}, ("CommonPractice",))]
+    reach_high = min(opt.probe.high_mhz, a.ceiling_mhz)
+    values = {"detail_mm": target.detail_mm, "detail_floor_mhz": _r(opt.floor_mhz, 2),
+              "reach_ceiling_mhz": _r(a.ceiling_mhz, 2), "budget_db": a.budget_db,
+              "depth_cm": _r(a.stack.depth_cm), "probe_low_mhz": opt.probe.low_mhz,
+              "probe_high_mhz": opt.probe.high_mhz, "f_number": _r(opt.f_number, 2)}
+    sources = ("Kremkau2015", "RadiologyPhysicsSummary", SIGNAL_BUDGET_DIFFUSE_DB.source)
+    explanation = (
+        "Reach: the highest frequency whose round-trip loss 2 x sum(alpha0_i f^y_i d_i) plus the "
+        f"interface losses stays within the {a.budget_db:g} dB signal budget"
+        + (f" (diffuse {SIGNAL_BUDGET_DIFFUSE_DB.value:g} dB + {SPECULAR_ALLOWANCE_DB.value:g} dB "
+           "for strong specular echoes)" if a.budget_db > SIGNAL_BUDGET_DIFFUSE_DB.value else "")
+        + ". Detail: the lowest frequency at which both the axial resolution (pulse cycles x "
+        "wavelength / 2) and the lateral resolution at focus (wavelength x F-number) are as fine "
+        "as the detail the exam must resolve.")
+    if opt.feasible:
+        summary = {"low": _r(opt.low_mhz), "high": _r(opt.high_mhz), "feasible": True}
+        return summary, [Finding(
+            "band.recommended", "info", "Frequency band",
+            f"Use {opt.low_mhz:.1f}-{opt.high_mhz:.1f} MHz on the {opt.probe.label}: "
+            f"{target.detail_mm:g} mm detail needs at least {opt.floor_mhz:.1f} MHz at F/{opt.f_number:.1f}; "
+            f"the echo from {a.stack.depth_cm:.1f} cm stays within the {a.budget_db:g} dB budget "
+            f"up to {a.ceiling_mhz:.1f} MHz.", values, sources, explanation)]
+    best_detail = finest_detail_mm(opt, reach_high)
+    values["finest_detail_mm"] = _r(best_detail, 2) if math.isfinite(best_detail) else None
+    low = opt.probe.low_mhz
+    high = max(low, reach_high)
+    summary = {"low": _r(low), "high": _r(high), "feasible": False}
+    if reach_high < opt.probe.low_mhz:
+        msg = (f"Even {opt.probe.low_mhz:g} MHz loses more than the {a.budget_db:g} dB budget over "
+               f"{a.stack.depth_cm:.1f} cm (reach ceiling {a.ceiling_mhz:.1f} MHz): expect a weak, noisy "
+               "far field at the target.")
+    else:
+        msg = (f"{target.detail_mm:g} mm detail needs {opt.floor_mhz:.1f} MHz, but the echo from "
+               f"{a.stack.depth_cm:.1f} cm only reaches up to {reach_high:.1f} MHz; at that frequency the "
+               f"finest detail is about {best_detail:.1f} mm.")
+    return summary, [Finding("band.detail_unreachable", "warning",
+                             "Needed detail not reachable from this window", msg, values, sources,
+                             explanation)]
+
+
+def harmonic_decision(ctx: RuleContext) -> tuple[dict, list[Finding]]:
+    """Advise harmonic imaging when clutter is likely and the harmonic echo still reaches."""
+    a, opt, target, patient = ctx.chosen, ctx.option, ctx.target, ctx.patient
+    fat_mm = a.stack.subcutaneous_fat_cm * 10.0
+    values = {"subcutaneous_fat_mm": _r(fat_mm), "harmonic_ceiling_mhz": _r(a.harmonic_ceiling_mhz, 2),
+              "conversion_loss_db": HARMONIC_CONVERSION_LOSS_DB.value, "budget_db": a.budget_db}
+    sources = ("HarmonicGlossary", "Ralls2000THI", "THIRadioGraphics", "Chandak2018",
+               HARMONIC_CONVERSION_LOSS_DB.source)
+    explanation = ("Harmonic imaging transmits f0 and receives 2 f0; the loss per cm is "
+                   "alpha(f0) + alpha(2 f0), plus the conversion loss of the harmonic "
+                   f"({HARMONIC_CONVERSION_LOSS_DB.value:g} dB). It suppresses near-field clutter "
+                   "and reverberation from a thick wall but penetrates less.")
+    if target.harmonic_contraindicated:
+        return {"advised": False, "reason": "Not for this exam: its diagnostic signs are artefacts that "
+                "harmonic imaging suppresses."}, [Finding(
+                    "harmonic.contraindicated", "advice", "Keep harmonic imaging off",
+                    "Harmonic imaging (and compounding) suppress the reverberation artefacts this exam "
+                    "reads, such as B-lines; use the fundamental.", values, sources, explanation)]
+    if opt is None or not opt.probe.harmonic:
+        return {"advised": False, "reason": "The chosen probe has no harmonic receive mode."}, []
+    top_f0 = min(a.harmonic_ceiling_mhz, opt.probe.high_mhz / 2.0)
+    reaches = top_f0 >= opt.probe.low_mhz
+    clutter = fat_mm >= CLUTTER_FAT_MM or patient.bmi >= CLUTTER_BMI
+    values.update(transmit_low_mhz=opt.probe.low_mhz, transmit_high_mhz=_r(top_f0, 2))
+    if clutter and reaches:
+        reason = (f"Subcutaneous fat {fat_mm:.0f} mm (BMI {patient.bmi:.0f}) makes near-field clutter likely; "
+                  f"the harmonic echo still reaches {a.stack.depth_cm:.1f} cm with transmit "
+                  f"{opt.probe.low_mhz:g}-{top_f0:.1f} MHz.")
+        return {"advised": True, "reason": reason, "transmit_mhz": {"low": opt.probe.low_mhz,
+                                                                    "high": _r(top_f0)}}, [Finding(
+            "harmonic.advised", "advice", "Harmonic imaging advised", reason, values, sources, explanation)]
+    if clutter:
+        reason = (f"Clutter is likely (fat {fat_mm:.0f} mm), but the harmonic echo would need transmit "
+                  f"{top_f0:.1f} MHz or less, below the probe's {opt.probe.low_mhz:g} MHz: use the "
+                  "fundamental, and try harmonic imaging only for the near field.")
+        return {"advised": False, "reason": reason}, [Finding(
+            "harmonic.out_of_reach", "caution", "Harmonic echo will not reach the target", reason,
+            values, sources, explanation)]
+    reason = (f"Thin wall (fat {fat_mm:.0f} mm): clutter is unlikely, so harmonic imaging is optional"
+              + (f"; it reaches with transmit up to {top_f0:.1f} MHz." if reaches else
+                 "; it would not reach this depth."))
+    return {"advised": False, "reason": reason}, []
+
+
+def tilt_decision(ctx: RuleContext) -> tuple[dict, list[Finding]]:
+    """Specular tilt tolerance in the scan and elevation planes, turned into handling advice."""
+    target, opt, depth = ctx.target, ctx.option, ctx.chosen.stack.depth_cm
+    surfaces = [s for s in target.surfaces if s.reflector == "specular"]
+    if target.reflector == "diffuse" or not surfaces or opt is None:
+        return {"max_deviation_deg": None, "scan_plane_deg": None, "elevation_plane_deg": None,
+                "advice": "Diffuse echoes do not depend on the beam angle: choose the tilt for the "
+                          "window (shortest path, fewest shadows), not for the target."}, []
+    probe = opt.probe
+    half_scan = min(probe.aperture_mm / 2.0, depth * 10.0 / (2.0 * probe.receive_f_number))
+    scan = float(beam.specular_tolerance_deg(half_scan, depth))
+    elev = float(beam.specular_tolerance_deg(probe.elevation_aperture_mm / 2.0, depth))
+    tol = min(scan, elev)
+    names = ", ".join(s.name for s in surfaces)
+    angled = [s for s in surfaces if s.tilt_from_skin_deg > tol]
+    advice = (f"Keep the beam within {tol:.1f} deg of perpendicular to the {names}: rock the probe in "
+              f"the scan plane (tolerance {scan:.1f} deg) and heel-toe it in the elevation plane "
+              f"({elev:.1f} deg) until the surface is brightest.")
+    if angled:
+        s = max(angled, key=lambda s: s.tilt_from_skin_deg)
+        advice += (f" The {s.name} lies about {s.tilt_from_skin_deg:.0f} deg to the skin: angle the probe by "
+                   "that much to meet it square on.")
+    values = {"scan_plane_deg": _r(scan), "elevation_plane_deg": _r(elev), "depth_cm": _r(depth),
+              "half_aperture_scan_mm": _r(half_scan), "half_aperture_elevation_mm":
+              _r(probe.elevation_aperture_mm / 2.0)}
+    findings = [Finding("tilt.specular", "advice", "Tilt tolerance for mirror-like surfaces", advice,
+                        values, ("Crass1988", "RCEMSpecular"),
+                        "A flat mirror-like surface tilted by theta returns its echo at 2 theta; the echo "
+                        "still meets the receive aperture of half-width a at depth z while "
+                        "tan(2 theta) <= a/z, so the tolerance is 0.5 atan(a/z) in each plane.")]
+    if target.target_tissue == "tendon":
+        findings.append(Finding(
+            "tilt.anisotropy", "caution", "Anisotropy can mimic a tear",
+            f"A tilt of 2-7 deg makes tendon as dark as muscle and more makes it hypoechoic (Crass 1988); "
+            f"here the echo halves beyond {tol:.1f} deg. Confirm any dark area square on before calling it "
+            "a tear.", {"tolerance_deg": _r(tol), "published_range_deg": [2, 7]},
+            ("Crass1988", "AnisotropyTeaching")))
+    return {"max_deviation_deg": _r(tol), "scan_plane_deg": _r(scan), "elevation_plane_deg": _r(elev),
+            "advice": advice}, findings
+
+
+def display_decision(ctx: RuleContext) -> dict:
+    """Suggested display depth and focal depth (on the scanner's 1540 m/s scale). [cm]"""
+    shown = ctx.chosen.displayed_depth_cm
+    display = math.ceil(shown + max(1.0, 0.1 * shown))
+    return {"display_depth_cm": float(display), "focus_cm": _r(shown),
+            "note": "Depth so the target fills most of the image; focal zone at or just below the "
+                    "target (common practice)."}

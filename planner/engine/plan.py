@@ -1,0 +1,217 @@
+"""make_plan: turn a PlanRequest into a Plan (a plain, JSON-serialisable record)."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Any
+
+from planner.body.patient import Patient
+from planner.body.stack import build_stack, measured_wall_ratio
+from planner.body.walls import load_wall_models
+from planner.engine import artefacts, decisions, habitus_rules
+from planner.engine.assess import WindowAssessment, assess_window
+from planner.engine.context import RuleContext
+from planner.engine.request import PlanRequest
+from planner.errors import InputError
+from planner.findings import Finding, severity_rank
+from planner.library.probes import ProbeInventory, load_inventory
+from planner.library.targets import load_library
+from planner.safety import DISCLAIMER, ExamContext, load_local_policy, monitored_index, \
+    safety_findings, validity_flags
+
+SCHEMA_VERSION = 1
+BONE_TARGET_TISSUES = frozenset({"cortical_bone", "cartilage"})
+
+
+@dataclass(frozen=True)
+class Plan:
+    """A complete plan: every field is JSON-ready (see :meth:`to_dict`)."""
+
+    target: dict
+    patient: dict
+    depth_cm: float
+    displayed_depth_cm: float
+    frequency_mhz: dict
+    harmonic: dict
+    probe: dict | None
+    window: dict
+    windows: list[dict]
+    tilt: dict
+    display: dict
+    depth_error_mm: float
+    findings: list[dict]
+    safety: list[dict]
+    monitored_index: str
+    pitfalls: list[str]
+    assumptions: list[str]
+    validity: list[dict]
+    disclaimer: str
+    layers: list[dict]
+    doppler: dict | None = None
+    draft: bool = False
+    inputs: dict = field(default_factory=dict)
+
+    def to_dict(self) -> dict[str, Any]:
+        out = {name: getattr(self, name) for name in self.__dataclass_fields__}
+        out["schema_version"] = SCHEMA_VERSION
+        return out
+
+
+def _window_by_id(target, window_id: str):
+    for window in target.windows:
+        if window.id == window_id:
+            return window
+    raise InputError(f"unknown window {window_id!r} for target {target.id}; valid windows: "
+                     f"{', '.join(w.id for w in target.windows)}")
+
+
+def _path_scale(patient: Patient, window, wall_ratio: float) -> float:
+    """Scale of the organ path that makes the stack as deep as a measured depth."""
+    if patient.depth_cm is None:
+        return 1.0
+    stack = build_stack(patient, window, wall_ratio=wall_ratio)
+    path = sum(step.thickness_cm for step in window.path)
+    above = stack.depth_cm - path
+    if patient.depth_cm <= above + 0.05 or path <= 0:
+        raise InputError(f"measured depth {patient.depth_cm:g} cm is not deeper than the body wall "
+                         f"at {window.name} ({above:.1f} cm)")
+    return (patient.depth_cm - above) / path
+
+
+def assess_windows(patient: Patient, target, windows, inventory: ProbeInventory,
+                   reference) -> list[WindowAssessment]:
+    """Build and assess the stack of every window, measured values applied."""
+    model = load_wall_models()[reference.wall]
+    ratio = measured_wall_ratio(model, patient, reference.wall_factor)
+    scale = _path_scale(patient, reference, ratio)
+    measured = patient.wall_mm is not None
+    return [assess_window(build_stack(patient, w, wall_ratio=ratio, path_scale=scale,
+                                      measured=measured), w, target, inventory) for w in windows]
+
+
+def rank_assessments(assessments: list[WindowAssessment]) -> tuple[list[WindowAssessment], float]:
+    """Feasible windows first, then by round-trip loss at a common reference frequency."""
+    feasible_highs = [a.best.high_mhz for a in assessments if a.feasible]
+    reference = max(feasible_highs) if feasible_highs else 3.5
+    ranked = sorted(assessments, key=lambda a: (not a.feasible, a.loss_db(reference)))
+    return ranked, reference
+
+
+def _exam_context(request: PlanRequest, target, chosen: WindowAssessment) -> ExamContext:
+    if request.context is not None:
+        return request.context
+    weeks = request.patient.gestation_weeks
+    bone = target.target_tissue in BONE_TARGET_TISSUES or getattr(chosen.window, "bone_in_path", False) \
+        or target.id in ("fetal-head", "fetal-spine", "infant-hip")
+    if target.exam_type in ("obstetric", "gynaecological"):
+        return ExamContext(exam_type=target.exam_type, gestation_weeks=weeks,
+                           pregnancy_possible=weeks is not None and target.exam_type == "gynaecological",
+                           bone_near_focus=bone)
+    return ExamContext(exam_type=target.exam_type, pregnancy_possible=weeks is not None,
+                       bone_near_focus=bone, lung_in_beam=target.region == "thorax")
+
+
+def _window_summary(a: WindowAssessment, reference_mhz: float) -> dict:
+    opt = a.best
+    return {"id": a.window.id, "name": a.window.name, "feasible": a.feasible,
+            "round_trip_loss_db": round(a.loss_db(reference_mhz), 1),
+            "reference_frequency_mhz": round(reference_mhz, 2),
+            "depth_cm": round(a.stack.depth_cm, 2), "wall_mm": round(a.stack.wall_cm * 10, 1),
+            "reach_ceiling_mhz": round(a.ceiling_mhz, 2),
+            "band_mhz": None if opt is None else {"low": round(opt.low_mhz, 1), "high": round(opt.high_mhz, 1)},
+            "probe": None if opt is None else opt.probe.id,
+            "position": a.window.position, "breathing": a.window.breathing}
+
+
+def _no_window_findings(target, ranked: list[WindowAssessment]) -> list[Finding]:
+    """When no window gives the needed detail: say so and what could change."""
+    if any(a.feasible for a in ranked):
+        return []
+    ideas = ["accept less detail (see the band finding)", "firm graded compression to thin the wall",
+             "harmonic imaging for the near field"]
+    if any(w.wall == "endocavitary" for w in target.windows):
+        ideas.insert(0, "the endocavitary route")
+    ideas.append("another imaging method if the question needs finer detail")
+    return [Finding("plan.no_window", "warning", "No window gives the needed detail",
+                    f"No candidate window of the {target.name.lower()} shows {target.detail_mm:g} mm detail "
+                    f"for this patient. Options: {'; '.join(ideas)}.",
+                    {"windows_tried": [a.window.id for a in ranked]}, ("CommonPractice", "NHSGGC468"))]
+
+
+def make_plan(request: PlanRequest) -> Plan:
+    """Compute the plan for one patient and target (see DESIGN.md section 3)."""
+    target = load_library().get(request.target_id)
+    windows = [_window_by_id(target, request.window_id)] if request.window_id else list(target.windows)
+    inventory = load_inventory(request.probes_path)
+    patient = request.patient
+    assessed = assess_windows(patient, target, windows, inventory, windows[0])
+    ranked, reference = rank_assessments(assessed)
+    chosen = ranked[0]
+    ctx = RuleContext(patient, target, tuple(ranked), chosen, inventory)
+    band, band_findings = decisions.band_decision(ctx)
+    harmonic, harmonic_findings = decisions.harmonic_decision(ctx)
+    tilt, tilt_findings = decisions.tilt_decision(ctx)
+    findings = (habitus_rules.habitus_findings(ctx) + band_findings + _no_window_findings(target, ranked)
+                + harmonic_findings + tilt_findings + artefacts.prism_findings(ctx)
+                + artefacts.edge_shadow_findings(ctx) + artefacts.sound_speed_findings(ctx)
+                + artefacts.shadowing_findings(ctx) + artefacts.fluid_findings(ctx)
+                + habitus_rules.condition_findings(ctx))
+    findings.sort(key=lambda f: -severity_rank(f.severity))
+    exam = _exam_context(request, target, chosen)
+    policy = load_local_policy(request.local_policy_path) if request.local_policy_path else None
+    safety = safety_findings(exam, policy)
+    opt = chosen.best
+    validity = validity_flags(bmi=patient.bmi if patient.bmi_given else None, wall_mm=patient.wall_mm,
+                              depth_cm=chosen.stack.depth_cm,
+                              frequency_mhz=band["high"] if band["high"] else None,
+                              gestation_weeks=patient.gestation_weeks, expected_ti=exam.expected_ti)
+    return Plan(
+        target={"id": target.id, "name": target.name, "reflector": target.reflector,
+                "region": target.region, "detail_mm": target.detail_mm},
+        patient={"bmi": round(patient.bmi, 1), "bmi_given": patient.bmi_given,
+                 "who_class": patient.habitus[0], "who_class_label": patient.habitus[1],
+                 "sex": patient.sex, "conditions": dict(patient.conditions),
+                 "gestation_weeks": patient.gestation_weeks},
+        depth_cm=round(chosen.stack.depth_cm, 2),
+        displayed_depth_cm=round(chosen.displayed_depth_cm, 2),
+        frequency_mhz=band, harmonic=harmonic,
+        probe=None if opt is None else {"id": opt.probe.id, "label": opt.probe.label,
+                                        "type": opt.probe.type, "fit": opt.fit,
+                                        "band_mhz": [opt.probe.low_mhz, opt.probe.high_mhz]},
+        window=_window_summary(chosen, reference) | {"notes": getattr(chosen.window, "notes", "") or ""},
+        windows=[_window_summary(a, reference) for a in ranked],
+        tilt=tilt, display=decisions.display_decision(ctx),
+        depth_error_mm=round(chosen.depth_error_mm, 2),
+        findings=[f.to_dict() for f in findings],
+        safety=[f.to_dict() for f in safety],
+        monitored_index=monitored_index(exam),
+        pitfalls=list(target.pitfalls),
+        assumptions=_assumptions(patient, chosen, inventory, exam),
+        validity=validity, disclaimer=DISCLAIMER,
+        layers=[{"tissue": lay.tissue.id, "label": lay.label, "role": lay.role,
+                 "thickness_cm": round(lay.thickness_cm, 2)} for lay in chosen.stack.layers],
+        draft=request.draft,
+        inputs={"target": target.id, "window": request.window_id, "exam_type": exam.exam_type,
+                "probes": inventory.origin, "local_policy": request.local_policy_path},
+    )
+
+
+def _assumptions(patient: Patient, chosen: WindowAssessment, inventory: ProbeInventory,
+                 exam: ExamContext) -> list[str]:
+    out = []
+    if not patient.bmi_given:
+        out.append(f"No BMI given: the reference habitus (BMI {patient.bmi:g}) is assumed.")
+    if patient.sex is None:
+        out.append("Sex not given: wall layers use the mean of the female and male values.")
+    if patient.wall_mm is not None:
+        out.append(f"Measured wall {patient.wall_mm:g} mm replaces the BMI estimate (all windows scaled alike).")
+    elif patient.fat_mm is not None:
+        out.append(f"Measured subcutaneous fat {patient.fat_mm:g} mm replaces the BMI estimate.")
+    if patient.depth_cm is not None:
+        out.append(f"Measured target depth {patient.depth_cm:g} cm sets the organ path length.")
+    out.append(f"Probes from the {inventory.origin}.")
+    out.append(f"Signal budget {chosen.budget_db:g} dB round trip; tissue values are population averages "
+               "(speed +/-3 %, attenuation +/-30-50 %).")
+    out.extend(chosen.stack.notes)
+    out.append(f"Exam context: {exam.exam_type.replace('_', ' ')}.")
+    return out

@@ -1,0 +1,39 @@
+"""What the user asks for: one patient, one target, the exam context."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+from planner.body.patient import Patient
+from planner.safety import ExamContext
+
+
+@dataclass(frozen=True)
+class PlanRequest:
+    """All inputs of one plan.
+
+    Attributes
+    ----------
+    target_id : str
+        A target of the library.
+    patient : Patient
+    window_id : str or None
+        Force one window; None ranks every candidate window.
+    context : ExamContext or None
+        Exam context for the safety rules; None uses the target's usual exam type.
+    probes_path, local_policy_path : str or None
+        A department probe inventory and local policy file.
+    doppler : bool
+        Add Doppler planning for vessel targets.
+    draft : bool
+        Mark the plan as a draft for supervised practice.
+    """
+
+    target_id: str
+    patient: Patient = field(default_factory=Patient)
+    window_id: str | None = None
+    context: ExamContext | None = None
+    probes_path: str | None = None
+    local_policy_path: str | None = None
+    doppler: bool = False
+    draft: bool = False
