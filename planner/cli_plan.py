@@ -71,6 +71,9 @@ def request_from_args(args):
         if args.doppler and not any(m.endswith("doppler") for m in modes):
             modes.append("pulsed_doppler")
         pregnant = exam in ("obstetric", "gynaecological")
+        if args.gestation_weeks is not None and exam.startswith("neonatal"):
+            from planner.errors import InputError
+            raise InputError(f"a gestational age does not apply to a {exam.replace('_', ' ')} exam")
         context = ExamContext(
             exam_type=exam, gestation_weeks=args.gestation_weeks if pregnant else None,
             pregnancy_possible=args.pregnancy_possible or (

@@ -107,7 +107,8 @@ def _exam_context(request: PlanRequest, target, chosen: WindowAssessment) -> Exa
         return ExamContext(exam_type=target.exam_type, gestation_weeks=weeks,
                            pregnancy_possible=weeks is not None and target.exam_type == "gynaecological",
                            bone_near_focus=bone)
-    return ExamContext(exam_type=target.exam_type, pregnancy_possible=weeks is not None,
+    pregnant = weeks is not None and not target.exam_type.startswith("neonatal")
+    return ExamContext(exam_type=target.exam_type, pregnancy_possible=pregnant,
                        bone_near_focus=bone, lung_in_beam=target.region == "thorax")
 
 

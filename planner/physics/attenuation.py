@@ -198,8 +198,9 @@ def max_frequency_for_budget_mhz(budget_db, thickness_cm, attenuation_db_per_cm_
         terms = k * np.exp(y * u[..., None])
         g = terms.sum(axis=-1) - budget
         slope = (terms * y).sum(axis=-1)
-        step = np.divide(g, slope, out=np.zeros(shape), where=slope > 0)
-        u = u - np.maximum(step, 0.0)
+        with np.errstate(over="ignore", divide="ignore", invalid="ignore"):
+            step = np.divide(g, slope, out=np.zeros(shape), where=slope > 0)
+        u = np.maximum(u - np.clip(step, 0.0, 50.0), np.log(low_mhz) - 1.0)
     top_fits = (k * high_mhz ** y).sum(axis=-1) <= budget
     low_fits = (k * low_mhz ** y).sum(axis=-1) <= budget
     result = np.where(top_fits, high_mhz, np.exp(np.clip(u, np.log(low_mhz), u_high)))

@@ -1,0 +1,115 @@
+"""All safety findings for an exam context, in a fixed order.
+
+:func:`safety_findings` always returns the ALARA finding and the thermal-index finding
+first, then the scan-time comparison, then every rule that applies (Doppler near bone,
+early-pregnancy Doppler, fever, mechanical index, eye, local preferences) and last the
+regulatory output ceilings as context. Local policy values appear inside the finding
+they refine, next to the published value.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Any
+
+from planner.findings import Finding
+from planner.safety.context import ExamContext
+from planner.safety.mechanical import mi_findings, ophthalmic_finding, output_ceiling_finding
+from planner.safety.policy import LocalPolicy
+from planner.safety.pregnancy import doppler_findings, febrile_finding, pregnancy_possible_finding
+from planner.safety.statement import DISCLAIMER
+from planner.safety.tables import safety_data
+from planner.safety.thermal import (doppler_bone_finding, index_finding, monitored_index,
+                                    scan_time_finding)
+
+
+def alara_finding(ctx: ExamContext) -> Finding:
+    """Return the ``safety.alara`` finding (always present; pregnancy scans add two points)."""
+    index = monitored_index(ctx)
+    message = ("ALARA: use the lowest output and the shortest scan time that give a useful "
+               f"diagnostic result, and watch {index} and MI on the display (BMUS 2009).")
+    values: dict[str, Any] = {"monitored_index": index}
+    sources = ["BMUS2009"]
+    if ctx.obstetric_scope:
+        data = safety_data()
+        start = data.value("pregnancy.start_ti")
+        souvenir = data.value("pregnancy.no_souvenir_scans")
+        values["start_ti"] = start.value
+        sources += [start.source, souvenir.source]
+        message += f" Start at a displayed TI of {start.value:g} (AIUM). {souvenir.value}"
+    return Finding("safety.alara", "advice", "ALARA", message, values,
+                   tuple(dict.fromkeys(sources)),
+                   "As low as reasonably achievable: exposure grows with output and dwell time, "
+                   "so both are kept at the minimum the diagnosis needs.")
+
+
+def preferences_finding(ctx: ExamContext, policy: LocalPolicy | None) -> Finding | None:
+    """Return the department's preferred settings for this exam, beside the published start TI."""
+    if policy is None:
+        return None
+    prefs = policy.preferences_for(ctx.exam_type)
+    if prefs is None or (prefs.start_ti is None and not prefs.notes):
+        return None
+    values: dict[str, Any] = {"local_start_ti": prefs.start_ti, "local_notes": list(prefs.notes)}
+    parts = []
+    if prefs.start_ti is not None:
+        text = f"start at TI {prefs.start_ti:g}"
+        if ctx.obstetric_scope:
+            published = safety_data().value("pregnancy.start_ti").value
+            values["published_start_ti"] = published
+            text += f" (published: {published:g}, AIUM)"
+        parts.append(text)
+    parts += list(prefs.notes)
+    sources = (policy.source_key,)
+    if "published_start_ti" in values:
+        sources += ("AIUMEarlyDoppler",)
+    return Finding("safety.local.preferences", "advice", "Local preferred settings",
+                   f"Local practice, {policy.label}: {'; '.join(parts)}.", values, sources)
+
+
+def safety_findings(ctx: ExamContext, policy: LocalPolicy | None = None) -> list[Finding]:
+    """Return every safety finding for ``ctx``: ALARA, the index to watch, then each rule.
+
+    Parameters
+    ----------
+    ctx : ExamContext
+        Exam type, modes, pregnancy, risks, expected TI/MI and planned minutes.
+    policy : LocalPolicy, optional
+        A department's local limits; shown beside the published values.
+
+    Returns
+    -------
+    list of Finding
+        Codes ``safety.alara``, ``safety.index``, ``safety.scan_time`` always; then, as they
+        apply, ``safety.doppler_near_bone``, ``safety.early_pregnancy_doppler`` or
+        ``safety.local.doppler``, ``safety.febrile``, ``safety.pregnancy_possible``,
+        ``safety.mi.*``, ``safety.ophthalmic``, ``safety.local.preferences``, and
+        ``safety.output_ceiling`` last.
+    """
+    found: list[Finding | None] = [
+        alara_finding(ctx), index_finding(ctx), scan_time_finding(ctx, policy),
+        doppler_bone_finding(ctx), *doppler_findings(ctx, policy), febrile_finding(ctx),
+        pregnancy_possible_finding(ctx), *mi_findings(ctx, policy),
+        ophthalmic_finding(ctx, policy), preferences_finding(ctx, policy),
+        output_ceiling_finding(ctx),
+    ]
+    return [f for f in found if f is not None]
+
+
+@dataclass(frozen=True)
+class SafetyReport:
+    """Everything the safety section of an output shows: statement, index, findings."""
+
+    statement: str
+    monitored_index: str
+    findings: tuple[Finding, ...]
+
+    def to_dict(self) -> dict[str, Any]:
+        """Return a JSON-ready dict."""
+        return {"statement": self.statement, "monitored_index": self.monitored_index,
+                "findings": [f.to_dict() for f in self.findings]}
+
+
+def safety_report(ctx: ExamContext, policy: LocalPolicy | None = None) -> SafetyReport:
+    """Return the statement, the thermal index to watch and all safety findings for ``ctx``."""
+    return SafetyReport(DISCLAIMER, monitored_index(ctx), tuple(safety_findings(ctx, policy)))
