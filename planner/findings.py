@@ -9,7 +9,7 @@ for the explanation view and for student drafts.
 
 from __future__ import annotations
 
-from dataclasses import asdict, dataclass, field
+from dataclasses import dataclass, field
 from typing import Any
 
 SEVERITIES: tuple[str, ...] = ("info", "advice", "caution", "warning")
@@ -40,9 +40,9 @@ class Finding:
 
     def to_dict(self) -> dict[str, Any]:
         """Return the finding as a JSON-ready dict (sources as a list)."""
-        out = asdict(self)
-        out["sources"] = list(self.sources)
-        return out
+        return {"code": self.code, "severity": self.severity, "title": self.title,
+                "message": self.message, "values": dict(self.values),
+                "sources": list(self.sources), "explanation": self.explanation}
 
 
 def severity_rank(severity: str) -> int:

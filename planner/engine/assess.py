@@ -16,8 +16,9 @@ from planner.physics import attenuation, beam, sound_speed
 from planner.physics.constants import (HARMONIC_CONVERSION_LOSS_DB, SIGNAL_BUDGET_DIFFUSE_DB,
                                        SPECULAR_ALLOWANCE_DB)
 
-STRONG_REFLECTORS = frozenset({"specular", "fluid"})
-"""Reflector types whose decisive echoes are strong interfaces (walls, bone, calculi)."""
+STRONG_TISSUES = frozenset({"cortical_bone", "cartilage", "tendon", "lung", "air"})
+"""Target tissues whose decisive echo is a strong specular interface (bone surfaces, fibrillar
+tendon, the lung or diaphragm surface); vessel and cyst walls are specular but weak."""
 
 
 @dataclass(frozen=True)
@@ -31,6 +32,13 @@ class ProbeOption:
     high_mhz: float
     f_number: float
     feasible: bool
+
+    @property
+    def shown_band(self) -> tuple[float, float]:
+        """Band to show: the recommended band, or the reachable part when detail is not reached. [MHz]"""
+        if self.feasible:
+            return self.low_mhz, self.high_mhz
+        return self.probe.low_mhz, max(self.probe.low_mhz, self.high_mhz)
 
 
 @dataclass(frozen=True)
@@ -61,9 +69,10 @@ class WindowAssessment:
             arr["attenuation_exponent"], arr["impedance_mrayl"]))
 
 
-def signal_budget_db(reflector: str) -> float:
-    """Usable round-trip budget: diffuse default plus the specular allowance. [dB]"""
-    extra = SPECULAR_ALLOWANCE_DB.value if reflector in STRONG_REFLECTORS else 0.0
+def signal_budget_db(target) -> float:
+    """Usable round-trip budget: diffuse default plus the allowance for strong specular echoes. [dB]"""
+    strong = target.reflector == "specular" and target.target_tissue in STRONG_TISSUES
+    extra = SPECULAR_ALLOWANCE_DB.value if strong else 0.0
     return SIGNAL_BUDGET_DIFFUSE_DB.value + extra
 
 
@@ -97,14 +106,28 @@ def _rank_key(option: ProbeOption, preferred: list[str]):
     pref = preferred.index(option.probe.type) if option.probe.type in preferred else len(preferred)
     usable = option.fit in ("fits", "aligned")
     reaches = option.high_mhz >= option.probe.low_mhz
-    return (not option.feasible, not usable, not reaches, pref, option.fit != "fits",
+    return (not usable, not option.feasible, not reaches, pref, option.fit != "fits",
             -option.high_mhz)
+
+
+def choose_probe(options, preferred: list[str]) -> ProbeOption | None:
+    """The probe a sonographer would pick through this window.
+
+    Only the target's usual probe types are considered when the inventory has any of them
+    (a linear array is not a cardiac probe, however well it reaches); among them a usable
+    footprint comes first, then a band that gives the needed detail, then the usual order,
+    then a clean footprint fit, then the highest reachable frequency.
+    """
+    usable = [o for o in options if o.fit != "n/a"]
+    usual = [o for o in usable if o.probe.type in preferred]
+    pool = usual or usable
+    return min(pool, key=lambda o: _rank_key(o, preferred)) if pool else None
 
 
 def assess_window(stack: LayerStack, window, target, inventory: ProbeInventory) -> WindowAssessment:
     """Compute reach, detail floor, probe options and depth errors for one window."""
     arr = stack.arrays()
-    budget = signal_budget_db(target.reflector)
+    budget = signal_budget_db(target)
     iface = float(attenuation.interface_round_trip_loss_db(arr["impedance_mrayl"]))
     ceil_f, ceil_h = _ceilings(arr, budget, iface)
     depth = stack.depth_cm
@@ -113,10 +136,9 @@ def assess_window(stack: LayerStack, window, target, inventory: ProbeInventory) 
            if lay.tissue.id == "fat"]
     fat_err = float(sound_speed.depth_error_mm([t for t, _ in fat], [c for _, c in fat])) if fat else 0.0
     options = tuple(_option(p, window, depth, target.detail_mm, ceil_f) for p in inventory.probes)
-    preferred = list(target.probe_types)
-    ranked = sorted((o for o in options if o.fit != "n/a"), key=lambda o: _rank_key(o, preferred))
+    best = choose_probe(options, list(target.probe_types))
     return WindowAssessment(window, stack, budget, iface, ceil_f, ceil_h, shown,
-                            10.0 * (shown - depth), fat_err, options, ranked[0] if ranked else None)
+                            10.0 * (shown - depth), fat_err, options, best)
 
 
 def _ceilings(arr: dict, budget: float, iface: float) -> tuple[float, float]:

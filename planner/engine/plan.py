@@ -83,10 +83,18 @@ def assess_windows(patient: Patient, target, windows, inventory: ProbeInventory,
     """Build and assess the stack of every window, measured values applied."""
     model = load_wall_models()[reference.wall]
     ratio = measured_wall_ratio(model, patient, reference.wall_factor)
-    scale = _path_scale(patient, reference, ratio)
     measured = patient.wall_mm is not None
-    return [assess_window(build_stack(patient, w, wall_ratio=ratio, path_scale=scale,
-                                      measured=measured), w, target, inventory) for w in windows]
+    out = []
+    for w in windows:
+        try:
+            scale = _path_scale(patient, w, ratio)
+        except InputError:
+            if w is reference:
+                raise
+            continue          # a measured depth shallower than this window's wall: not a candidate
+        out.append(assess_window(build_stack(patient, w, wall_ratio=ratio, path_scale=scale,
+                                             measured=measured), w, target, inventory))
+    return out
 
 
 def rank_assessments(assessments: list[WindowAssessment]) -> tuple[list[WindowAssessment], float]:
@@ -119,7 +127,8 @@ def _window_summary(a: WindowAssessment, reference_mhz: float) -> dict:
             "reference_frequency_mhz": round(reference_mhz, 2),
             "depth_cm": round(a.stack.depth_cm, 2), "wall_mm": round(a.stack.wall_cm * 10, 1),
             "reach_ceiling_mhz": round(a.ceiling_mhz, 2),
-            "band_mhz": None if opt is None else {"low": round(opt.low_mhz, 1), "high": round(opt.high_mhz, 1)},
+            "band_mhz": None if opt is None else {"low": round(opt.shown_band[0], 1),
+                                                  "high": round(opt.shown_band[1], 1)},
             "probe": None if opt is None else opt.probe.id,
             "position": a.window.position, "breathing": a.window.breathing}
 
@@ -209,7 +218,8 @@ def _assumptions(patient: Patient, chosen: WindowAssessment, inventory: ProbeInv
     elif patient.fat_mm is not None:
         out.append(f"Measured subcutaneous fat {patient.fat_mm:g} mm replaces the BMI estimate.")
     if patient.depth_cm is not None:
-        out.append(f"Measured target depth {patient.depth_cm:g} cm sets the organ path length.")
+        out.append(f"Measured target depth {patient.depth_cm:g} cm sets the organ path length "
+                   "through every window.")
     out.append(f"Probes from the {inventory.origin}.")
     out.append(f"Signal budget {chosen.budget_db:g} dB round trip; tissue values are population averages "
                "(speed +/-3 %, attenuation +/-30-50 %).")

@@ -83,7 +83,7 @@ def sweep(target_id: str, bmi, *, window_id: str | None = None, sex: str | None 
     c = np.array([lay.tissue.speed_m_per_s for lay in layers])
     iface = float(attenuation.interface_round_trip_loss_db(
         np.array([lay.tissue.impedance_mrayl for lay in layers])))
-    budget = signal_budget_db(target.reflector)
+    budget = signal_budget_db(target)
     ceiling = attenuation.max_frequency_for_budget_mhz(budget, thick, a0, y, fixed_loss_db=iface)
     harmonic = attenuation.max_frequency_for_budget_mhz(
         budget, thick, a0, y, fixed_loss_db=iface + HARMONIC_CONVERSION_LOSS_DB.value, harmonic=True)

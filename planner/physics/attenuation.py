@@ -16,23 +16,11 @@ from __future__ import annotations
 
 import numpy as np
 
+from planner.physics._checks import positive as _positive, non_negative as _non_negative
+
 from planner.physics.interfaces import intensity_transmission_normal
 
 _TEN_LOG10_2 = 10.0 * np.log10(2.0)
-
-
-def _positive(name: str, value) -> np.ndarray:
-    arr = np.asarray(value, dtype=float)
-    if not np.all(np.isfinite(arr)) or np.any(arr <= 0):
-        raise ValueError(f"{name} must be finite and > 0, got {value!r}")
-    return arr
-
-
-def _non_negative(name: str, value) -> np.ndarray:
-    arr = np.asarray(value, dtype=float)
-    if not np.all(np.isfinite(arr)) or np.any(arr < 0):
-        raise ValueError(f"{name} must be finite and >= 0, got {value!r}")
-    return arr
 
 
 def attenuation_db_per_cm(frequency_mhz, attenuation_db_per_cm_mhz, attenuation_exponent=1.0):
@@ -96,8 +84,8 @@ def interface_round_trip_loss_db(impedance_mrayl):
         ``-2 * sum(10 log10 T_i)`` over the n-1 interfaces, with T the normal-incidence
         intensity transmission coefficient (ALevelPhysics). [dB]
     """
-    z = _positive("impedance_mrayl", impedance_mrayl)
-    if z.shape[-1] < 2:
+    z = np.asarray(_positive("impedance_mrayl", impedance_mrayl))
+    if z.ndim == 0 or z.shape[-1] < 2:
         return np.zeros(z.shape[:-1])
     t = intensity_transmission_normal(z[..., :-1], z[..., 1:])
     return -2.0 * np.sum(10.0 * np.log10(t), axis=-1)
@@ -124,7 +112,7 @@ def stack_round_trip_loss_db(thickness_cm, frequency_mhz, attenuation_db_per_cm_
         ``2 * sum(alpha_i(f) d_i) + interface loss``. [dB]
     """
     d = _non_negative("thickness_cm", thickness_cm)
-    f = _positive("frequency_mhz", frequency_mhz)
+    f = np.asarray(_positive("frequency_mhz", frequency_mhz))
     alpha = attenuation_db_per_cm(f[..., None], attenuation_db_per_cm_mhz,
                                   attenuation_exponent)
     loss = 2.0 * np.sum(alpha * d, axis=-1)
@@ -201,6 +189,8 @@ def max_frequency_for_budget_mhz(budget_db, thickness_cm, attenuation_db_per_cm_
         with np.errstate(over="ignore", divide="ignore", invalid="ignore"):
             step = np.divide(g, slope, out=np.zeros(shape), where=slope > 0)
         u = np.maximum(u - np.clip(step, 0.0, 50.0), np.log(low_mhz) - 1.0)
+        if np.all(step <= 1e-12):
+            break
     top_fits = (k * high_mhz ** y).sum(axis=-1) <= budget
     low_fits = (k * low_mhz ** y).sum(axis=-1) <= budget
     result = np.where(top_fits, high_mhz, np.exp(np.clip(u, np.log(low_mhz), u_high)))

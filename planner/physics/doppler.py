@@ -12,14 +12,9 @@ from __future__ import annotations
 
 import numpy as np
 
+from planner.physics._checks import positive as _positive
+
 from planner.physics.constants import ASSUMED_SPEED_M_PER_S
-
-
-def _positive(name: str, value) -> np.ndarray:
-    arr = np.asarray(value, dtype=float)
-    if not np.all(np.isfinite(arr)) or np.any(arr <= 0):
-        raise ValueError(f"{name} must be finite and > 0, got {value!r}")
-    return arr
 
 
 def _doppler_angle(value) -> np.ndarray:

@@ -11,7 +11,8 @@ from __future__ import annotations
 
 import numpy as np
 
-from planner.physics.attenuation import attenuation_db_per_cm, _non_negative
+from planner.physics._checks import non_negative as _non_negative
+from planner.physics.attenuation import attenuation_db_per_cm
 from planner.physics.constants import HARMONIC_CONVERSION_LOSS_DB
 
 

@@ -14,19 +14,7 @@ from __future__ import annotations
 
 import numpy as np
 
-
-def _positive(name: str, value) -> np.ndarray:
-    arr = np.asarray(value, dtype=float)
-    if not np.all(np.isfinite(arr)) or np.any(arr <= 0):
-        raise ValueError(f"{name} must be finite and > 0, got {value!r}")
-    return arr
-
-
-def _angle(name: str, value) -> np.ndarray:
-    arr = np.asarray(value, dtype=float)
-    if not np.all(np.isfinite(arr)) or np.any(arr < 0) or np.any(arr > 90):
-        raise ValueError(f"{name} must be between 0 and 90 degrees, got {value!r}")
-    return arr
+from planner.physics._checks import positive as _positive, angle_0_90 as _angle
 
 
 def impedance_mrayl(density_kg_per_m3, speed_m_per_s):

@@ -14,7 +14,8 @@ from __future__ import annotations
 
 import numpy as np
 
-from planner.physics.interfaces import _angle, _positive, transmitted_angle_deg
+from planner.physics._checks import angle_0_90 as _angle, positive as _positive
+from planner.physics.interfaces import transmitted_angle_deg
 
 
 def bend_angle_deg(incidence_deg, c1_m_per_s, c2_m_per_s):

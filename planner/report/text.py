@@ -8,14 +8,16 @@ SEVERITY_MARK = {"warning": "!!", "caution": "! ", "advice": "> ", "info": "- "}
 
 
 def _wrap(text: str, indent: str = "    ", width: int = 96) -> str:
-    return textwrap.fill(text, width=width, initial_indent=indent, subsequent_indent=indent)
+    return textwrap.fill(text, width=width, initial_indent=indent,
+                         subsequent_indent=" " * len(indent))
 
 
 def _band(plan) -> str:
     f = plan.frequency_mhz
     if f.get("low") is None:
         return "no usable band"
-    tag = "" if f.get("feasible") else "  (needed detail NOT reached)"
+    tag = (f"; start at {f['high']:.1f} MHz, the highest that reaches" if f.get("feasible")
+           else "  (needed detail NOT reached)")
     return f"{f['low']:.1f}-{f['high']:.1f} MHz{tag}"
 
 

@@ -1,0 +1,1 @@
+"""Libraries of targets, windows and probes (package data, validated on load)."""

@@ -1,0 +1,281 @@
+"""The target library: what can be scanned, and through which acoustic windows.
+
+The library is package data (``planner/data/targets.yaml``, ``schema_version: 1``).
+Each target names its region, dominant reflector type, exam type (which selects the
+safety tables), the tissue of the target, a typical skin-to-target depth for an
+average adult, the finest detail the exam must resolve, the usual probe types, its
+surfaces of interest and its candidate acoustic windows. Each window names a body-wall
+model (added by :mod:`planner.body` from the patient's habitus) and the organ path
+between the wall and the deepest point of the target.
+
+Every number carries a source key and a status; the :class:`~planner.provenance.Sourced`
+records travel with the dataclasses in their ``provenance`` mapping (field name ->
+record) so that a plan can cite them. Loading validates the whole file and reports
+every problem at once as a :class:`~planner.errors.DataError`.
+"""
+
+from __future__ import annotations
+
+import difflib
+from dataclasses import dataclass, field
+from functools import lru_cache
+from importlib import resources
+from pathlib import Path
+from typing import Iterator
+
+from planner.errors import DataError, InputError
+from planner.library.probes import PROBE_TYPES
+from planner.provenance import Sourced
+
+__all__ = [
+    "CURVATURES", "EXAM_TYPES", "INTERCOSTAL_WALLS", "LAYER_ROLES", "ORIENTATIONS",
+    "PROBE_TYPES", "REFLECTORS", "REGIONS", "RISK_LEVELS", "SCHEMA_VERSION",
+    "SURFACE_REFLECTORS", "WALL_MODEL_IDS", "PathLayer", "Surface", "Target",
+    "TargetLibrary", "Window", "load_library", "load_library_file", "parse_library",
+]
+
+SCHEMA_VERSION: int = 1
+"""The ``schema_version`` a target library file must declare."""
+
+WALL_MODEL_IDS: tuple[str, ...] = (
+    "epigastric", "periumbilical", "paramedian", "ruq_intercostal", "subcostal",
+    "posterior_flank", "pregnancy_lower", "neck_anterior", "neck_lateral", "groin", "thigh",
+    "popliteal", "limb_distal", "shoulder", "breast", "scrotal", "chest_wall", "temporal",
+    "fontanelle", "infant", "endocavitary")
+"""Body-wall models a window may name (implemented by :mod:`planner.body`)."""
+
+REGIONS: tuple[str, ...] = ("abdomen", "pelvis", "obstetric", "small_parts", "vascular",
+                            "musculoskeletal", "thorax", "cardiac", "neonatal", "head")
+"""Body regions used to group targets."""
+
+EXAM_TYPES: tuple[str, ...] = (
+    "general_abdominal", "obstetric", "gynaecological", "neonatal_head", "neonatal_spine",
+    "neonatal_other", "adult_transcranial", "ophthalmic", "peripheral_vascular",
+    "musculoskeletal", "small_parts", "cardiac", "thorax")
+"""Exam types; they select the thermal-index and scan-time tables."""
+
+REFLECTORS: tuple[str, ...] = ("specular", "diffuse", "mixed", "fluid")
+"""Dominant echo type of what the exam must judge."""
+
+SURFACE_REFLECTORS: tuple[str, ...] = ("specular", "diffuse")
+"""Echo type of one surface of interest."""
+
+ORIENTATIONS: tuple[str, ...] = ("parallel_to_skin", "oblique", "perpendicular_to_skin", "curved")
+"""Orientation of a surface relative to the skin."""
+
+CURVATURES: tuple[str, ...] = ("flat", "convex", "concave", "tubular", "spherical")
+"""Shape of a surface as the beam meets it."""
+
+RISK_LEVELS: tuple[str, ...] = ("none", "low", "moderate", "high")
+"""Levels of calcification risk and of gas risk."""
+
+LAYER_ROLES: dict[str, str] = {"bladder": "urine", "stomach": "water"}
+"""Optional roles of a path layer and the tissue each role requires.
+
+``bladder``: the full-bladder window (replaced when the bladder is empty);
+``stomach``: the water-filled stomach used as a window.
+"""
+
+INTERCOSTAL_WALLS: tuple[str, ...] = ("ruq_intercostal", "chest_wall")
+"""Wall models of intercostal windows; their windows must give ``rib_gap_mm``."""
+
+
+@dataclass(frozen=True, slots=True)
+class PathLayer:
+    """One organ layer between the body wall and the deepest point of the target.
+
+    ``tissue`` is a tissue id of ``planner/data/tissues.yaml``; ``thickness_cm`` [cm];
+    ``role`` is ``None`` or a key of :data:`LAYER_ROLES`.
+    """
+
+    tissue: str
+    thickness_cm: float
+    role: str | None = None
+    provenance: dict[str, Sourced] = field(default_factory=dict, hash=False, repr=False)
+
+
+@dataclass(frozen=True, slots=True)
+class Surface:
+    """A surface of interest of a target.
+
+    ``tilt_from_skin_deg`` is the angle between the surface and the skin plane [deg]
+    (0 = parallel to the skin, 90 = perpendicular); ``radius_mm`` [mm] is the radius of a
+    curved surface (edge shadowing), ``None`` when not given.
+    """
+
+    name: str
+    reflector: str
+    orientation: str
+    tilt_from_skin_deg: float
+    curvature: str
+    radius_mm: float | None
+    provenance: dict[str, Sourced] = field(default_factory=dict, hash=False, repr=False)
+
+
+@dataclass(frozen=True, slots=True)
+class Window:
+    """A candidate acoustic window of one target.
+
+    ``wall_factor`` [-] multiplies the modelled wall thickness; ``rib_gap_mm`` [mm] is the
+    width of the rib space an intercostal footprint must fit (``None`` elsewhere).
+    """
+
+    id: str
+    name: str
+    wall: str
+    position: str
+    breathing: str
+    wall_factor: float
+    path: tuple[PathLayer, ...]
+    rib_gap_mm: float | None
+    gas_risk: str
+    midline_rectus: bool
+    bone_in_path: bool
+    notes: str = ""
+    provenance: dict[str, Sourced] = field(default_factory=dict, hash=False, repr=False)
+
+    @property
+    def path_cm(self) -> float:
+        """Total thickness of the organ path (wall excluded). [cm]"""
+        return float(sum(layer.thickness_cm for layer in self.path))
+
+    @property
+    def intercostal(self) -> bool:
+        """True when the footprint must fit between two ribs."""
+        return self.rib_gap_mm is not None
+
+
+@dataclass(frozen=True, slots=True)
+class Target:
+    """A structure to be examined, with its candidate windows (usual window first).
+
+    ``typical_depth_cm`` [cm]: skin to the deepest part the exam must show in an average
+    adult (BMI about 25) through the usual transabdominal or surface route;
+    ``detail_mm`` [mm]: the smallest structure the exam must resolve.
+    """
+
+    id: str
+    name: str
+    region: str
+    reflector: str
+    exam_type: str
+    target_tissue: str
+    typical_depth_cm: float
+    detail_mm: float
+    probe_types: tuple[str, ...]
+    surfaces: tuple[Surface, ...]
+    fluid_filled: bool
+    wall_tissue: str | None
+    lumen_tissue: str | None
+    calcification_risk: str
+    harmonic_contraindicated: bool
+    pitfalls: tuple[str, ...]
+    windows: tuple[Window, ...]
+    provenance: dict[str, Sourced] = field(default_factory=dict, hash=False, repr=False)
+
+    def window_ids(self) -> tuple[str, ...]:
+        """Ids of the windows, usual first."""
+        return tuple(window.id for window in self.windows)
+
+    def window(self, window_id: str) -> Window:
+        """Return the window ``window_id``; ``InputError`` lists the valid windows."""
+        for window in self.windows:
+            if window.id == window_id:
+                return window
+        raise InputError(
+            f"unknown window {window_id!r} for target {self.id!r}"
+            f"{_suggestion(window_id, self.window_ids())}; "
+            f"valid windows: {', '.join(self.window_ids())}", title="Unknown window")
+
+    def sources(self) -> tuple[str, ...]:
+        """Every source key behind the target's numbers, sorted."""
+        records = list(self.provenance.values())
+        for surface in self.surfaces:
+            records.extend(surface.provenance.values())
+        for window in self.windows:
+            records.extend(window.provenance.values())
+            for layer in window.path:
+                records.extend(layer.provenance.values())
+        return tuple(sorted({record.source for record in records}))
+
+
+@dataclass(frozen=True)
+class TargetLibrary:
+    """All targets of a library file, in file order."""
+
+    targets: dict[str, Target]
+
+    def ids(self) -> tuple[str, ...]:
+        """Target ids in file order."""
+        return tuple(self.targets)
+
+    def get(self, target_id: str) -> Target:
+        """Return the target ``target_id``; ``InputError`` lists every valid target."""
+        try:
+            return self.targets[target_id]
+        except KeyError:
+            raise InputError(
+                f"unknown target {target_id!r}{_suggestion(target_id, self.ids())}; "
+                f"valid targets: {', '.join(self.ids())}", title="Unknown target") from None
+
+    def in_region(self, region: str) -> tuple[Target, ...]:
+        """Targets of one region (see :data:`REGIONS`); ``InputError`` for an unknown region."""
+        if region not in REGIONS:
+            raise InputError(f"unknown region {region!r}; valid regions: {', '.join(REGIONS)}",
+                             title="Unknown region")
+        return tuple(t for t in self.targets.values() if t.region == region)
+
+    def __contains__(self, target_id: object) -> bool:
+        return target_id in self.targets
+
+    def __iter__(self) -> Iterator[Target]:
+        return iter(self.targets.values())
+
+    def __len__(self) -> int:
+        return len(self.targets)
+
+
+def _suggestion(value: str, valid: tuple[str, ...]) -> str:
+    close = difflib.get_close_matches(str(value), valid, n=1)
+    return f" (did you mean {close[0]!r}?)" if close else ""
+
+
+def parse_library(text: str, filename: str = "targets.yaml") -> TargetLibrary:
+    """Parse and validate the text of a target library file.
+
+    Parameters
+    ----------
+    text : str
+        YAML text with ``schema_version`` and ``targets``.
+    filename : str
+        Name used in problem messages.
+
+    Raises
+    ------
+    DataError
+        With every problem found, each formatted ``file:line:column: key.path: message``.
+    """
+    from planner.library._target_checks import build_library
+    targets, problems = build_library(text, filename)
+    if problems:
+        raise DataError(f"{filename}: {len(problems)} problem(s) in the target library",
+                        problems, title="Invalid target library")
+    return TargetLibrary(targets)
+
+
+def load_library_file(path: str | Path) -> TargetLibrary:
+    """Load and validate a target library from a file path (see :func:`parse_library`)."""
+    file = Path(path)
+    try:
+        text = file.read_text(encoding="utf-8")
+    except OSError as exc:
+        raise DataError(f"{file}: cannot read the target library ({exc.strerror})",
+                        title="Invalid target library") from None
+    return parse_library(text, str(file))
+
+
+@lru_cache(maxsize=1)
+def load_library() -> TargetLibrary:
+    """Return the shipped target library (validated once, then cached)."""
+    text = (resources.files("planner") / "data" / "targets.yaml").read_text(encoding="utf-8")
+    return parse_library(text, "targets.yaml")
