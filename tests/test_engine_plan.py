@@ -114,7 +114,7 @@ probes:
 
 def test_detail_unreachable_says_so_and_what_could_change():
     """When no window gives the needed detail the plan says so and lists alternatives."""
-    p = plan("heart", bmi=55)
+    p = plan("hepatic-veins", bmi=60, conditions={"steatosis": 3})
     assert p.frequency_mhz["feasible"] is False
     codes = [f["code"] for f in p.findings]
     assert "band.detail_unreachable" in codes and "plan.no_window" in codes
