@@ -47,6 +47,7 @@ class Plan:
     validity: list[dict]
     disclaimer: str
     layers: list[dict]
+    budget_db: float = 60.0
     doppler: dict | None = None
     draft: bool = False
     inputs: dict = field(default_factory=dict)
@@ -199,7 +200,13 @@ def make_plan(request: PlanRequest) -> Plan:
         assumptions=_assumptions(patient, chosen, inventory, exam),
         validity=validity, disclaimer=DISCLAIMER,
         layers=[{"tissue": lay.tissue.id, "label": lay.label, "role": lay.role,
-                 "thickness_cm": round(lay.thickness_cm, 2)} for lay in chosen.stack.layers],
+                 "thickness_cm": round(lay.thickness_cm, 3),
+                 "speed_m_per_s": lay.tissue.speed_m_per_s,
+                 "attenuation_db_per_cm_mhz": lay.tissue.attenuation_db_per_cm_mhz,
+                 "attenuation_exponent": lay.tissue.attenuation_exponent,
+                 "impedance_mrayl": round(lay.tissue.impedance_mrayl, 4)}
+                for lay in chosen.stack.layers],
+        budget_db=chosen.budget_db,
         draft=request.draft,
         inputs={"target": target.id, "window": request.window_id, "exam_type": exam.exam_type,
                 "probes": inventory.origin, "local_policy": request.local_policy_path},
