@@ -6,7 +6,7 @@ Every number comes from :mod:`planner.physics`; this module only arranges the in
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 import numpy as np
 
@@ -56,6 +56,8 @@ class WindowAssessment:
     fat_error_mm: float
     options: tuple[ProbeOption, ...]
     best: ProbeOption | None
+    arrays: dict = field(default_factory=dict, repr=False, compare=False)
+    memo: dict = field(default_factory=dict, repr=False, compare=False)
 
     @property
     def feasible(self) -> bool:
@@ -63,10 +65,13 @@ class WindowAssessment:
 
     def loss_db(self, frequency_mhz: float) -> float:
         """Round-trip loss to the target at a frequency, interfaces included. [dB]"""
-        arr = self.stack.arrays()
-        return float(attenuation.stack_round_trip_loss_db(
-            arr["thickness_cm"], frequency_mhz, arr["attenuation_db_per_cm_mhz"],
-            arr["attenuation_exponent"], arr["impedance_mrayl"]))
+        memo = self.memo
+        if frequency_mhz not in memo:
+            arr = self.arrays
+            memo[frequency_mhz] = float(attenuation.stack_round_trip_loss_db(
+                arr["thickness_cm"], frequency_mhz, arr["attenuation_db_per_cm_mhz"],
+                arr["attenuation_exponent"])) + self.interface_loss_db
+        return memo[frequency_mhz]
 
 
 def signal_budget_db(target) -> float:
@@ -138,19 +143,21 @@ def assess_window(stack: LayerStack, window, target, inventory: ProbeInventory) 
     options = tuple(_option(p, window, depth, target.detail_mm, ceil_f) for p in inventory.probes)
     best = choose_probe(options, list(target.probe_types))
     return WindowAssessment(window, stack, budget, iface, ceil_f, ceil_h, shown,
-                            10.0 * (shown - depth), fat_err, options, best)
+                            10.0 * (shown - depth), fat_err, options, best, arr)
 
 
 def _ceilings(arr: dict, budget: float, iface: float) -> tuple[float, float]:
-    """Fundamental and harmonic (transmit) reach ceilings in one vectorised call. [MHz]"""
-    fundamental = attenuation.max_frequency_for_budget_mhz(
-        budget, arr["thickness_cm"], arr["attenuation_db_per_cm_mhz"],
-        arr["attenuation_exponent"], fixed_loss_db=iface)
-    harmonic = attenuation.max_frequency_for_budget_mhz(
-        budget, arr["thickness_cm"], arr["attenuation_db_per_cm_mhz"],
-        arr["attenuation_exponent"], fixed_loss_db=iface + HARMONIC_CONVERSION_LOSS_DB.value,
-        harmonic=True)
-    return float(fundamental), float(harmonic)
+    """Fundamental and harmonic (transmit) reach ceilings, solved together. [MHz]
+
+    The harmonic loss per cm is alpha(f0) + alpha(2 f0), i.e. ``(1 + 2**y) / 2`` times the
+    fundamental's round-trip coefficient, plus the stated conversion loss.
+    """
+    y = arr["attenuation_exponent"]
+    k = 2.0 * arr["attenuation_db_per_cm_mhz"] * arr["thickness_cm"]
+    both = attenuation.solve_power_sum_mhz(
+        np.stack([k, k * 0.5 * (1.0 + 2.0 ** y)]), y,
+        np.array([budget - iface, budget - iface - HARMONIC_CONVERSION_LOSS_DB.value]))
+    return float(both[0]), float(both[1])
 
 
 def finest_detail_mm(option: ProbeOption, frequency_mhz: float) -> float:

@@ -171,16 +171,30 @@ def max_frequency_for_budget_mhz(budget_db, thickness_cm, attenuation_db_per_cm_
     """
     d = _non_negative("thickness_cm", thickness_cm)
     a0 = _non_negative("attenuation_db_per_cm_mhz", attenuation_db_per_cm_mhz)
-    y = _non_negative("attenuation_exponent", attenuation_exponent)
+    y = np.asarray(_non_negative("attenuation_exponent", attenuation_exponent))
     budget = np.asarray(budget_db, dtype=float) - np.asarray(fixed_loss_db, dtype=float)
     k = 2.0 * a0 * d
     if harmonic:
         k = k * 0.5 * (1.0 + 2.0 ** y)
+    return solve_power_sum_mhz(k, y, budget, low_mhz, high_mhz, iterations)
+
+
+def solve_power_sum_mhz(k, y, budget, low_mhz=0.25, high_mhz=40.0, iterations=30):
+    """Largest f in [low, high] with ``sum_i k_i f**y_i <= budget`` (last axis = terms). [MHz]
+
+    Newton's method in ``u = ln f`` from the right of the root (the sum of exponentials is
+    increasing and convex in u, so the iterates descend monotonically onto the root).
+    Returns ``high_mhz`` when even that fits and 0.0 when not even ``low_mhz`` fits.
+    """
+    k = np.asarray(k, dtype=float)
+    y = np.asarray(y, dtype=float)
+    budget = np.asarray(budget, dtype=float)
     shape = np.broadcast_shapes(budget.shape, k.shape[:-1], y.shape[:-1])
     k = np.broadcast_to(k, shape + k.shape[-1:])
     y = np.broadcast_to(y, shape + y.shape[-1:])
     budget = np.broadcast_to(budget, shape)
     u_high = np.log(high_mhz)
+    u_floor = np.log(low_mhz) - 1.0
     u = np.full(shape, u_high)
     for _ in range(iterations):
         terms = k * np.exp(y * u[..., None])
@@ -188,8 +202,9 @@ def max_frequency_for_budget_mhz(budget_db, thickness_cm, attenuation_db_per_cm_
         slope = (terms * y).sum(axis=-1)
         with np.errstate(over="ignore", divide="ignore", invalid="ignore"):
             step = np.divide(g, slope, out=np.zeros(shape), where=slope > 0)
-        u = np.maximum(u - np.clip(step, 0.0, 50.0), np.log(low_mhz) - 1.0)
-        if np.all(step <= 1e-12):
+        step = np.clip(step, 0.0, 50.0)
+        u = np.maximum(u - step, u_floor)
+        if step.max(initial=0.0) <= 1e-12:
             break
     top_fits = (k * high_mhz ** y).sum(axis=-1) <= budget
     low_fits = (k * low_mhz ** y).sum(axis=-1) <= budget
