@@ -1,0 +1,537 @@
+"""Safe reading and atomic writing of user-supplied YAML files.
+
+Protocols, probe inventories, local policies and saved plans come from users and
+may be broken, huge or hostile. :func:`load_user_yaml` reads them with PyYAML's
+safe loader and refuses, with every problem located at ``file:line:column``:
+
+- a file that cannot be read, is larger than ``max_bytes``, is binary or is not
+  UTF-8 text;
+- YAML syntax errors (position from the parser's ``problem_mark``);
+- alias bombs (aliases whose expansion exceeds ``max_nodes`` nodes) and
+  recursive aliases;
+- nesting deeper than ``max_depth``;
+- duplicate keys in a mapping (PyYAML silently keeps the last one);
+- tags other than the YAML core types, and a top level that is not a mapping.
+
+The result, :class:`LoadedYaml`, holds plain Python data (``dict``, ``list``,
+``str``, ``int``, ``float``, ``bool``, ``None``; timestamps stay text) and the
+position of every key and list item, so that later validation can report
+``file:line:col: key.path: message`` through :class:`ProblemCollector`.
+
+PyYAML follows YAML 1.1: ``no``/``off`` read as ``False``, ``yes``/``on`` as
+``True``, ``010`` as 8, ``1:30`` as 90 and ``1e3`` as the *text* ``'1e3'``.
+Validators must therefore check types explicitly (see
+:mod:`planner.protocol.fields` for the project's field checks).
+
+:func:`atomic_write_text` writes through a temporary file in the target folder,
+``fsync`` and ``os.replace``, so a crash never leaves a half-written file.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import os
+import tempfile
+import threading
+from collections.abc import Mapping
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+import yaml
+from yaml.constructor import SafeConstructor
+from yaml.nodes import MappingNode, Node, ScalarNode, SequenceNode
+
+from planner.errors import DataError, InputError
+
+__all__ = [
+    "LoadedYaml", "load_user_yaml", "ProblemCollector", "atomic_write_text", "dump_yaml",
+    "format_key_path",
+]
+
+_LOADER = getattr(yaml, "CSafeLoader", yaml.SafeLoader)
+_DUMPER = getattr(yaml, "CSafeDumper", yaml.SafeDumper)
+
+_TAG = "tag:yaml.org,2002:"
+_PLAIN_SCALAR_TAGS = frozenset(_TAG + t for t in ("null", "bool", "int", "float", "str"))
+_TIMESTAMP_TAG = _TAG + "timestamp"
+_MERGE_TAG = _TAG + "merge"
+_MAP_TAG = _TAG + "map"
+_SEQ_TAG = _TAG + "seq"
+
+KeyPath = tuple[Any, ...]
+
+
+def format_key_path(key_path: KeyPath) -> str:
+    """Return ``key_path`` as dotted text, list indexes in brackets: ``views[2].target``."""
+    out = ""
+    for part in key_path:
+        if isinstance(part, int) and not isinstance(part, bool):
+            out += f"[{part}]"
+        else:
+            out += ("." if out else "") + str(part)
+    return out
+
+
+@dataclass(frozen=True)
+class LoadedYaml:
+    """A user YAML file, parsed to plain data, with the position of every key.
+
+    Attributes
+    ----------
+    data : dict
+        The top-level mapping as plain Python objects.
+    path : pathlib.Path
+        The file that was read.
+    positions : Mapping[tuple, tuple[int, int]]
+        1-based ``(line, column)`` of each key (for mapping entries) or item
+        (for list entries), keyed by key path; ``()`` is the document start.
+    """
+
+    data: dict[Any, Any]
+    path: Path
+    positions: Mapping[KeyPath, tuple[int, int]] = field(default_factory=dict, repr=False)
+
+    def line_of(self, key_path: KeyPath) -> tuple[int, int] | None:
+        """Return 1-based ``(line, column)`` of a key or list item, or ``None`` if absent.
+
+        ``key_path`` is a tuple of mapping keys and list indexes, e.g.
+        ``("views", 2, "target")``.
+        """
+        return self.positions.get(tuple(key_path))
+
+    def nearest_line_of(self, key_path: KeyPath) -> tuple[int, int] | None:
+        """Return the position of ``key_path`` or of its closest existing ancestor."""
+        path = tuple(key_path)
+        while True:
+            found = self.positions.get(path)
+            if found is not None or not path:
+                return found
+            path = path[:-1]
+
+
+def _refuse(label: str, kind: str, problems: list[str]) -> DataError:
+    count = len(problems)
+    noun = "problem" if count == 1 else "problems"
+    return DataError(f"{label} is not a usable {kind} file ({count} {noun}): {problems[0]}",
+                     problems, title=f"Invalid {kind} file")
+
+
+def _where(label: str, line: int | None, column: int | None) -> str:
+    if line is None:
+        return f"{label}:"
+    return f"{label}:{line}:{column or 1}:"
+
+
+def _line_col_of_offset(text: str | bytes, offset: int) -> tuple[int, int]:
+    newline = b"\n" if isinstance(text, bytes) else "\n"
+    before = text[:offset]
+    line = before.count(newline) + 1
+    column = offset - (before.rfind(newline) + 1) + 1
+    return line, column
+
+
+def _syntax_problem(label: str, text: str, exc: yaml.YAMLError) -> str:
+    mark = getattr(exc, "problem_mark", None)
+    problem = getattr(exc, "problem", None)
+    if mark is not None and problem:
+        message = f"YAML syntax error: {problem}"
+        context = getattr(exc, "context", None)
+        context_mark = getattr(exc, "context_mark", None)
+        if context and context_mark is not None:
+            message += f" ({context} at line {context_mark.line + 1})"
+        return f"{_where(label, mark.line + 1, mark.column + 1)} {message}"
+    if isinstance(exc, yaml.reader.ReaderError):
+        line, column = _line_col_of_offset(text, exc.position)
+        return (f"{_where(label, line, column)} character {exc.character!r} is not allowed "
+                f"in YAML ({exc.reason})")
+    return f"{label}: YAML error: {exc}"
+
+
+def _read_text(path: Path, label: str, kind: str, max_bytes: int) -> str:
+    """Read ``path`` as UTF-8 text within ``max_bytes``; raise DataError otherwise."""
+    try:
+        if path.is_dir():
+            raise _refuse(label, kind, [f"{label}: is a folder, not a {kind} file"])
+        with open(path, "rb") as handle:
+            raw = handle.read(max_bytes + 1)
+    except DataError:
+        raise
+    except FileNotFoundError:
+        raise _refuse(label, kind, [f"{label}: cannot read {kind} file: no such file"]) from None
+    except OSError as exc:
+        reason = exc.strerror or str(exc)
+        raise _refuse(label, kind, [f"{label}: cannot read {kind} file: {reason}"]) from None
+    if len(raw) > max_bytes:
+        raise _refuse(label, kind, [
+            f"{label}: file is larger than the limit of {max_bytes:,} bytes for a {kind} file"])
+    nul = raw.find(b"\x00")
+    if nul >= 0:
+        line, column = _line_col_of_offset(raw, nul)
+        raise _refuse(label, kind, [
+            f"{_where(label, line, column)} binary data (a NUL byte); a {kind} file must be "
+            "UTF-8 YAML text"])
+    try:
+        return raw.decode("utf-8-sig")
+    except UnicodeDecodeError as exc:
+        line, column = _line_col_of_offset(raw, exc.start)
+        raise _refuse(label, kind, [
+            f"{_where(label, line, column)} not UTF-8 text (byte 0x{raw[exc.start]:02x}); "
+            "save the file as UTF-8"]) from None
+
+
+def _check_events(text: str, label: str, max_depth: int, max_nodes: int) -> list[str]:
+    """Scan the event stream (no recursion) for syntax errors, depth and size."""
+    depth = 0
+    events = 0
+    try:
+        for event in yaml.parse(text, Loader=_LOADER):
+            if isinstance(event, (yaml.MappingStartEvent, yaml.SequenceStartEvent)):
+                depth += 1
+                if depth > max_depth:
+                    mark = event.start_mark
+                    return [f"{_where(label, mark.line + 1, mark.column + 1)} nesting is deeper "
+                            f"than the limit of {max_depth} levels"]
+            elif isinstance(event, (yaml.MappingEndEvent, yaml.SequenceEndEvent)):
+                depth -= 1
+            events += 1
+            if events > max_nodes:
+                mark = event.start_mark
+                return [f"{_where(label, mark.line + 1, mark.column + 1)} more than "
+                        f"{max_nodes:,} YAML nodes; the file is too large to be a user file"]
+    except yaml.YAMLError as exc:
+        return [_syntax_problem(label, text, exc)]
+    return []
+
+
+class _Builder:
+    """Turn a composed node graph into plain data, positions and problems."""
+
+    def __init__(self, label: str, max_nodes: int) -> None:
+        self.label = label
+        self.max_nodes = max_nodes
+        self.constructor = SafeConstructor()
+        self.positions: dict[KeyPath, tuple[int, int]] = {}
+        self.problems: list[str] = []
+        self._sizes: dict[int, int] = {}
+
+    def at(self, node: Node) -> str:
+        return _where(self.label, node.start_mark.line + 1, node.start_mark.column + 1)
+
+    def expanded_size(self, root: Node) -> int | None:
+        """Number of nodes after expanding every alias; ``None`` for a recursive alias."""
+        on_stack: set[int] = set()
+
+        def size(node: Node) -> int | None:
+            key = id(node)
+            if key in self._sizes:
+                return self._sizes[key]
+            if key in on_stack:
+                self.problems.append(f"{self.at(node)} recursive alias (a node contains itself)")
+                return None
+            on_stack.add(key)
+            total = 1
+            if isinstance(node, MappingNode):
+                children = [n for pair in node.value for n in pair]
+            elif isinstance(node, SequenceNode):
+                children = list(node.value)
+            else:
+                children = []
+            for child in children:
+                part = size(child)
+                if part is None:
+                    return None
+                total += part
+            on_stack.discard(key)
+            self._sizes[key] = total
+            return total
+
+        return size(root)
+
+    def scalar(self, node: ScalarNode) -> Any:
+        if node.tag == _TIMESTAMP_TAG:
+            return node.value
+        if node.tag in _PLAIN_SCALAR_TAGS:
+            return self.constructor.yaml_constructors[node.tag](self.constructor, node)
+        self.problems.append(f"{self.at(node)} unsupported YAML tag {node.tag!r}; use plain "
+                             "text, numbers, true/false, lists and mappings")
+        return None
+
+    def build(self, node: Node, path: KeyPath) -> Any:
+        if isinstance(node, ScalarNode):
+            return self.scalar(node)
+        if isinstance(node, SequenceNode):
+            if node.tag != _SEQ_TAG:
+                self.problems.append(f"{self.at(node)} unsupported YAML tag {node.tag!r} on a list")
+            items = []
+            for index, item in enumerate(node.value):
+                self.positions[path + (index,)] = (item.start_mark.line + 1,
+                                                   item.start_mark.column + 1)
+                items.append(self.build(item, path + (index,)))
+            return items
+        if node.tag != _MAP_TAG:
+            self.problems.append(f"{self.at(node)} unsupported YAML tag {node.tag!r} on a mapping")
+        return self.mapping(node, path)
+
+    def mapping(self, node: MappingNode, path: KeyPath,
+                skip: frozenset[Any] = frozenset()) -> dict[Any, Any]:
+        result: dict[Any, Any] = {}
+        first_seen: dict[Any, int] = {}
+        merges: list[MappingNode] = []
+        for key_node, value_node in node.value:
+            if key_node.tag == _MERGE_TAG:
+                merges.extend(self.merge_sources(value_node))
+                continue
+            if not isinstance(key_node, ScalarNode):
+                self.problems.append(f"{self.at(key_node)} a key must be plain text, "
+                                     "not a list or mapping")
+                continue
+            key = self.scalar(key_node)
+            where = (key_node.start_mark.line + 1, key_node.start_mark.column + 1)
+            if key in first_seen:
+                shown = format_key_path(path + (key,))
+                self.problems.append(f"{_where(self.label, *where)} {shown}: duplicate key "
+                                     f"{key_node.value!r} (first given at line {first_seen[key]})")
+                continue
+            first_seen[key] = where[0]
+            if key in skip:
+                continue
+            self.positions[path + (key,)] = where
+            result[key] = self.build(value_node, path + (key,))
+        for source in merges:
+            result.update(self.mapping(source, path, skip=frozenset(result)))
+        return result
+
+    def merge_sources(self, value_node: Node) -> list[MappingNode]:
+        if isinstance(value_node, MappingNode):
+            return [value_node]
+        if isinstance(value_node, SequenceNode) and all(
+                isinstance(item, MappingNode) for item in value_node.value):
+            return list(value_node.value)
+        self.problems.append(f"{self.at(value_node)} a merge key (<<) needs a mapping "
+                             "or a list of mappings")
+        return []
+
+
+def load_user_yaml(path: str | os.PathLike[str], *, kind: str, max_bytes: int = 2_000_000,
+                   max_depth: int = 40, max_nodes: int = 200_000) -> LoadedYaml:
+    """Load a user-supplied YAML file safely, keeping the position of every key.
+
+    Parameters
+    ----------
+    path : str or os.PathLike
+        The file to read.
+    kind : str
+        What the file is ("protocol", "probe inventory", "local policy" ...);
+        used in messages.
+    max_bytes : int
+        Largest accepted file size. [bytes]
+    max_depth : int
+        Deepest accepted nesting of lists and mappings.
+    max_nodes : int
+        Most YAML nodes accepted, counting every alias expansion.
+
+    Returns
+    -------
+    LoadedYaml
+        Plain data plus key positions.
+
+    Raises
+    ------
+    DataError
+        When the file cannot be used; ``problems`` lists every problem found as
+        ``file:line:col: message`` (``file: message`` when no position applies).
+    ValueError
+        When a limit is not a positive integer.
+    """
+    for name, limit in (("max_bytes", max_bytes), ("max_depth", max_depth),
+                        ("max_nodes", max_nodes)):
+        if isinstance(limit, bool) or not isinstance(limit, int) or limit < 1:
+            raise ValueError(f"{name} must be a positive integer, got {limit!r}")
+    if max_depth > 500:
+        raise ValueError(f"max_depth must be at most 500, got {max_depth}")
+    file_path = Path(path)
+    label = str(path)
+    text = _read_text(file_path, label, kind, max_bytes)
+
+    problems = _check_events(text, label, max_depth, max_nodes)
+    if problems:
+        raise _refuse(label, kind, problems)
+    try:
+        root = yaml.compose(text, Loader=_LOADER)
+    except yaml.YAMLError as exc:
+        raise _refuse(label, kind, [_syntax_problem(label, text, exc)]) from None
+    if root is None:
+        raise _refuse(label, kind, [f"{label}: the file is empty; a {kind} file is a YAML "
+                                    "mapping (key: value lines)"])
+    builder = _Builder(label, max_nodes)
+    total = builder.expanded_size(root)
+    if total is not None and total > max_nodes:
+        builder.problems.append(
+            f"{builder.at(root)} aliases expand to {total:,} nodes, more than the limit of "
+            f"{max_nodes:,} (an alias bomb?)")
+    if builder.problems:
+        raise _refuse(label, kind, builder.problems)
+    if not isinstance(root, MappingNode):
+        shown = "a list" if isinstance(root, SequenceNode) else "a single value"
+        raise _refuse(label, kind, [f"{builder.at(root)} the top level is {shown}; a {kind} "
+                                    "file must be a mapping (key: value lines)"])
+    builder.positions[()] = (root.start_mark.line + 1, root.start_mark.column + 1)
+    data = builder.build(root, ())
+    if builder.problems:
+        raise _refuse(label, kind, list(dict.fromkeys(builder.problems)))
+    return LoadedYaml(data=data, path=file_path, positions=builder.positions)
+
+
+class ProblemCollector:
+    """Collect every problem of one file, each located at ``file:line:col: key.path``.
+
+    Parameters
+    ----------
+    path : str or os.PathLike
+        The file being validated (as it should appear in messages).
+    loaded : LoadedYaml, optional
+        Where key positions come from; without it problems carry no line.
+    """
+
+    def __init__(self, path: str | os.PathLike[str], loaded: LoadedYaml | None = None) -> None:
+        self.path = str(path)
+        self.loaded = loaded
+        self.problems: list[str] = []
+
+    def add(self, key_path: KeyPath, message: str, line: int | None = None) -> None:
+        """Record a problem at ``key_path`` (position looked up when ``line`` is None).
+
+        A key that is missing from the file is located at its nearest existing
+        ancestor (the mapping it should be in).
+        """
+        key_path = tuple(key_path)
+        column: int | None = None
+        if line is None and self.loaded is not None:
+            found = self.loaded.nearest_line_of(key_path)
+            if found is not None:
+                line, column = found
+        shown = format_key_path(key_path)
+        prefix = _where(self.path, line, column)
+        self.problems.append(f"{prefix} {shown}: {message}" if shown else f"{prefix} {message}")
+
+    def extend(self, problems: list[str]) -> None:
+        """Add already formatted problems (e.g. from a :class:`DataError`)."""
+        self.problems.extend(problems)
+
+    def __bool__(self) -> bool:
+        return bool(self.problems)
+
+    def raise_if_any(self, title: str = "Invalid file") -> None:
+        """Raise :class:`DataError` listing every problem, if there are any."""
+        if not self.problems:
+            return
+        count = len(self.problems)
+        noun = "problem" if count == 1 else "problems"
+        raise DataError(f"{self.path} has {count} {noun}; first: {self.problems[0]}",
+                        self.problems, title=title)
+
+
+_UMASK_LOCK = threading.Lock()
+
+
+def _default_mode() -> int:
+    with _UMASK_LOCK:
+        mask = os.umask(0o022)
+        os.umask(mask)
+    return 0o666 & ~mask
+
+
+def atomic_write_text(path: str | os.PathLike[str], text: str, *, overwrite: bool = False) -> None:
+    """Write ``text`` (UTF-8) to ``path`` atomically.
+
+    The text goes to a temporary file in the same folder, is flushed and
+    ``fsync``-ed, then moved over the target with ``os.replace``; on any error
+    the temporary file is removed and the target is untouched.
+
+    Parameters
+    ----------
+    path : str or os.PathLike
+        The file to write.
+    text : str
+        The complete new content.
+    overwrite : bool
+        Replace an existing file (the command line's ``--force``).
+
+    Raises
+    ------
+    InputError
+        When the file exists and ``overwrite`` is false, the target is a folder,
+        its folder does not exist, or the operating system refuses the write.
+    """
+    target = Path(path)
+    folder = target.parent
+    if target.is_dir():
+        raise InputError(f"{target} is a folder; give a file name to write")
+    if not folder.is_dir():
+        raise InputError(f"cannot write {target}: folder {folder} does not exist")
+    if target.exists() and not overwrite:
+        raise InputError(f"{target} exists; use --force to overwrite it")
+    mode = (target.stat().st_mode & 0o7777) if target.exists() else _default_mode()
+    try:
+        handle, temp_name = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".tmp",
+                                             dir=folder)
+    except OSError as exc:
+        raise InputError(f"cannot write {target}: {exc.strerror or exc}") from None
+    try:
+        with os.fdopen(handle, "w", encoding="utf-8", newline="") as stream:
+            stream.write(text)
+            stream.flush()
+            os.fsync(stream.fileno())
+        os.chmod(temp_name, mode)
+        if overwrite:
+            os.replace(temp_name, target)
+        else:
+            _move_no_clobber(temp_name, target)
+    except BaseException as exc:
+        with contextlib.suppress(OSError):
+            os.unlink(temp_name)
+        if isinstance(exc, OSError):
+            raise InputError(f"cannot write {target}: {exc.strerror or exc}") from None
+        raise
+    _fsync_folder(folder)
+
+
+def _move_no_clobber(temp_name: str, target: Path) -> None:
+    """Move without replacing a file that appeared meanwhile (hard link when possible)."""
+    try:
+        os.link(temp_name, target)
+    except FileExistsError:
+        raise InputError(f"{target} exists; use --force to overwrite it") from None
+    except OSError:
+        if target.exists():
+            raise InputError(f"{target} exists; use --force to overwrite it") from None
+        os.replace(temp_name, target)
+        return
+    os.unlink(temp_name)
+
+
+def _fsync_folder(folder: Path) -> None:
+    try:
+        fd = os.open(folder, os.O_RDONLY)
+    except OSError:
+        return
+    try:
+        os.fsync(fd)
+    except OSError:
+        pass
+    finally:
+        os.close(fd)
+
+
+class _PlainDumper(_DUMPER):  # type: ignore[misc, valid-type]
+    """Safe dumper that also writes tuples (as lists)."""
+
+
+_PlainDumper.add_representer(tuple, lambda dumper, data: dumper.represent_list(list(data)))
+
+
+def dump_yaml(data: Any) -> str:
+    """Return ``data`` as YAML text (safe types only, keys in the given order, Unicode kept)."""
+    return yaml.dump(data, Dumper=_PlainDumper, sort_keys=False, allow_unicode=True,
+                     default_flow_style=False)
