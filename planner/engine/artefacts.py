@@ -61,6 +61,8 @@ def edge_shadow_findings(ctx: RuleContext) -> list[Finding]:
         return []
     radius = max(radii)
     width = float(refraction.edge_shadow_width_mm(radius, around.speed_m_per_s, lumen.speed_m_per_s))
+    if width < 0.05:
+        return []
     return [Finding(
         "artefact.edge_shadow", "info", "Edge shadows at the rims",
         f"Rays grazing the curved wall of the {target.name.lower()} (radius about {radius:.0f} mm) refract "
@@ -133,7 +135,10 @@ def shadowing_findings(ctx: RuleContext) -> list[Finding]:
 
 def fluid_findings(ctx: RuleContext) -> list[Finding]:
     """Fluid on the path: a window that attenuates little, and posterior enhancement."""
-    fluid = [lay for lay in ctx.stack.layers if lay.tissue.kind == "fluid"]
+    layers = list(ctx.stack.layers)
+    if ctx.target.lumen_tissue and layers and layers[-1].tissue.id == ctx.target.lumen_tissue:
+        layers = layers[:-1]          # the target's own lumen is not a window above it
+    fluid = [lay for lay in layers if lay.tissue.kind == "fluid"]
     if not fluid:
         return []
     total = sum(lay.thickness_cm for lay in fluid)

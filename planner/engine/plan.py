@@ -11,6 +11,7 @@ from planner.body.walls import load_wall_models
 from planner.engine import artefacts, decisions, habitus_rules
 from planner.engine.assess import WindowAssessment, assess_window
 from planner.engine.context import RuleContext
+from planner.engine.doppler_plan import DOPPLER_PLAN_MODES, plan_doppler
 from planner.engine.request import PlanRequest
 from planner.errors import InputError
 from planner.findings import Finding, severity_rank
@@ -106,18 +107,21 @@ def rank_assessments(assessments: list[WindowAssessment]) -> tuple[list[WindowAs
     return ranked, reference
 
 
-def _exam_context(request: PlanRequest, target, chosen: WindowAssessment) -> ExamContext:
+def _exam_context(request: PlanRequest, target, chosen: WindowAssessment,
+                  doppler: dict | None) -> ExamContext:
     if request.context is not None:
         return request.context
     weeks = request.patient.gestation_weeks
     bone = target.target_tissue in BONE_TARGET_TISSUES or getattr(chosen.window, "bone_in_path", False) \
-        or target.id in ("fetal-head", "fetal-spine", "infant-hip")
+        or target.id in ("fetal-head", "fetal-spine", "infant-hip") \
+        or bool(doppler and doppler.get("safety", {}).get("bone_near_gate"))
+    modes = DOPPLER_PLAN_MODES if request.doppler else ("b_mode",)
     if target.exam_type in ("obstetric", "gynaecological"):
         return ExamContext(exam_type=target.exam_type, gestation_weeks=weeks,
                            pregnancy_possible=weeks is not None and target.exam_type == "gynaecological",
-                           bone_near_focus=bone)
+                           bone_near_focus=bone, modes=modes)
     pregnant = weeks is not None and not target.exam_type.startswith("neonatal")
-    return ExamContext(exam_type=target.exam_type, pregnancy_possible=pregnant,
+    return ExamContext(exam_type=target.exam_type, pregnancy_possible=pregnant, modes=modes,
                        bone_near_focus=bone, lung_in_beam=target.region == "thorax")
 
 
@@ -167,8 +171,16 @@ def make_plan(request: PlanRequest) -> Plan:
                 + artefacts.edge_shadow_findings(ctx) + artefacts.sound_speed_findings(ctx)
                 + artefacts.shadowing_findings(ctx) + artefacts.fluid_findings(ctx)
                 + habitus_rules.condition_findings(ctx))
+    doppler = None
+    if request.doppler:
+        doppler, doppler_findings = plan_doppler(target, chosen, chosen.best.probe if chosen.best else None,
+                                                 inventory, alternatives=ranked[1:])
+        findings += doppler_findings
+        if tilt["max_deviation_deg"] is not None:
+            tilt = dict(tilt, advice=tilt["advice"] + " For Doppler do the opposite: keep the "
+                        "beam-to-flow angle at 60 deg or less, not perpendicular (see Doppler).")
     findings.sort(key=lambda f: -severity_rank(f.severity))
-    exam = _exam_context(request, target, chosen)
+    exam = _exam_context(request, target, chosen, doppler)
     policy = load_local_policy(request.local_policy_path) if request.local_policy_path else None
     safety = safety_findings(exam, policy)
     opt = chosen.best
@@ -206,7 +218,7 @@ def make_plan(request: PlanRequest) -> Plan:
                  "attenuation_exponent": lay.tissue.attenuation_exponent,
                  "impedance_mrayl": round(lay.tissue.impedance_mrayl, 4)}
                 for lay in chosen.stack.layers],
-        budget_db=chosen.budget_db,
+        budget_db=chosen.budget_db, doppler=doppler,
         draft=request.draft,
         inputs={"target": target.id, "window": request.window_id, "exam_type": exam.exam_type,
                 "probes": inventory.origin, "local_policy": request.local_policy_path},
