@@ -49,6 +49,7 @@ def request_from_args(args):
     """Build a PlanRequest from parsed arguments (InputError on impossible values)."""
     from planner.body.conditions import parse_condition
     from planner.body.patient import Patient
+    from planner.engine.plan import bone_near_focus
     from planner.engine.request import PlanRequest
     from planner.library.targets import load_library
     from planner.safety import ExamContext
@@ -80,8 +81,8 @@ def request_from_args(args):
                 args.gestation_weeks is not None and exam != "obstetric"),
             modes=tuple(modes), contrast_agent=args.contrast, febrile=args.febrile,
             lung_in_beam=args.lung_in_beam or target.region == "thorax",
-            bone_near_focus=target.target_tissue in ("cortical_bone", "cartilage")
-            or target.id in ("fetal-head", "fetal-spine", "infant-hip"),
+            bone_near_focus=bone_near_focus(target, target.windows[0] if not args.window
+                                            else target.window(args.window)),
             expected_ti=args.expected_ti, planned_minutes=args.minutes,
             expected_mi=args.expected_mi)
     return PlanRequest(target_id=target.id, patient=patient, window_id=args.window, context=context,

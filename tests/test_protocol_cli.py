@@ -74,6 +74,7 @@ def test_protocol_without_subcommand_is_a_usage_error():
 def test_register_returns_the_protocol_subcommands_for_more_commands():
     parser = argparse.ArgumentParser(prog="scanplan")
     commands = register(parser.add_subparsers(dest="command"))
-    sheet = commands.add_parser("sheet")
-    sheet.set_defaults(func=lambda args: 0)
-    assert parser.parse_args(["protocol", "sheet"]).func(None) == 0
+    extra = commands.add_parser("example-extra")
+    extra.set_defaults(func=lambda args: 0)
+    assert parser.parse_args(["protocol", "example-extra"]).func(None) == 0
+    assert parser.parse_args(["protocol", "sheet", "x.yaml"]).command == "protocol"

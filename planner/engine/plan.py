@@ -22,6 +22,15 @@ from planner.safety import DISCLAIMER, ExamContext, load_local_policy, monitored
 
 SCHEMA_VERSION = 1
 BONE_TARGET_TISSUES = frozenset({"cortical_bone", "cartilage"})
+BONE_NEAR_FOCUS_TARGETS = frozenset({"fetal-head", "fetal-spine", "infant-hip"})
+"""Targets whose focus lies at or near bone, so TIB applies and pulsed-Doppler times are cut."""
+
+
+def bone_near_focus(target, window=None) -> bool:
+    """True when bone lies at or near the focus: bone or cartilage targets, the fetal head and
+    spine, the infant hip, or bone on the window's path (the safety rules then use TIB)."""
+    return (target.target_tissue in BONE_TARGET_TISSUES or target.id in BONE_NEAR_FOCUS_TARGETS
+            or bool(getattr(window, "bone_in_path", False)))
 
 
 @dataclass(frozen=True)
@@ -112,8 +121,7 @@ def _exam_context(request: PlanRequest, target, chosen: WindowAssessment,
     if request.context is not None:
         return request.context
     weeks = request.patient.gestation_weeks
-    bone = target.target_tissue in BONE_TARGET_TISSUES or getattr(chosen.window, "bone_in_path", False) \
-        or target.id in ("fetal-head", "fetal-spine", "infant-hip") \
+    bone = bone_near_focus(target, chosen.window) \
         or bool(doppler and doppler.get("safety", {}).get("bone_near_gate"))
     modes = DOPPLER_PLAN_MODES if request.doppler else ("b_mode",)
     if target.exam_type in ("obstetric", "gynaecological"):

@@ -153,10 +153,34 @@ def default_inventory() -> ProbeInventory:
     return ProbeInventory(probes, "default generic inventory")
 
 
+_CACHE: dict[tuple, ProbeInventory] = {}
+
+
 def load_inventory(path: str | Path | None = None) -> ProbeInventory:
-    """Load a department inventory file (every problem reported), or the default one."""
+    """Load a department inventory file (every problem reported), or the default one.
+
+    Parsed files are cached on (resolved path, modification time, size), so a protocol
+    sheet that plans 120 views reads its inventory once; an edited file is read again.
+    """
     if path is None:
         return default_inventory()
+    try:
+        resolved = Path(path).resolve()
+        stat = resolved.stat()
+        key = (str(resolved), stat.st_mtime_ns, stat.st_size)
+    except OSError:
+        key = None
+    if key is not None and key in _CACHE:
+        return _CACHE[key]
+    inventory = _read_inventory(path)
+    if key is not None:
+        if len(_CACHE) > 32:
+            _CACHE.clear()
+        _CACHE[key] = inventory
+    return inventory
+
+
+def _read_inventory(path: str | Path) -> ProbeInventory:
     from planner.yamlio import ProblemCollector, load_user_yaml
 
     loaded = load_user_yaml(path, kind="probe inventory")

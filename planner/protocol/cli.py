@@ -1,4 +1,4 @@
-"""Command-line subcommands for protocols: ``protocol check`` and ``protocol schema``.
+"""Command-line subcommands for protocols: ``protocol check``, ``schema`` and ``sheet``.
 
 ``scanplan protocol check FILE...`` prints every problem of every file on stdout,
 one per line (``file:line:col: key.path: message``), then one summary line; it
@@ -7,6 +7,12 @@ A missing or unreadable file is a problem of that file, not a crash.
 
 ``scanplan protocol schema [-o OUT] [--force]`` writes the JSON Schema of the
 protocol format to stdout or, atomically, to ``OUT``.
+
+``scanplan protocol sheet FILE [--habitus CLASSES] [--probes FILE] [--local FILE]
+[--format md|html|json] [-o OUT] [--force]`` writes the protocol sheet (every view for
+every WHO habitus class, scan time against the TI limits, safety, the statement); see
+:mod:`planner.protocol.sheet`. An unknown habitus class is a usage error (exit 2); an
+invalid or missing protocol, inventory or policy file exits 1 listing every problem.
 """
 
 from __future__ import annotations
@@ -16,24 +22,29 @@ import json
 import sys
 from typing import TextIO
 
+from planner.body.habitus import BMI_CLASSES
 from planner.errors import ExitCode
 from planner.protocol.jsonschema import protocol_json_schema
 from planner.protocol.loader import check_files
 from planner.yamlio import atomic_write_text
 
-__all__ = ["register", "run_check", "run_schema"]
+__all__ = ["register", "run_check", "run_schema", "run_sheet"]
+
+SHEET_FORMATS: tuple[str, ...] = ("md", "html", "json")
+"""Formats of ``protocol sheet`` (the same as :data:`planner.protocol.sheet.FORMATS`)."""
 
 
 def register(subparsers: argparse._SubParsersAction) -> argparse._SubParsersAction:
-    """Add the ``protocol`` command (with ``check`` and ``schema``) to ``subparsers``.
+    """Add the ``protocol`` command (``check``, ``schema``, ``sheet``) to ``subparsers``.
 
     Each leaf parser sets ``func=callable(args) -> int``. Returns the sub-command
-    action of ``protocol``, so that further commands (e.g. ``sheet``) can be added
-    with its ``add_parser``.
+    action of ``protocol``, so that further commands can be added with its
+    ``add_parser``. The sheet module (and the plan engine) load only when ``sheet`` runs.
     """
     parser = subparsers.add_parser(
-        "protocol", help="check department protocol files, export their JSON Schema",
-        description="Department protocol files: validate them or export their JSON Schema.")
+        "protocol", help="check protocol files, export their JSON Schema, write protocol sheets",
+        description="Department protocol files: validate them, export their JSON Schema or "
+                    "write a protocol sheet.")
     commands = parser.add_subparsers(dest="protocol_command", metavar="COMMAND")
     commands.required = True
 
@@ -54,6 +65,26 @@ def register(subparsers: argparse._SubParsersAction) -> argparse._SubParsersActi
                         help="write to this file (atomically) instead of stdout")
     schema.add_argument("--force", action="store_true", help="overwrite OUT if it exists")
     schema.set_defaults(func=run_schema)
+
+    sheet = commands.add_parser(
+        "sheet", help="write the protocol sheet: every view for every habitus class",
+        description="Plan every view of a protocol for each WHO BMI class and write the sheet: "
+                    "probe, band, harmonic imaging, window, tilt and main cautions per view "
+                    "and class; planned time against the TI limits; safety; the statement.")
+    sheet.add_argument("file", metavar="FILE", help="protocol YAML file")
+    sheet.add_argument("--habitus", metavar="CLASSES",
+                       help="comma list of WHO classes (default all): "
+                            + ",".join(c[0] for c in BMI_CLASSES))
+    sheet.add_argument("--probes", metavar="FILE",
+                       help="probe inventory instead of the one the protocol names")
+    sheet.add_argument("--local", metavar="FILE",
+                       help="local safety policy (default: the protocol's own limits)")
+    sheet.add_argument("--format", choices=SHEET_FORMATS, default="md",
+                       help="md (default), html (printable, with depth plots) or json")
+    sheet.add_argument("-o", "--output", metavar="OUT",
+                       help="write to this file (atomically) instead of stdout")
+    sheet.add_argument("--force", action="store_true", help="overwrite OUT if it exists")
+    sheet.set_defaults(func=run_sheet)
     return commands
 
 
@@ -82,6 +113,25 @@ def run_check(args: argparse.Namespace, out: TextIO | None = None) -> int:
 def run_schema(args: argparse.Namespace, out: TextIO | None = None) -> int:
     """Run ``protocol schema``; return the exit code (``InputError`` if OUT exists)."""
     text = json.dumps(protocol_json_schema(), indent=2) + "\n"
+    if getattr(args, "output", None):
+        atomic_write_text(args.output, text, overwrite=bool(getattr(args, "force", False)))
+    else:
+        (out if out is not None else sys.stdout).write(text)
+    return int(ExitCode.OK)
+
+
+def run_sheet(args: argparse.Namespace, out: TextIO | None = None) -> int:
+    """Run ``protocol sheet``; return the exit code.
+
+    Raises ``InputError`` (exit 2) for an unknown habitus class or an existing OUT without
+    ``--force``, ``DataError`` (exit 1) for an invalid or missing file.
+    """
+    from planner.protocol.sheet import parse_habitus, render_sheet, sheet_from_file
+
+    classes = parse_habitus(getattr(args, "habitus", None))
+    sheet = sheet_from_file(args.file, habitus=classes, probes_path=getattr(args, "probes", None),
+                            local_path=getattr(args, "local", None))
+    text = render_sheet(sheet, getattr(args, "format", None) or "md")
     if getattr(args, "output", None):
         atomic_write_text(args.output, text, overwrite=bool(getattr(args, "force", False)))
     else:

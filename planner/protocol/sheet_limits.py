@@ -1,0 +1,101 @@
+"""Scan time and local limits of a protocol sheet.
+
+The planned minutes of a protocol (the sum of its views' expected minutes) are compared,
+at the expected thermal index, with the published scan-time tables (BMUS2009,
+BMUS2009Detailed, AIUM2022TI), with a local policy file when one is given and with the
+protocol's own limits; all are shown side by side, the published value never hidden.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+from typing import Any
+
+from planner.protocol.schema import Protocol
+from planner.safety import ExamContext, LocalPolicy
+from planner.safety.policy import LocalExamLimits
+from planner.safety.tables import safety_data
+from planner.safety.thermal import scan_time_group
+
+__all__ = ["expected_ti_for", "protocol_policy", "time_section"]
+
+
+def protocol_policy(protocol: Protocol, protocol_path: Any) -> LocalPolicy | None:
+    """The protocol's own safety limits as a local policy (``None`` when it sets none)."""
+    s = protocol.safety
+    if s.max_scan_minutes is None and s.max_ti is None and s.max_mi is None:
+        return None
+    limits = LocalExamLimits(*(None if x is None else float(x.value)
+                               for x in (s.max_ti, s.max_mi, s.max_scan_minutes)))
+    name = Path(protocol_path).name if protocol_path is not None else ""
+    return LocalPolicy(protocol.department, name, protocol.version,
+                       exam_limits={protocol.exam_type: limits})
+
+
+def _limit_row(kind: str, label: str, band: str | None, limit_kind: str,
+               minutes: float | None, max_ti: float | None, source: str, status: str,
+               planned: float) -> dict[str, Any]:
+    if limit_kind == "limited":
+        within = planned <= minutes
+    else:
+        within = None if limit_kind == "none" else limit_kind == "unlimited"
+    return {"kind": kind, "label": label, "band": band, "limit": limit_kind,
+            "max_minutes": minutes, "max_ti": max_ti, "source": source, "status": status,
+            "within": within}
+
+
+def time_section(protocol: Protocol, ctx: ExamContext, finding, basis: str,
+                 local: LocalPolicy | None) -> dict[str, Any]:
+    """Planned minutes against the published, local (file) and protocol limits.
+
+    ``ctx`` carries the planned minutes and expected TI, ``finding`` is its
+    ``safety.scan_time`` finding, ``local`` the policy given as a file (``None`` when the
+    protocol's own limits act as local policy: they get their own row anyway).
+    """
+    planned = float(ctx.planned_minutes)
+    values = finding.values
+    limits = []
+    for t in values.get("tables", []):
+        limits.append(_limit_row("published", t["title"], t["band"], t["kind"], t["limit_min"],
+                                 None, t["source"], t["status"], planned))
+    if local is not None:
+        minutes = local.time_limit_min(ctx.exam_type, ctx.expected_ti)
+        limits.append(_limit_row("local", local.label, None,
+                                 "limited" if minutes is not None else "none", minutes,
+                                 local.limits_for(ctx.exam_type).max_ti, local.source_key,
+                                 "local", planned))
+    s = protocol.safety
+    if s.max_scan_minutes is not None or s.max_ti is not None:
+        ref = s.max_scan_minutes or s.max_ti
+        limits.append(_limit_row(
+            "protocol", f"protocol {protocol.id}", None,
+            "limited" if s.max_scan_minutes is not None else "none",
+            None if s.max_scan_minutes is None else float(s.max_scan_minutes.value),
+            None if s.max_ti is None else float(s.max_ti.value), ref.source, ref.status, planned))
+    group = scan_time_group(ctx)
+    tables = safety_data().group_tables(group) if group != "none" else ()
+    published = [{"title": t.title.split(",")[0].strip(), "source": t.source,
+                  "rows": [{"band": r.band_text(), "limit": r.kind, "max_minutes": r.max_minutes,
+                            "status": r.status} for r in t.rows]} for t in tables]
+    most = []
+    for t in tables:
+        best = t.max_ti_for_minutes(planned)
+        most.append({"title": t.title.split(",")[0].strip(), "source": t.source,
+                     "max_ti": None if best is None or best == float("inf") else best})
+    return {"planned_minutes": planned, "monitored_index": values["monitored_index"],
+            "expected_ti": ctx.expected_ti, "expected_ti_basis": basis, "limits": limits,
+            "max_ti_for_planned": most, "published_tables": published,
+            "severity": finding.severity, "message": finding.message}
+
+
+def expected_ti_for(protocol: Protocol, local: LocalPolicy | None) -> tuple[float | None, str]:
+    """The TI at which limits are read, and why: the protocol's highest accepted TI, else
+    the local policy's, else none (the tables are then listed band by band)."""
+    if protocol.safety.max_ti is not None:
+        ti = protocol.safety.max_ti
+        return float(ti.value), (f"the protocol's highest accepted TI ({ti.source}, {ti.status}): "
+                                 "limits are read at the worst case the protocol allows")
+    if local is not None and local.limits_for(protocol.exam_type).max_ti is not None:
+        return (float(local.limits_for(protocol.exam_type).max_ti),
+                f"the highest TI of the {local.label}")
+    return None, "none given: the published tables are listed band by band"
