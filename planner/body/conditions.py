@@ -91,6 +91,16 @@ def parse_condition(text: str) -> tuple[str, int]:
 
 
 def check_conditions(conditions: dict[str, int]) -> None:
-    """Refuse contradictory conditions (full and empty bladder together)."""
+    """Refuse unknown conditions, grades outside their range and contradictions."""
+    if not isinstance(conditions, dict):
+        raise InputError(f"conditions must map a condition to its grade, got {conditions!r}")
+    for name, grade in conditions.items():
+        spec = CONDITIONS.get(name)
+        if spec is None:
+            raise InputError(f"unknown condition {name!r}; valid conditions: "
+                             f"{', '.join(sorted(CONDITIONS))}")
+        if isinstance(grade, bool) or grade not in spec.grades:
+            raise InputError(f"condition {name} takes grade {', '.join(map(str, spec.grades))}, "
+                             f"got {grade!r}")
     if "full_bladder" in conditions and "empty_bladder" in conditions:
         raise InputError("conditions full_bladder and empty_bladder contradict each other")

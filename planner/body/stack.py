@@ -107,8 +107,9 @@ def wall_model_layers(model: WallModel, patient: Patient, wall_factor: float,
     if model.pannus and patient.bmi >= PANNUS_BMI and patient.wall_mm is None \
             and patient.fat_mm is None and "subcutaneous_fat" in roles:
         i = roles.index("subcutaneous_fat")
-        through, lifted = pannus_fat_mm(patient.bmi)
-        median[i], low[i], high[i] = lifted, lifted * 0.67, through
+        lifted, through = (float(v) for v in pannus_fat_mm(model, patient.bmi, patient.sex))
+        lifted, through = lifted * wall_factor, through * wall_factor
+        median[i], low[i], high[i] = lifted, min(low[i], lifted), max(high[i], through)
         notes.append(f"{window_label}: pannus assumed lifted (fold fat {lifted:.0f} mm; "
                      f"through the pannus about {through:.0f} mm)")
     if model.id == "pregnancy_lower" and (patient.gestation_weeks or 0) >= 28 and patient.bmi >= 25:

@@ -114,11 +114,24 @@ def wall_layers_mm(model: WallModel, bmi, sex: str | None = None, z: float = 0.0
 PANNUS_BMI: float = 40.0
 """BMI from which a hanging pannus is assumed over suprapubic windows (Seif2023Pannus; from memory). [kg/m^2]"""
 
+PANNUS_LIFTED_SLOPE_MM_PER_BMI: float = 0.8
+"""Growth of the fat in the fold under a lifted pannus per BMI unit above 40 (from memory;
+HabitusPracticeModel). [mm per kg/m^2]"""
 
-def pannus_fat_mm(bmi: float) -> tuple[float, float]:
-    """Subcutaneous fat through the pannus and in the fold under the lifted pannus. [mm]
 
-    ``60 + 3 (BMI - 40)`` and ``25 + 0.8 (BMI - 40)`` (from memory; HabitusPracticeModel).
+def pannus_fat_mm(model: WallModel, bmi, sex: str | None = None):
+    """Subcutaneous fat in the fold under a lifted pannus, and through the pannus itself. [mm]
+
+    Under the lifted fold the fat continues from the window's model value at BMI 40 and grows
+    0.8 mm per BMI unit (so the estimate has no step at 40); through the pannus it is about
+    ``60 + 3 (BMI - 40)`` mm (both from memory, HabitusPracticeModel; Seif2023Pannus describes the
+    hanging pannus). Below BMI 40 both equal the model value. Vectorised over ``bmi``.
     """
-    excess = max(0.0, min(bmi, BMI_MODEL_RANGE[1]) - PANNUS_BMI)
-    return 60.0 + 3.0 * excess, 25.0 + 0.8 * excess
+    b = np.clip(np.asarray(bmi, dtype=float), *BMI_MODEL_RANGE)
+    i = [lay.role for lay in model.layers].index("subcutaneous_fat")
+    regular = wall_layers_mm(model, b, sex)[..., i]
+    at_40 = wall_layers_mm(model, PANNUS_BMI, sex)[..., i]
+    excess = np.maximum(b - PANNUS_BMI, 0.0)
+    lifted = np.where(b >= PANNUS_BMI, at_40 + PANNUS_LIFTED_SLOPE_MM_PER_BMI * excess, regular)
+    through = np.where(b >= PANNUS_BMI, np.maximum(60.0 + 3.0 * excess, regular), regular)
+    return lifted, through

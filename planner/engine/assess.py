@@ -111,7 +111,9 @@ def _rank_key(option: ProbeOption, preferred: list[str]):
     pref = preferred.index(option.probe.type) if option.probe.type in preferred else len(preferred)
     usable = option.fit in ("fits", "aligned")
     reaches = option.high_mhz >= option.probe.low_mhz
-    return (not usable, not option.feasible, not reaches, pref, option.fit != "fits",
+    # When nothing reaches, the most penetrating probe (lowest band) is the sensible choice.
+    order = pref if reaches else option.probe.low_mhz
+    return (not usable, not option.feasible, not reaches, order, option.fit != "fits",
             -option.high_mhz)
 
 

@@ -11,7 +11,7 @@ import numpy as np
 
 from planner.body.patient import Patient
 from planner.body.stack import FAT_ROLES, PREGNANCY_LATE_FAT_FACTOR, build_stack
-from planner.body.walls import BMI_MODEL_RANGE, PANNUS_BMI, load_wall_models, wall_layers_mm
+from planner.body.walls import load_wall_models, pannus_fat_mm, wall_layers_mm
 from planner.engine.assess import signal_budget_db
 from planner.library.probes import ProbeInventory, default_inventory
 from planner.library.targets import load_library
@@ -61,9 +61,8 @@ def sweep(target_id: str, bmi, *, window_id: str | None = None, sex: str | None 
     wall = wall_layers_mm(model, b, sex) * window.wall_factor / 10.0          # (N, n_wall) cm
     roles = [lay.role for lay in model.layers]
     if model.pannus and "subcutaneous_fat" in roles:
-        i = roles.index("subcutaneous_fat")
-        lifted = (25.0 + 0.8 * np.clip(b - PANNUS_BMI, 0, BMI_MODEL_RANGE[1] - PANNUS_BMI)) / 10.0
-        wall[:, i] = np.where(b >= PANNUS_BMI, lifted, wall[:, i])
+        lifted, _ = pannus_fat_mm(model, b, sex)
+        wall[:, roles.index("subcutaneous_fat")] = lifted * window.wall_factor / 10.0
     if model.id == "pregnancy_lower" and (gestation_weeks or 0) >= 28:
         fat_cols = [r in FAT_ROLES for r in roles]
         wall[:, fat_cols] *= np.where(b >= 25, PREGNANCY_LATE_FAT_FACTOR, 1.0)[:, None]

@@ -229,9 +229,13 @@ def _interface_steps_db(layers: Sequence[LayerAcoustics], tops: np.ndarray,
 def plan_budget_db(plan: Mapping[str, Any]) -> float | None:
     """The signal budget a plan used. [dB]
 
-    Read from the plan's findings (``values.budget_db``); when none states it, the
-    engine's budget for the plan's target is used; None if neither is available.
+    Read from the plan's ``budget_db``, else from its findings (``values.budget_db``);
+    when none states it, the engine's budget for the plan's target is used; None if
+    neither is available.
     """
+    value = plan.get("budget_db")
+    if isinstance(value, (int, float)) and not isinstance(value, bool):
+        return float(value)
     for finding in plan.get("findings", []) or []:
         value = (finding.get("values") or {}).get("budget_db")
         if isinstance(value, (int, float)) and not isinstance(value, bool):
@@ -250,8 +254,9 @@ def plan_budget_db(plan: Mapping[str, Any]) -> float | None:
 def candidate_frequencies_mhz(plan: Mapping[str, Any]) -> tuple[float, ...]:
     """Two or three frequencies worth comparing on the plot. [MHz]
 
-    The low and high ends of the recommended band and, when the probe goes higher, a
-    frequency above the band (to show what the budget forbids). Without a band, the
+    The low and high ends of the recommended band (the high end no higher than the exact
+    reach ceiling) and, when the probe goes higher, a frequency above the band (to show
+    what the budget forbids). Without a band, the
     window's reach ceiling and the probe's band ends are used.
     """
     band = plan.get("frequency_mhz") or {}
@@ -260,10 +265,13 @@ def candidate_frequencies_mhz(plan: Mapping[str, Any]) -> tuple[float, ...]:
     window = plan.get("window") or {}
     picks: list[float] = []
     low, high = band.get("low"), band.get("high")
+    ceiling = window.get("reach_ceiling_mhz")
     if low and high:
-        picks += [float(low), float(high)]
+        top = float(high)
+        if ceiling and float(ceiling) < top:
+            top = float(ceiling)          # the band's end is rounded; the ceiling is exact
+        picks += [float(low), top]
     else:
-        ceiling = window.get("reach_ceiling_mhz")
         if ceiling:
             picks.append(float(ceiling))
         picks += [float(f) for f in probe_band[:1]]
@@ -273,7 +281,7 @@ def candidate_frequencies_mhz(plan: Mapping[str, Any]) -> tuple[float, ...]:
     picks.append(above)
     out: list[float] = []
     for f in sorted(picks):
-        f = round(f, 1)
+        f = round(f, 2)
         if f > 0 and all(abs(f - g) >= 0.1 for g in out):
             out.append(f)
     return tuple(out[:3])

@@ -1,0 +1,441 @@
+"""Saved plans: the inputs of one plan as a YAML file, recomputed on load.
+
+A plan file holds the *request* (patient, target, window, conditions, exam context,
+supervised-draft switch and sign-off fields), never the computed plan, so a loaded plan
+always reflects the current engine and data. The format (``schema_version: 1``)::
+
+    schema_version: 1
+    target: liver
+    window: null              # null: rank every candidate window
+    patient:
+      bmi: 38                 # or height_cm and weight_kg
+      height_cm: null
+      weight_kg: null
+      sex: null               # female, male or null (unknown)
+      wall_mm: null           # measured body-wall thickness [mm]
+      depth_cm: null          # measured skin-to-target depth [cm]
+      gestation_weeks: null
+      conditions: {steatosis: 2}
+    exam:
+      type: null              # null: the target's usual exam type
+      modes: [b_mode]
+      contrast_agent: false
+      febrile: false
+      pregnancy_possible: false
+      expected_ti: null
+      planned_minutes: null
+    supervision:
+      draft: false
+      student: ''
+      supervisor: ''
+      date: ''
+      supervisor_comments: ''
+      student_reflection: ''
+
+Missing keys take these defaults; unknown keys, wrong types and impossible values are
+reported all at once with their line (:class:`planner.errors.DataError`). Files are
+written atomically. :func:`check_inputs` gives the per-field problems that the terminal
+UI shows next to each field. The engine and the YAML reader are imported only when
+needed, so that the terminal UI can paint before loading them.
+"""
+
+from __future__ import annotations
+
+import math
+import os
+from dataclasses import dataclass, field, fields
+from typing import Any
+
+from planner.errors import InputError, PlannerError
+
+__all__ = ["SCHEMA_VERSION", "PlanInputs", "SignOff", "check_inputs", "custom_context",
+           "exam_context", "inputs_from_data", "inputs_to_data", "load_plan_inputs",
+           "make_plan_for", "save_plan_inputs", "to_request"]
+
+SCHEMA_VERSION: int = 1
+"""The ``schema_version`` a plan file declares."""
+
+KIND = "plan file"
+
+
+@dataclass(frozen=True)
+class SignOff:
+    """Sign-off fields of a supervised draft (free text; the signature stays handwritten)."""
+
+    student: str = ""
+    supervisor: str = ""
+    date: str = ""
+    supervisor_comments: str = ""
+    student_reflection: str = ""
+
+    def as_report_fields(self) -> dict[str, str]:
+        """The fields under the names the plan documents print."""
+        return {"Student": self.student, "Supervisor": self.supervisor, "Date": self.date,
+                "Supervisor's comments": self.supervisor_comments,
+                "Student's reflection": self.student_reflection}
+
+
+@dataclass(frozen=True)
+class PlanInputs:
+    """Everything a user enters for one plan (units in the names; None = not given)."""
+
+    target_id: str = "liver"
+    window_id: str | None = None
+    bmi: float | None = None
+    height_cm: float | None = None
+    weight_kg: float | None = None
+    sex: str | None = None
+    wall_mm: float | None = None
+    depth_cm: float | None = None
+    gestation_weeks: float | None = None
+    conditions: tuple[tuple[str, int], ...] = ()
+    exam_type: str | None = None
+    modes: tuple[str, ...] = ("b_mode",)
+    contrast_agent: bool = False
+    febrile: bool = False
+    pregnancy_possible: bool = False
+    expected_ti: float | None = None
+    planned_minutes: float | None = None
+    draft: bool = False
+    signoff: SignOff = field(default_factory=SignOff)
+
+
+# -- requests -------------------------------------------------------------------------------
+def _patient(inputs: PlanInputs, **only):
+    from planner.body.patient import Patient
+    if only:
+        return Patient.from_inputs(**only)
+    return Patient.from_inputs(bmi=inputs.bmi, height_cm=inputs.height_cm,
+                               weight_kg=inputs.weight_kg, sex=inputs.sex,
+                               conditions=dict(inputs.conditions),
+                               gestation_weeks=inputs.gestation_weeks, wall_mm=inputs.wall_mm,
+                               depth_cm=inputs.depth_cm)
+
+
+def custom_context(inputs: PlanInputs) -> bool:
+    """True when the user set any exam-context field (otherwise the engine decides)."""
+    return (inputs.exam_type is not None or tuple(inputs.modes) != ("b_mode",)
+            or inputs.contrast_agent or inputs.febrile or inputs.pregnancy_possible
+            or inputs.expected_ti is not None or inputs.planned_minutes is not None)
+
+
+def exam_context(inputs: PlanInputs, target, *, window=None, bone_near_gate: bool = False):
+    """The exam context the user asked for, or None to let the engine choose it.
+
+    Bone near the focus follows the target tissue, the window (``window``, else the chosen
+    or the usual window) and a Doppler gate near bone; aerated lung is in the beam for
+    thorax targets. A gestational age marks a possible pregnancy in non-obstetric exams.
+    """
+    exam_type = inputs.exam_type or target.exam_type
+    weeks, possible = inputs.gestation_weeks, inputs.pregnancy_possible
+    if exam_type.startswith("neonatal") and (weeks is not None or possible):
+        raise InputError(f"a gestational age or possible pregnancy does not apply to a "
+                         f"{exam_type.replace('_', ' ')} exam")
+    if not custom_context(inputs):
+        return None
+    from planner.engine.plan import BONE_TARGET_TISSUES
+    from planner.safety import ExamContext
+    if window is None:
+        window = target.window(inputs.window_id) if inputs.window_id else target.windows[0]
+    bone = target.target_tissue in BONE_TARGET_TISSUES or window.bone_in_path or bone_near_gate
+    lung = target.region == "thorax"
+    if exam_type == "obstetric":
+        ctx_weeks, lung = weeks, False
+    elif exam_type == "gynaecological":
+        ctx_weeks, possible, lung = weeks, possible or weeks is not None, False
+    elif exam_type.startswith("neonatal"):
+        ctx_weeks = None
+    else:
+        ctx_weeks, possible = None, possible or weeks is not None
+    return ExamContext(exam_type=exam_type, gestation_weeks=ctx_weeks, pregnancy_possible=possible,
+                       modes=inputs.modes, contrast_agent=inputs.contrast_agent,
+                       febrile=inputs.febrile, lung_in_beam=lung, bone_near_focus=bone,
+                       expected_ti=inputs.expected_ti, planned_minutes=inputs.planned_minutes)
+
+
+def to_request(inputs: PlanInputs, *, window_id: str | None = None, bone_near_gate: bool = False):
+    """Turn the inputs into a :class:`planner.engine.PlanRequest` (InputError if impossible).
+
+    Doppler planning is asked for when a Doppler mode is planned. ``window_id`` and
+    ``bone_near_gate`` refine the exam context once a first plan has chosen its window.
+    """
+    from planner.engine.request import PlanRequest
+    from planner.library.targets import load_library
+    from planner.safety.context import DOPPLER_MODES
+    target = load_library().get(inputs.target_id)
+    if inputs.window_id:
+        target.window(inputs.window_id)
+    window = target.window(window_id) if window_id else None
+    return PlanRequest(target_id=target.id, patient=_patient(inputs), window_id=inputs.window_id,
+                       context=exam_context(inputs, target, window=window,
+                                            bone_near_gate=bone_near_gate),
+                       doppler=any(m in DOPPLER_MODES for m in inputs.modes), draft=inputs.draft)
+
+
+def make_plan_for(inputs: PlanInputs):
+    """The plan for ``inputs`` (a :class:`planner.engine.Plan`; InputError if impossible).
+
+    With a user-set exam context the plan is made twice when needed: the second time with
+    bone near the focus judged on the window the first plan chose and on its Doppler gate.
+    """
+    from planner.engine import make_plan
+    request = to_request(inputs)
+    plan = make_plan(request)
+    if request.context is None:
+        return plan
+    gate = bool(((plan.doppler or {}).get("safety") or {}).get("bone_near_gate"))
+    refined = to_request(inputs, window_id=plan.window["id"], bone_near_gate=gate)
+    return plan if refined.context == request.context else make_plan(refined)
+
+
+_CONTEXT_FIELDS = (("expected_ti", "expected_ti"), ("planned_minutes", "planned_minutes"),
+                   ("gestation", "gestation_weeks"), ("pregnan", "pregnancy_possible"),
+                   ("modes", "modes"))
+
+
+def _try(problems: dict[str, str], name: str, call) -> Any:
+    if name in problems:
+        return None
+    try:
+        return call()
+    except (PlannerError, ValueError) as exc:
+        problems[name] = getattr(exc, "message", None) or str(exc)
+        return None
+
+
+def check_inputs(inputs: PlanInputs) -> dict[str, str]:
+    """Problems of the inputs, by field name (empty when a plan can be computed).
+
+    Each field is checked on its own first, so that a message lands next to the field that
+    causes it; then the pairs that depend on each other (BMI or height and weight, wall and
+    depth) and the exam context.
+    """
+    from planner.body.conditions import check_conditions, parse_condition
+    from planner.body.habitus import check_sex
+    from planner.library.targets import load_library
+    problems: dict[str, str] = {}
+    target = _try(problems, "target_id", lambda: load_library().get(inputs.target_id))
+    if target is not None and inputs.window_id:
+        _try(problems, "window_id", lambda: target.window(inputs.window_id))
+    for name in ("bmi", "wall_mm", "depth_cm", "gestation_weeks"):
+        if getattr(inputs, name) is not None:
+            _try(problems, name, lambda n=name: _patient(inputs, **{n: getattr(inputs, n)}))
+    _try(problems, "sex", lambda: check_sex(inputs.sex))
+    given = [n for n in ("height_cm", "weight_kg") if getattr(inputs, n) is not None]
+    if len(given) == 1:
+        other = "weight_kg" if given[0] == "height_cm" else "height_cm"
+        problems[other] = "give the height and the weight together"
+    elif given:
+        _try(problems, "height_cm", lambda: _patient(inputs, height_cm=inputs.height_cm,
+                                                     weight_kg=inputs.weight_kg))
+        if "weight" in problems.get("height_cm", ""):
+            problems["weight_kg"] = problems.pop("height_cm")
+        if inputs.bmi is not None and "bmi" not in problems:
+            problems["bmi"] = "give either a BMI or a height and weight, not both"
+
+    def conditions() -> None:
+        for name, grade in inputs.conditions:
+            parse_condition(f"{name}:{grade}")
+        check_conditions(dict(inputs.conditions))
+    _try(problems, "conditions", conditions)
+    if inputs.wall_mm is not None and inputs.depth_cm is not None:
+        _try(problems, "depth_cm", lambda: _patient(inputs, wall_mm=inputs.wall_mm,
+                                                    depth_cm=inputs.depth_cm))
+    for name in ("expected_ti", "planned_minutes"):
+        value = getattr(inputs, name)
+        if value is not None and (not math.isfinite(value) or value < 0):
+            problems[name] = f"{name} must be a finite number >= 0, got {value:g}"
+    if problems or target is None:
+        return problems
+    patient = _try(problems, "bmi", lambda: _patient(inputs))
+    if patient is None:
+        return problems
+    try:
+        exam_context(inputs, target)
+    except (PlannerError, ValueError) as exc:
+        message = getattr(exc, "message", None) or str(exc)
+        name = next((f for key, f in _CONTEXT_FIELDS if key in message), "exam_type")
+        problems[name] = message
+    return problems
+
+
+# -- YAML -----------------------------------------------------------------------------------
+_PATIENT_KEYS = ("bmi", "height_cm", "weight_kg", "sex", "wall_mm", "depth_cm", "gestation_weeks",
+                 "conditions")
+_EXAM_KEYS = {"type": "exam_type", "modes": "modes", "contrast_agent": "contrast_agent",
+              "febrile": "febrile", "pregnancy_possible": "pregnancy_possible",
+              "expected_ti": "expected_ti", "planned_minutes": "planned_minutes"}
+_SIGNOFF_KEYS = tuple(f.name for f in fields(SignOff))
+_TOP_KEYS = ("schema_version", "target", "window", "patient", "exam", "supervision")
+_FIELD_PATHS = {"target_id": ("target",), "window_id": ("window",),
+                **{k: ("patient", k) for k in _PATIENT_KEYS},
+                **{f: ("exam", k) for k, f in _EXAM_KEYS.items()}}
+
+
+def inputs_to_data(inputs: PlanInputs) -> dict[str, Any]:
+    """The plan file's content as plain data (every key written, in file order)."""
+    return {
+        "schema_version": SCHEMA_VERSION,
+        "target": inputs.target_id,
+        "window": inputs.window_id,
+        "patient": {**{k: getattr(inputs, k) for k in _PATIENT_KEYS[:-1]},
+                    "conditions": {name: grade for name, grade in inputs.conditions}},
+        "exam": {key: (list(inputs.modes) if attr == "modes" else getattr(inputs, attr))
+                 for key, attr in _EXAM_KEYS.items()},
+        "supervision": {"draft": inputs.draft,
+                        **{k: getattr(inputs.signoff, k) for k in _SIGNOFF_KEYS}},
+    }
+
+
+class _Reader:
+    """Typed reading of one section with every problem collected."""
+
+    def __init__(self, collector) -> None:
+        self.c = collector
+
+    def section(self, data: dict, key: str, valid: tuple[str, ...]) -> dict:
+        raw = data.get(key, {})
+        if raw is None:
+            return {}
+        if not isinstance(raw, dict):
+            self.c.add((key,), f"expected a mapping, got {type(raw).__name__}")
+            return {}
+        self.unknown(raw, (key,), valid)
+        return raw
+
+    def unknown(self, raw: dict, path: tuple, valid: tuple[str, ...]) -> None:
+        for k in raw:
+            if k not in valid:
+                self.c.add(path + (k,), f"unknown key {k!r}; valid keys: {', '.join(valid)}")
+
+    def number(self, raw: dict, key: str, path: tuple) -> float | None:
+        value = raw.get(key)
+        if value is None:
+            return None
+        if isinstance(value, str):
+            try:
+                value = float(value)
+            except ValueError:
+                pass
+        if isinstance(value, bool) or not isinstance(value, (int, float)) \
+                or not math.isfinite(value):
+            self.c.add(path + (key,), f"expected a number, got {value!r}")
+            return None
+        return float(value)
+
+    def text(self, raw: dict, key: str, path: tuple, *, nullable: bool) -> str | None:
+        value = raw.get(key)
+        if value is None:
+            return None if nullable else ""
+        if not isinstance(value, str) or (nullable and not value.strip()):
+            self.c.add(path + (key,), f"expected text, got {value!r}")
+            return None if nullable else ""
+        return value.strip() if nullable else value
+
+    def flag(self, raw: dict, key: str, path: tuple) -> bool:
+        value = raw.get(key, False)
+        if not isinstance(value, bool):
+            self.c.add(path + (key,), f"expected true or false, got {value!r}")
+            return False
+        return value
+
+
+def _conditions(r: _Reader, raw: Any) -> tuple[tuple[str, int], ...]:
+    path = ("patient", "conditions")
+    if raw is None:
+        return ()
+    if not isinstance(raw, dict):
+        r.c.add(path, "expected a mapping of condition: grade")
+        return ()
+    out = []
+    for name, grade in raw.items():
+        if isinstance(grade, bool) or not isinstance(grade, int):
+            r.c.add(path + (name,), f"expected a whole-number grade, got {grade!r}")
+            continue
+        out.append((str(name), grade))
+    return tuple(out)
+
+
+def inputs_from_data(data: dict[str, Any], collector) -> PlanInputs | None:
+    """Read plan-file data into :class:`PlanInputs`; problems go to ``collector``
+    (a :class:`planner.yamlio.ProblemCollector`).
+
+    Returns None when any problem was found (types, unknown keys, impossible values).
+    """
+    r = _Reader(collector)
+    r.unknown(data, (), _TOP_KEYS)
+    if data.get("schema_version") != SCHEMA_VERSION:
+        collector.add(("schema_version",), f"must be {SCHEMA_VERSION}, got "
+                                           f"{data.get('schema_version')!r}")
+    patient = r.section(data, "patient", _PATIENT_KEYS)
+    exam = r.section(data, "exam", tuple(_EXAM_KEYS))
+    sup = r.section(data, "supervision", ("draft",) + _SIGNOFF_KEYS)
+    from planner.safety.context import EXAM_TYPES, MODES
+    modes = exam.get("modes", ["b_mode"])
+    if not isinstance(modes, list) or not modes or any(m not in MODES for m in modes):
+        collector.add(("exam", "modes"), f"expected a list of one or more of "
+                                         f"{', '.join(MODES)}, got {modes!r}")
+        modes = ["b_mode"]
+    if exam.get("type") is not None and exam.get("type") not in EXAM_TYPES:
+        collector.add(("exam", "type"), f"unknown exam type {exam.get('type')!r}; valid: null "
+                                        f"(the target's usual) or {', '.join(EXAM_TYPES)}")
+    target = r.text(data, "target", (), nullable=True)
+    if target is None and "target" not in data:
+        collector.add(("target",), "missing key 'target'")
+    inputs = PlanInputs(
+        target_id=target or "", window_id=r.text(data, "window", (), nullable=True),
+        **{k: r.number(patient, k, ("patient",)) for k in
+           ("bmi", "height_cm", "weight_kg", "wall_mm", "depth_cm", "gestation_weeks")},
+        sex=r.text(patient, "sex", ("patient",), nullable=True),
+        conditions=_conditions(r, patient.get("conditions")),
+        exam_type=r.text(exam, "type", ("exam",), nullable=True), modes=tuple(modes),
+        contrast_agent=r.flag(exam, "contrast_agent", ("exam",)),
+        febrile=r.flag(exam, "febrile", ("exam",)),
+        pregnancy_possible=r.flag(exam, "pregnancy_possible", ("exam",)),
+        expected_ti=r.number(exam, "expected_ti", ("exam",)),
+        planned_minutes=r.number(exam, "planned_minutes", ("exam",)),
+        draft=r.flag(sup, "draft", ("supervision",)),
+        signoff=SignOff(**{k: r.text(sup, k, ("supervision",), nullable=False)
+                           for k in _SIGNOFF_KEYS}))
+    if collector:
+        return None
+    for name, message in check_inputs(inputs).items():
+        collector.add(_FIELD_PATHS.get(name, (name,)), message)
+    return None if collector else inputs
+
+
+def save_plan_inputs(path: str | os.PathLike[str], inputs: PlanInputs, *,
+                     overwrite: bool = False) -> None:
+    """Write the inputs as a plan file, atomically.
+
+    Raises
+    ------
+    InputError
+        When the inputs cannot make a plan (the first problem is named), the file exists
+        and ``overwrite`` is false, or the write fails.
+    """
+    from planner.yamlio import atomic_write_text, dump_yaml
+    problems = check_inputs(inputs)
+    if problems:
+        name, message = next(iter(problems.items()))
+        raise InputError(f"cannot save an invalid plan: {name}: {message}")
+    header = ("# scanplan plan inputs: the plan is recomputed from these on load.\n"
+              "# Decision support only; it defers to local protocols and licensed practice.\n")
+    atomic_write_text(path, header + dump_yaml(inputs_to_data(inputs)), overwrite=overwrite)
+
+
+def load_plan_inputs(path: str | os.PathLike[str]) -> PlanInputs:
+    """Read a plan file.
+
+    Raises
+    ------
+    DataError
+        Listing every problem as ``file:line:col: key.path: message``.
+    """
+    from planner.yamlio import ProblemCollector, load_user_yaml
+    loaded = load_user_yaml(path, kind=KIND, max_bytes=200_000)
+    collector = ProblemCollector(path, loaded)
+    inputs = inputs_from_data(loaded.data, collector)
+    collector.raise_if_any(title="Invalid plan file")
+    assert inputs is not None
+    return inputs

@@ -1,0 +1,1 @@
+"""The terminal UI (Textual). The only package of scanplan that imports Textual."""

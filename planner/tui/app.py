@@ -1,0 +1,64 @@
+"""The scanplan terminal UI: the app, its global keys and its stylesheet.
+
+``scanplan`` (or ``scanplan ui``) calls :func:`run_app`. The planning screen does the
+work; see :mod:`planner.tui.screens.planning`.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+from textual.app import App
+from textual.binding import Binding
+
+from planner.planfile import PlanInputs
+from planner.tui.demo import DEMO_INPUTS, DEMO_LABEL
+from planner.tui.screens.help import HelpScreen
+from planner.tui.screens.planning import PlanningScreen
+
+
+class ScanplanApp(App[int]):
+    """Plan an ultrasound exam live as you type (decision support only).
+
+    Parameters
+    ----------
+    inputs : PlanInputs, optional
+        The plan to open with; the invented demo patient by default.
+    source : str
+        How the masthead names where the inputs came from.
+    """
+
+    CSS_PATH = Path(__file__).with_name("app.tcss")
+    TITLE = "scanplan"
+    BINDINGS = [
+        Binding("ctrl+q", "quit", "Quit", priority=True),
+        Binding("f1", "help", "Help"),
+        Binding("f9", "toggle_theme", "Theme", show=False),
+    ]
+
+    def __init__(self, inputs: PlanInputs | None = None, source: str | None = None) -> None:
+        super().__init__()
+        self._inputs = inputs if inputs is not None else DEMO_INPUTS
+        self._source = source if source is not None else (DEMO_LABEL if inputs is None else "")
+
+    def get_default_screen(self) -> PlanningScreen:
+        self.planning = PlanningScreen(self._inputs, self._source)
+        return self.planning
+
+    def on_ready(self) -> None:
+        # The form, the views and the engine load only after the first frame is on screen.
+        self.call_after_refresh(self.planning.build)
+
+    def action_help(self) -> None:
+        if not isinstance(self.screen, HelpScreen):
+            self.push_screen(HelpScreen())
+
+    def action_toggle_theme(self) -> None:
+        self.theme = "textual-light" if self.theme != "textual-light" else "textual-dark"
+
+
+def run_app() -> int:
+    """Run the terminal UI until the user quits; return the exit code (0)."""
+    app = ScanplanApp()
+    app.run()
+    return int(app.return_code or 0)

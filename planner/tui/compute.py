@@ -1,0 +1,185 @@
+"""From the form's raw values to a plan, without ever raising (no Textual here).
+
+The terminal UI collects what the user typed (text for numbers and conditions, chosen
+values for lists and switches), and :func:`compute` turns it into a plan or into
+problems keyed by field name, which the UI shows next to each field.
+"""
+
+from __future__ import annotations
+
+import math
+import time
+from dataclasses import dataclass, field
+from typing import Any
+
+from planner.errors import PlannerError
+from planner.planfile import PlanInputs, SignOff
+
+NUMBER_FIELDS: dict[str, str] = {
+    "bmi": "BMI",
+    "height_cm": "height",
+    "weight_kg": "weight",
+    "wall_mm": "measured wall",
+    "depth_cm": "measured depth",
+    "gestation_weeks": "gestational age",
+    "expected_ti": "expected TI",
+    "planned_minutes": "planned minutes",
+}
+"""Fields typed as numbers, with a short label for messages."""
+
+FIELD_LABELS: dict[str, str] = {**NUMBER_FIELDS, "target_id": "target", "window_id": "window",
+                                "sex": "sex", "conditions": "conditions", "exam_type": "exam type",
+                                "modes": "modes", "pregnancy_possible": "pregnancy possible"}
+"""Every field the UI can mark, with its short label."""
+
+SIGNOFF_FIELDS: tuple[str, ...] = ("student", "supervisor", "date", "supervisor_comments",
+                                   "student_reflection")
+"""Free-text sign-off fields of a supervised draft."""
+
+
+def parse_number(text: str, label: str) -> float | None:
+    """Read a typed number; empty means not given. A decimal comma is accepted.
+
+    Raises
+    ------
+    ValueError
+        With a short message naming the field when the text is not a finite number.
+    """
+    text = text.strip().replace(",", ".")
+    if not text:
+        return None
+    try:
+        value = float(text)
+    except ValueError:
+        raise ValueError(f"{label}: not a number ({text!r})") from None
+    if not math.isfinite(value):
+        raise ValueError(f"{label}: must be a finite number")
+    return value
+
+
+def parse_conditions(text: str) -> tuple[tuple[str, int], ...]:
+    """Read ``name[:grade], ...`` (grade as a number or a word) into ``((id, grade), ...)``.
+
+    Raises
+    ------
+    planner.errors.InputError
+        Naming the valid conditions or grades.
+    """
+    from planner.body.conditions import parse_condition
+    out: dict[str, int] = {}
+    for part in text.replace(";", ",").split(","):
+        if part.strip():
+            name, grade = parse_condition(part)
+            out[name] = grade
+    return tuple(out.items())
+
+
+def conditions_text(conditions: tuple[tuple[str, int], ...]) -> str:
+    """The text form of conditions, as :func:`parse_conditions` reads it."""
+    return ", ".join(f"{name}:{grade}" for name, grade in conditions)
+
+
+def number_text(value: float | None) -> str:
+    """A number as the form shows it (no trailing .0)."""
+    return "" if value is None else f"{value:g}"
+
+
+def parse_form(raw: dict[str, Any]) -> tuple[PlanInputs, dict[str, str]]:
+    """Build :class:`PlanInputs` from the form's raw values.
+
+    ``raw`` holds text for :data:`NUMBER_FIELDS`, ``conditions`` and the sign-off fields,
+    and plain values for ``target_id``, ``window_id``, ``sex``, ``exam_type`` (None for
+    automatic), ``modes`` (a sequence) and the flags. Returns the inputs (unparseable
+    fields left as not given) and the problems by field name.
+    """
+    problems: dict[str, str] = {}
+    numbers: dict[str, float | None] = {}
+    for name, label in NUMBER_FIELDS.items():
+        try:
+            numbers[name] = parse_number(str(raw.get(name, "") or ""), label)
+        except ValueError as exc:
+            problems[name] = str(exc)
+            numbers[name] = None
+    try:
+        conditions = parse_conditions(str(raw.get("conditions", "") or ""))
+    except (PlannerError, ValueError) as exc:
+        problems["conditions"] = getattr(exc, "message", None) or str(exc)
+        conditions = ()
+    modes = tuple(raw.get("modes") or ())
+    if not modes:
+        problems["modes"] = "choose at least one mode"
+        modes = ("b_mode",)
+    inputs = PlanInputs(
+        target_id=str(raw.get("target_id") or ""), window_id=raw.get("window_id") or None,
+        sex=raw.get("sex") or None, conditions=conditions, exam_type=raw.get("exam_type") or None,
+        modes=modes, contrast_agent=bool(raw.get("contrast_agent")),
+        febrile=bool(raw.get("febrile")), pregnancy_possible=bool(raw.get("pregnancy_possible")),
+        draft=bool(raw.get("draft")),
+        signoff=SignOff(**{k: str(raw.get(k, "") or "") for k in SIGNOFF_FIELDS}),
+        **numbers)
+    return inputs, problems
+
+
+def form_values(inputs: PlanInputs) -> dict[str, Any]:
+    """The raw form values that :func:`parse_form` reads back into ``inputs``."""
+    out: dict[str, Any] = {name: number_text(getattr(inputs, name)) for name in NUMBER_FIELDS}
+    out.update(target_id=inputs.target_id, window_id=inputs.window_id, sex=inputs.sex,
+               conditions=conditions_text(inputs.conditions), exam_type=inputs.exam_type,
+               modes=tuple(inputs.modes), contrast_agent=inputs.contrast_agent,
+               febrile=inputs.febrile, pregnancy_possible=inputs.pregnancy_possible,
+               draft=inputs.draft)
+    out.update({k: getattr(inputs.signoff, k) for k in SIGNOFF_FIELDS})
+    return out
+
+
+_ENGINE_FIELD_HINTS = (("measured depth", "depth_cm"), ("depth", "depth_cm"),
+                       ("window", "window_id"), ("target", "target_id"),
+                       ("wall", "wall_mm"), ("bmi", "bmi"))
+
+
+@dataclass
+class Outcome:
+    """The result of one recompute.
+
+    Attributes
+    ----------
+    inputs : PlanInputs
+    problems : dict
+        Field name -> message (empty when the plan was computed).
+    plan : planner.engine.Plan or None
+    message : str
+        A problem not tied to one field, or an empty string.
+    elapsed_ms : float
+        Time taken by validation and the engine. [ms]
+    """
+
+    inputs: PlanInputs
+    problems: dict[str, str] = field(default_factory=dict)
+    plan: Any = None
+    message: str = ""
+    elapsed_ms: float = 0.0
+
+
+def compute(raw: dict[str, Any]) -> Outcome:
+    """Validate the form and make the plan; never raises."""
+    start = time.perf_counter()
+    inputs, problems = parse_form(raw)
+    outcome = Outcome(inputs, problems)
+    try:
+        if not problems:
+            from planner.planfile import check_inputs, make_plan_for
+            outcome.problems = check_inputs(inputs)
+            if not outcome.problems:
+                outcome.plan = make_plan_for(inputs)
+    except (PlannerError, ValueError) as exc:
+        message = getattr(exc, "message", None) or str(exc)
+        lower = message.lower()
+        name = next((f for key, f in _ENGINE_FIELD_HINTS if key in lower), None)
+        if name is not None and isinstance(exc, PlannerError):
+            outcome.problems[name] = message
+        else:
+            outcome.message = message
+    except Exception as exc:  # noqa: BLE001 - the UI must keep running; the message says it is a bug
+        outcome.message = f"internal error ({type(exc).__name__}: {exc}); please report it"
+    outcome.elapsed_ms = (time.perf_counter() - start) * 1000.0
+    return outcome

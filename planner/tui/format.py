@@ -1,0 +1,167 @@
+"""Text for the plan views: severity tags, values with units, the summary lines.
+
+Everything returns Textual content markup (strings); text from the engine is escaped.
+Severity is always written as a word, so it reads the same without colour (NO_COLOR).
+"""
+
+from __future__ import annotations
+
+from typing import Any
+
+from textual.markup import escape
+
+SEVERITY_STYLE: dict[str, str] = {
+    "warning": "bold $error",
+    "caution": "bold $warning",
+    "advice": "bold $accent",
+    "info": "bold $text-muted",
+}
+"""Markup style of each severity tag (theme variables, so light and dark themes both work)."""
+
+SEVERITY_WORD: dict[str, str] = {"warning": "WARNING", "caution": "CAUTION",
+                                 "advice": "ADVICE", "info": "INFO"}
+
+_UNITS: tuple[tuple[str, str], ...] = (
+    ("_db_per_cm_mhz", "dB/cm/MHz"), ("_m_per_s", "m/s"), ("_cm_per_s", "cm/s"),
+    ("_mw_per_cm2", "mW/cm²"), ("_w_per_cm2", "W/cm²"), ("_kg_per_m3", "kg/m³"),
+    ("_mhz", "MHz"), ("_khz", "kHz"), ("_hz", "Hz"), ("_cm", "cm"), ("_mm", "mm"), ("_um", "µm"),
+    ("_db", "dB"), ("_deg", "°"), ("_min", "min"), ("_minutes", "min"), ("_s", "s"),
+    ("_percent", "%"), ("_weeks", "weeks"), ("_mrayl", "MRayl"))
+
+
+def severity_tag(severity: str) -> str:
+    """A fixed-width severity word in its theme colour."""
+    word = SEVERITY_WORD.get(severity, severity.upper())
+    return f"[{SEVERITY_STYLE.get(severity, 'bold')}]{word:<7}[/]"
+
+
+_WORDS: dict[str, str] = {"bmi": "BMI", "who": "WHO", "ti": "TI", "mi": "MI", "tis": "TIS",
+                          "tib": "TIB", "tic": "TIC", "prf": "PRF", "f": "F", "ispta": "I_SPTA"}
+
+
+def _label(stem: str) -> str:
+    words = [_WORDS.get(w, w) for w in stem.split("_")]
+    text = " ".join(words)
+    return text.replace("F number", "F-number")
+
+
+def split_unit(key: str) -> tuple[str, str]:
+    """Split a value key into a readable label and its unit: ``reach_ceiling_mhz`` ->
+    ``('reach ceiling', 'MHz')``."""
+    for suffix, unit in _UNITS:
+        if key.endswith(suffix) and len(key) > len(suffix):
+            return _label(key[: -len(suffix)]), unit
+    return _label(key), ""
+
+
+def _number(value: float) -> str:
+    if isinstance(value, int) or float(value).is_integer():
+        return f"{value:g}" if abs(value) < 1e6 else f"{value:.3g}"
+    return f"{value:.3g}" if abs(value) < 10 else f"{value:.1f}"
+
+
+def value_text(value: Any, unit: str = "") -> str:
+    """A value as plain text with its unit."""
+    tail = f" {unit}" if unit and unit != "°" else unit
+    if value is None:
+        return "not given"
+    if isinstance(value, bool):
+        return "yes" if value else "no"
+    if isinstance(value, (int, float)):
+        return _number(value) + tail
+    if isinstance(value, (list, tuple)):
+        if len(value) == 2 and all(isinstance(v, (int, float)) for v in value):
+            return f"{_number(value[0])}–{_number(value[1])}{tail}"
+        return ", ".join(value_text(v) for v in value) + (tail if value else "")
+    if isinstance(value, dict):
+        return "; ".join(f"{split_unit(k)[0]} {value_text(v, split_unit(k)[1])}"
+                         for k, v in value.items())
+    return str(value).replace("_", " ")
+
+
+def value_rows(values: dict[str, Any]) -> list[tuple[str, str]]:
+    """``(label, value with unit)`` rows for a finding's values."""
+    rows = []
+    for key, value in values.items():
+        label, unit = split_unit(str(key))
+        rows.append((label, value_text(value, unit)))
+    return rows
+
+
+def band_text(plan: dict) -> str:
+    """The recommended band, or what is wrong with it."""
+    band = plan.get("frequency_mhz") or {}
+    low, high = band.get("low"), band.get("high")
+    if low is None or high is None:
+        return "[bold $error]no usable band[/]"
+    text = f"[b]{low:.1f}–{high:.1f} MHz[/b]"
+    if not band.get("feasible", True):
+        text += "  [bold $error]needed detail NOT reached[/]"
+    return text
+
+
+def patient_text(plan: dict) -> str:
+    """One line: BMI with its WHO class, conditions, gestation."""
+    p = plan.get("patient") or {}
+    bmi = p.get("bmi")
+    text = f"BMI {bmi:g} ({escape(str(p.get('who_class_label', '')))})" if bmi else "BMI not given"
+    if not p.get("bmi_given", True):
+        text += " [i]assumed[/i]"
+    conds = p.get("conditions") or {}
+    if conds:
+        text += " · " + ", ".join(f"{escape(k.replace('_', ' '))} {v}" for k, v in conds.items())
+    if p.get("gestation_weeks"):
+        text += f" · {p['gestation_weeks']:g} weeks"
+    return text
+
+
+def tilt_text(plan: dict) -> str:
+    """The tilt tolerance in a few words."""
+    tilt = plan.get("tilt") or {}
+    deviation = tilt.get("max_deviation_deg")
+    if deviation is None:
+        return "free (diffuse target: choose the tilt for the window)"
+    parts = [f"within {deviation:.1f}° of perpendicular"]
+    if tilt.get("scan_plane_deg") is not None and tilt.get("elevation_plane_deg") is not None:
+        parts.append(f"(scan plane {tilt['scan_plane_deg']:.1f}°, "
+                     f"elevation {tilt['elevation_plane_deg']:.1f}°)")
+    return " ".join(parts)
+
+
+def summary_rows(plan: dict) -> list[tuple[str, str]]:
+    """The summary card as ``(label, markup)`` rows: what to pick up and how to set it."""
+    target, window = plan.get("target") or {}, plan.get("window") or {}
+    probe, harmonic = plan.get("probe"), plan.get("harmonic") or {}
+    display = plan.get("display") or {}
+    n = len(plan.get("windows") or [])
+    rows = [
+        ("Target", f"[b]{escape(target.get('name', '?'))}[/b] · {escape(str(target.get('reflector', '')))}"
+                   f" · detail {target.get('detail_mm', 0):g} mm"),
+        ("Patient", patient_text(plan)),
+        ("Band", band_text(plan)),
+        ("Probe", escape(probe["label"]) + (f" ({escape(probe['fit'])})" if probe.get("fit") not in
+                                            (None, "fits") else "") if probe else
+         "[bold $error]no probe in the inventory fits[/]"),
+        ("Harmonic", ("[b]advised[/b]" if harmonic.get("advised") else "not advised")
+         + _harmonic_band(harmonic)),
+        ("Window", f"[b]{escape(window.get('name', '?'))}[/b]" + (f" (best of {n})" if n > 1 else "")),
+        ("Position", escape(f"{window.get('position', '')}; {window.get('breathing', '')}")),
+        ("Depth", f"target {plan.get('depth_cm', 0):.1f} cm (shown {plan.get('displayed_depth_cm', 0):.1f})"
+                  f" · set {display.get('display_depth_cm', 0):.0f} cm · focus {display.get('focus_cm', 0):.1f} cm"),
+        ("Tilt", escape(tilt_text(plan))),
+        ("Watch", f"[b]{escape(str(plan.get('monitored_index', '')))}[/b] on the display · ALARA"),
+    ]
+    return rows
+
+
+def _harmonic_band(harmonic: dict) -> str:
+    band = harmonic.get("transmit_mhz") or {}
+    if harmonic.get("advised") and band.get("low") is not None:
+        return f": transmit {band['low']:.1f}–{band['high']:.1f} MHz"
+    return ""
+
+
+def finding_markup(finding: dict, width_hint: int = 0) -> str:
+    """A finding as an option: tag and title, then the message."""
+    return (f"{severity_tag(finding.get('severity', 'info'))} [b]{escape(finding.get('title', ''))}[/b]\n"
+            f"{escape(finding.get('message', ''))}")

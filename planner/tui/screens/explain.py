@@ -1,0 +1,71 @@
+"""The explanation of one finding: its numbers, the formula in words, the full sources."""
+
+from __future__ import annotations
+
+from typing import Any
+
+from textual.app import ComposeResult
+from textual.binding import Binding
+from textual.containers import Vertical, VerticalScroll
+from textual.markup import escape
+from textual.screen import ModalScreen
+from textual.widgets import Static
+
+from planner.tui.format import severity_tag, value_rows
+
+NO_FORMULA = ("No formula: this item states published guidance or common practice; the "
+              "sources below say where it comes from.")
+
+
+def source_lines(keys: list[str]) -> list[str]:
+    """``[Key] full citation`` for each distinct key, in order."""
+    from planner.references import REFERENCES
+    lines = []
+    for key in dict.fromkeys(keys):
+        citation = REFERENCES.get(key)
+        shown = escape(citation) if citation else "[i](not in the bibliography)[/i]"
+        lines.append(f"  [b]\\[{escape(key)}][/b] {shown}")
+    return lines
+
+
+def explanation_markup(finding: dict[str, Any]) -> str:
+    """Everything a student and a supervisor need to check one finding."""
+    parts = [f"{severity_tag(finding.get('severity', 'info'))} [b]{escape(finding.get('title', ''))}[/b]"
+             f"  [$text-muted]{escape(finding.get('code', ''))}[/]",
+             "", escape(finding.get("message", "")), ""]
+    rows = value_rows(finding.get("values") or {})
+    parts.append("[b]The numbers[/b]")
+    if rows:
+        width = min(max(len(label) for label, _ in rows), 28)
+        parts += [f"  {escape(label):<{width}}  {escape(value)}" for label, value in rows]
+    else:
+        parts.append("  (none: this item has no computed values)")
+    parts += ["", "[b]How it is worked out[/b]",
+              "  " + escape(finding.get("explanation") or NO_FORMULA), "", "[b]Sources[/b]"]
+    parts += source_lines(list(finding.get("sources") or [])) or ["  (none given)"]
+    parts += ["", "[$text-muted]Decision support: defers to local protocols and licensed "
+                  "practice.[/]"]
+    return "\n".join(parts)
+
+
+class ExplainScreen(ModalScreen[None]):
+    """A modal with :func:`explanation_markup`; Escape or Enter closes it."""
+
+    BINDINGS = [Binding("escape,enter", "close", "Close", show=True)]
+
+    def __init__(self, finding: dict[str, Any]) -> None:
+        super().__init__()
+        self.finding = finding
+
+    def compose(self) -> ComposeResult:
+        with Vertical(id="explain-box", classes="modal-box"):
+            yield Static("Why this finding", classes="modal-title")
+            with VerticalScroll(id="explain-scroll"):
+                yield Static(explanation_markup(self.finding), id="explain-text")
+            yield Static("Esc or Enter closes · ↑↓ scroll", classes="hint")
+
+    def on_mount(self) -> None:
+        self.query_one("#explain-scroll").focus()
+
+    def action_close(self) -> None:
+        self.dismiss(None)

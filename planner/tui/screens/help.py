@@ -1,0 +1,58 @@
+"""The help screen: keys and how the planner works."""
+
+from __future__ import annotations
+
+from textual.app import ComposeResult
+from textual.binding import Binding
+from textual.containers import Vertical, VerticalScroll
+from textual.screen import ModalScreen
+from textual.widgets import Static
+
+KEYS: tuple[tuple[str, str], ...] = (
+    ("Tab / Shift+Tab", "next / previous field"),
+    ("Ctrl+T", "jump to the target filter (type, then Enter picks)"),
+    ("F2 … F6", "Plan, Findings, Safety, Depth profile, Doppler"),
+    ("Enter", "in Findings or Safety: explain the highlighted item"),
+    ("Esc", "back from a view to the inputs; closes a dialog"),
+    ("Ctrl+S / Ctrl+O", "save / open the plan's inputs (YAML)"),
+    ("Ctrl+R", "export a report (.md or .html)"),
+    ("Ctrl+G", "supervised draft on or off (adds sign-off fields)"),
+    ("Ctrl+N", "new plan (clear the inputs)"),
+    ("F9", "light or dark theme"),
+    ("Ctrl+P", "command palette"),
+    ("F1", "this help"),
+    ("Ctrl+Q", "quit"),
+)
+"""Key, what it does."""
+
+ABOUT = (
+    "Type the patient's BMI (or height and weight), any measured wall thickness or target "
+    "depth, the conditions (name:grade, comma-separated), pick a target and, if you like, a "
+    "window and the exam context. The plan is recomputed on every change; a field the "
+    "engine cannot use is marked in red with the reason, and the views keep the last valid "
+    "plan until it is fixed.\n\n"
+    "The plan is decision support. It defers to local protocols, licensed practice and the "
+    "TI and MI the scanner displays; it never makes a diagnosis. Every finding names its "
+    "sources; open it for the numbers and the formula in words.")
+
+
+class HelpScreen(ModalScreen[None]):
+    """Keys and a short description; Escape closes it."""
+
+    BINDINGS = [Binding("escape,f1,enter", "close", "Close", show=True)]
+
+    def compose(self) -> ComposeResult:
+        width = max(len(k) for k, _ in KEYS)
+        keys = "\n".join(f"[b]{key:<{width}}[/b]  {what}" for key, what in KEYS)
+        with Vertical(id="help-box", classes="modal-box"):
+            yield Static("scanplan: keys and use", classes="modal-title")
+            with VerticalScroll(id="help-scroll"):
+                yield Static(keys, id="help-keys")
+                yield Static(ABOUT, id="help-about")
+            yield Static("Esc closes", classes="hint")
+
+    def on_mount(self) -> None:
+        self.query_one("#help-scroll").focus()
+
+    def action_close(self) -> None:
+        self.dismiss(None)

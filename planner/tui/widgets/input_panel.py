@@ -1,0 +1,210 @@
+"""The inputs of a plan: patient, target and window, exam context, supervision.
+
+Every change posts :class:`~planner.tui.messages.InputsEdited`; the screen then reads
+:meth:`InputPanel.raw_values` and recomputes. Lists that come from the engine (targets,
+windows, exam types, modes, conditions) are filled by :meth:`InputPanel.set_library`
+once it has loaded, after the first paint.
+"""
+
+from __future__ import annotations
+
+from typing import Any
+
+from textual import on
+from textual.app import ComposeResult
+from textual.containers import Vertical, VerticalScroll
+from textual.suggester import Suggester
+from textual.widgets import Checkbox, Input, Select, SelectionList, Static
+
+from planner.tui.compute import SIGNOFF_FIELDS
+from planner.tui.messages import InputsEdited, TargetPicked
+from planner.tui.widgets.field import FieldRow
+from planner.tui.widgets.target_picker import TargetPicker
+
+AUTO = "auto"
+"""Select value meaning 'let the engine decide' (window, exam type) or 'unknown' (sex)."""
+
+FLAGS = ("pregnancy_possible", "contrast_agent", "febrile", "draft")
+_TEXT_INPUTS = ("bmi", "height_cm", "weight_kg", "wall_mm", "depth_cm", "conditions",
+                "gestation_weeks", "expected_ti", "planned_minutes") + SIGNOFF_FIELDS
+_EVENTS = (Input.Changed, Select.Changed, Checkbox.Changed, SelectionList.SelectedChanged,
+           TargetPicked)
+
+
+class ConditionSuggester(Suggester):
+    """Completes the condition being typed after the last comma."""
+
+    def __init__(self) -> None:
+        super().__init__(use_cache=False, case_sensitive=False)
+        self.names: list[str] = []
+
+    async def get_suggestion(self, value: str) -> str | None:
+        head, sep, last = value.rpartition(",")
+        stem = last.lstrip()
+        if not stem or ":" in stem:
+            return None
+        for name in self.names:
+            if name.startswith(stem) and name != stem:
+                return f"{head}{sep}{last[:len(last) - len(stem)]}{name}"
+        return None
+
+
+def _text(field: str, value: str, placeholder: str = "") -> Input:
+    return Input(value=value, id=field, compact=True, placeholder=placeholder)
+
+
+class InputPanel(VerticalScroll):
+    """The form on the left of the planning screen."""
+
+    def __init__(self, values: dict[str, Any]) -> None:
+        super().__init__(id="inputs")
+        self.values = dict(values)
+        self.library = None
+        self.suggester = ConditionSuggester()
+        self._exam_ids: set[str] = set()
+
+    def compose(self) -> ComposeResult:
+        v = self.values
+        yield Static("Patient", classes="section")
+        yield FieldRow("BMI kg/m²", _text("bmi", v["bmi"], "or height + weight"), field="bmi")
+        yield FieldRow("Height cm", _text("height_cm", v["height_cm"]), field="height_cm")
+        yield FieldRow("Weight kg", _text("weight_kg", v["weight_kg"]), field="weight_kg")
+        yield FieldRow("Sex", Select([("unknown", AUTO), ("female", "female"), ("male", "male")],
+                                     value=v["sex"] or AUTO, allow_blank=False, compact=True,
+                                     id="sex"), field="sex")
+        yield FieldRow("Wall mm", _text("wall_mm", v["wall_mm"], "measured, optional"),
+                       field="wall_mm")
+        yield FieldRow("Depth cm", _text("depth_cm", v["depth_cm"], "measured, optional"),
+                       field="depth_cm")
+        conditions = _text("conditions", v["conditions"], "e.g. steatosis:2, ascites")
+        conditions.suggester = self.suggester
+        yield FieldRow("Conditions", conditions, field="conditions")
+        yield Static("Target and window", classes="section")
+        yield FieldRow("Target", TargetPicker(v["target_id"]), field="target_id", stacked=True)
+        yield FieldRow("Window", Select([("automatic", AUTO)], value=AUTO,
+                                        allow_blank=False, compact=True, id="window_id"),
+                       field="window_id")
+        yield Static("Exam", classes="section")
+        yield FieldRow("Exam type", Select([("target's usual", AUTO)], value=AUTO,
+                                           allow_blank=False, compact=True, id="exam_type"),
+                       field="exam_type")
+        yield FieldRow("Modes", SelectionList[str](compact=True, id="modes"), field="modes",
+                       stacked=True)
+        yield FieldRow("Gestation wk", _text("gestation_weeks", v["gestation_weeks"], "optional"),
+                       field="gestation_weeks")
+        yield Checkbox("Pregnancy possible", v["pregnancy_possible"], id="pregnancy_possible",
+                       compact=True)
+        yield Checkbox("Gas contrast agent", v["contrast_agent"], id="contrast_agent",
+                       compact=True)
+        yield Checkbox("Febrile patient", v["febrile"], id="febrile", compact=True)
+        yield FieldRow("Expected TI", _text("expected_ti", v["expected_ti"], "as displayed"),
+                       field="expected_ti")
+        yield FieldRow("Minutes", _text("planned_minutes", v["planned_minutes"], "planned dwell"),
+                       field="planned_minutes")
+        yield Static("Supervision", classes="section")
+        yield Checkbox("Supervised draft", v["draft"], id="draft", compact=True)
+        with Vertical(id="signoff"):
+            for name, label in zip(SIGNOFF_FIELDS, ("Student", "Supervisor", "Date",
+                                                    "Comments", "Reflection")):
+                yield FieldRow(label, _text(name, v[name]), field=name)
+
+    def on_mount(self) -> None:
+        self.query_one("#signoff").display = bool(self.values["draft"])
+
+    # -- engine data ------------------------------------------------------------------------
+    def set_library(self, library, exam_types: dict[str, str], modes: dict[str, str],
+                    conditions: list[str]) -> None:
+        """Fill the lists that come from the engine, then show the current values again."""
+        self.library = library
+        self.suggester.names = list(conditions)
+        self._exam_ids = set(exam_types)
+        with self.prevent(*_EVENTS):
+            self.query_one(TargetPicker).set_targets(
+                [(t.id, t.name, t.region) for t in library])
+            self.query_one("#exam_type", Select).set_options(
+                [("target's usual", AUTO)] + [(label, key) for key, label in exam_types.items()])
+            chosen = set(self.values.get("modes") or ("b_mode",))
+            modes_list = self.query_one("#modes", SelectionList)
+            modes_list.clear_options()
+            modes_list.add_options([(label, key, key in chosen) for key, label in modes.items()])
+        self.fill(self.values)
+
+    def _window_options(self, target_id: str) -> list[tuple[str, str]]:
+        options = [("automatic", AUTO)]
+        if self.library is not None and target_id in self.library:
+            options += [(w.name, w.id) for w in self.library.get(target_id).windows]
+        return options
+
+    # -- reading and writing the form -------------------------------------------------------
+    def raw_values(self) -> dict[str, Any]:
+        """What the form holds now, as :func:`planner.tui.compute.parse_form` reads it."""
+        out: dict[str, Any] = {name: self.query_one(f"#{name}", Input).value
+                               for name in _TEXT_INPUTS}
+        for name in ("sex", "window_id", "exam_type"):
+            value = self.query_one(f"#{name}", Select).value
+            out[name] = None if value in (AUTO, Select.NULL) else value
+        out["target_id"] = self.query_one(TargetPicker).chosen_id
+        modes_list = self.query_one("#modes", SelectionList)
+        out["modes"] = tuple(modes_list.selected) if modes_list.option_count else \
+            tuple(self.values.get("modes") or ("b_mode",))
+        for name in FLAGS:
+            out[name] = self.query_one(f"#{name}", Checkbox).value
+        self.values = dict(out)
+        return out
+
+    def fill(self, values: dict[str, Any]) -> None:
+        """Show ``values`` (from :func:`planner.tui.compute.form_values`) without recomputing."""
+        self.values = dict(values)
+        with self.prevent(*_EVENTS):
+            for name in _TEXT_INPUTS:
+                self.query_one(f"#{name}", Input).value = str(values.get(name) or "")
+            picker = self.query_one(TargetPicker)
+            picker.choose(values["target_id"], announce=False)
+            picker.refilter()
+            window = self.query_one("#window_id", Select)
+            window.set_options(self._window_options(values["target_id"]))
+            ids = [value for _, value in self._window_options(values["target_id"])]
+            window.value = values.get("window_id") if values.get("window_id") in ids else AUTO
+            self.query_one("#sex", Select).value = values.get("sex") or AUTO
+            exam = self.query_one("#exam_type", Select)
+            known = values.get("exam_type") in self._exam_ids
+            exam.value = values["exam_type"] if known else AUTO
+            modes_list = self.query_one("#modes", SelectionList)
+            modes_list.deselect_all()
+            for mode in values.get("modes") or ():
+                if modes_list.option_count:
+                    modes_list.select(mode)
+            for name in FLAGS:
+                self.query_one(f"#{name}", Checkbox).value = bool(values.get(name))
+        self.query_one("#signoff").display = bool(values.get("draft"))
+
+    def show_problems(self, problems: dict[str, str]) -> dict[str, str]:
+        """Mark each field with its problem; return the problems no field shows."""
+        rows = {row.field: row for row in self.query(FieldRow)}
+        for name, row in rows.items():
+            message = problems.get(name) or ""
+            if message != row.error:
+                row.set_error(message)
+        return {k: v for k, v in problems.items() if k not in rows}
+
+    # -- events -----------------------------------------------------------------------------
+    @on(TargetPicked)
+    def _target_picked(self, event: TargetPicked) -> None:
+        event.stop()
+        with self.prevent(Select.Changed):
+            window = self.query_one("#window_id", Select)
+            window.set_options(self._window_options(event.target_id))
+            window.value = AUTO
+        self.post_message(InputsEdited())
+
+    @on(Checkbox.Changed, "#draft")
+    def _draft_changed(self, event: Checkbox.Changed) -> None:
+        self.query_one("#signoff").display = event.value
+
+    @on(Input.Changed)
+    @on(Select.Changed)
+    @on(Checkbox.Changed)
+    @on(SelectionList.SelectedChanged)
+    def _edited(self, event) -> None:
+        event.stop()
+        self.post_message(InputsEdited())

@@ -1,0 +1,95 @@
+"""The right side of the planning screen: a status line and five views of the plan."""
+
+from __future__ import annotations
+
+from textual.app import ComposeResult
+from textual.containers import Vertical
+from textual.markup import escape
+from textual.widgets import Static, TabbedContent, TabPane
+
+from planner.tui.widgets.doppler_view import DopplerView
+from planner.tui.widgets.findings_view import FindingList
+from planner.tui.widgets.profile_plot import DepthProfile
+from planner.tui.widgets.safety_view import SafetyView
+from planner.tui.widgets.summary_view import PlanSummary
+
+VIEWS: dict[str, str] = {"plan": "Plan", "findings": "Findings", "safety": "Safety",
+                         "depth": "Depth", "doppler": "Doppler"}
+"""View id -> tab label, in tab order (F2 to F6)."""
+
+
+class PlanPane(Vertical):
+    """Status line on top, then the views in tabs."""
+
+    def __init__(self) -> None:
+        super().__init__(id="plan-pane")
+        self.plan: dict | None = None
+        self._stale: set[str] = set()
+        self._status = ""
+
+    def compose(self) -> ComposeResult:
+        yield Static("Loading the engine and the target library…", id="plan-status")
+        with TabbedContent(id="views", initial="plan"):
+            with TabPane(VIEWS["plan"], id="plan"):
+                yield PlanSummary(id="summary")
+            with TabPane(VIEWS["findings"], id="findings"):
+                yield Static("Enter explains the highlighted finding", classes="hint")
+                yield FindingList(id="findings-list")
+            with TabPane(VIEWS["safety"], id="safety"):
+                yield SafetyView(id="safety-view")
+            with TabPane(VIEWS["depth"], id="depth"):
+                yield DepthProfile(id="profile")
+            with TabPane(VIEWS["doppler"], id="doppler"):
+                yield DopplerView(id="doppler-view")
+
+    def show_plan(self, plan: dict) -> None:
+        """Show a freshly computed plan: now in the visible view, the others when shown."""
+        self.plan = plan
+        self._stale = set(VIEWS)
+        self._refresh_view(self.query_one(TabbedContent).active)
+        if self.has_class("-stale"):
+            self.set_class(False, "-stale")
+
+    def _refresh_view(self, view: str) -> None:
+        if self.plan is None or view not in self._stale:
+            return
+        self._stale.discard(view)
+        plan = self.plan
+        if view == "plan":
+            self.query_one(PlanSummary).show_plan(plan)
+        elif view == "findings":
+            self.query_one("#findings-list", FindingList).set_findings(plan.get("findings") or [])
+        elif view == "safety":
+            self.query_one(SafetyView).show_plan(plan)
+        elif view == "depth":
+            self.query_one(DepthProfile).show_plan(plan)
+        elif view == "doppler":
+            self.query_one(DopplerView).show_plan(plan)
+
+    def on_tabbed_content_tab_activated(self, event: TabbedContent.TabActivated) -> None:
+        if event.pane.id:
+            self._refresh_view(event.pane.id)
+
+    def show_status(self, markup: str, *, stale: bool = False) -> None:
+        """Set the status line; ``stale`` dims the views (they show the last valid plan)."""
+        if markup != self._status:
+            self._status = markup
+            self.query_one("#plan-status", Static).update(markup, layout=False)
+        if self.has_class("-stale") != stale:
+            self.set_class(stale, "-stale")
+
+    def show_failure(self, message: str) -> None:
+        """No plan at all (e.g. the engine could not load): say why in the summary."""
+        self.query_one(PlanSummary).show_message(f"[bold $error]No plan:[/] {escape(message)}")
+
+    def switch_to(self, view: str) -> None:
+        """Show view ``view`` (a key of :data:`VIEWS`) and focus its main widget."""
+        self.query_one(TabbedContent).active = view
+        target = {"findings": "#findings-list", "safety": "#safety-list"}.get(view)
+        if target:
+            self.query_one(target).focus()
+        else:
+            pane = self.query_one(f"#{view}", TabPane)
+            focusable = [w for w in pane.query("*") if w.can_focus]
+            if focusable:
+                focusable[0].focus()

@@ -1,0 +1,107 @@
+"""The plan at a glance: the summary card, the ranked windows, tilt, layers, pitfalls."""
+
+from __future__ import annotations
+
+from textual.app import ComposeResult
+from textual.containers import Horizontal, Vertical, VerticalScroll
+from textual.markup import escape
+from textual.widgets import DataTable, Label, Static
+
+from planner.tui.format import summary_rows
+
+SUMMARY_LABELS: tuple[str, ...] = ("Target", "Patient", "Band", "Probe", "Harmonic", "Window",
+                                   "Position", "Depth", "Tilt", "Watch")
+"""The rows of the summary card, in order (see :func:`planner.tui.format.summary_rows`)."""
+
+
+def windows_rows(plan: dict) -> list[tuple[str, ...]]:
+    """Rows of the ranked-window table: rank, name, usable, loss, depth, band."""
+    rows = []
+    for rank, w in enumerate(plan.get("windows") or [], 1):
+        band = w.get("band_mhz")
+        rows.append((str(rank), w.get("name", "?"), "yes" if w.get("feasible") else "NO",
+                     f"{w.get('round_trip_loss_db', 0):.0f}", f"{w.get('depth_cm', 0):.1f}",
+                     f"{band['low']:.1f}–{band['high']:.1f}" if band else "–"))
+    return rows
+
+
+def set_markup(static: Static, markup: str) -> None:
+    """Update ``static`` only when its markup changes (saves a layout pass)."""
+    if getattr(static, "_markup_shown", None) != markup:
+        static._markup_shown = markup
+        static.update(markup)
+
+
+def layers_markup(plan: dict) -> str:
+    """The layer stack of the chosen window, skin first."""
+    lines = []
+    depth = 0.0
+    for layer in plan.get("layers") or []:
+        depth += layer.get("thickness_cm", 0.0)
+        lines.append(f"  {depth:5.1f} cm  {escape(str(layer.get('label', '')))} "
+                     f"[$text-muted]({layer.get('thickness_cm', 0):.2f} cm thick)[/]")
+    return "\n".join(lines)
+
+
+class PlanSummary(VerticalScroll):
+    """Summary card, windows table and the guidance under them."""
+
+    def compose(self) -> ComposeResult:
+        yield Static("Working out the plan…", id="summary-message")
+        with Vertical(id="summary-card"):
+            for index, label in enumerate(SUMMARY_LABELS):
+                with Horizontal(classes="summary-row"):
+                    yield Label(label, classes="summary-label")
+                    yield Static("", id=f"summary-{index}", classes="summary-value")
+        yield Static("", id="windows-title", classes="subhead")
+        table = DataTable(id="windows-table", cursor_type="row", zebra_stripes=False,
+                          show_cursor=False)
+        table.add_columns("#", "Window", "OK", "dB", "cm", "MHz")
+        yield table
+        yield Static("", id="tilt-advice")
+        yield Static("", id="layers")
+        yield Static("", id="pitfalls")
+        yield Static("", id="assumptions")
+
+    def show_plan(self, plan: dict) -> None:
+        """Show ``plan`` (a plan as a dict)."""
+        self.query_one("#summary-message").display = False
+        self.query_one("#summary-card").display = True
+        for index, (_, value) in enumerate(summary_rows(plan)):
+            set_markup(self.query_one(f"#summary-{index}", Static), value)
+        windows = plan.get("windows") or []
+        reference = windows[0].get("reference_frequency_mhz") if windows else None
+        set_markup(self.query_one("#windows-title", Static),
+                   "Windows, best first" + (f" [$text-muted](dB = round-trip loss at "
+                                            f"{reference:g} MHz)[/]" if reference else ""))
+        rows = windows_rows(plan)
+        table = self.query_one("#windows-table", DataTable)
+        if rows != getattr(table, "_rows_shown", None):
+            table._rows_shown = rows
+            table.clear()
+            for row in rows:
+                table.add_row(*row)
+        advice = (plan.get("tilt") or {}).get("advice", "")
+        set_markup(self.query_one("#tilt-advice", Static),
+                   f"[b]Tilt[/b]  {escape(advice)}" if advice else "")
+        set_markup(self.query_one("#layers", Static),
+                   "[b]Layers on the path[/b] [$text-muted](depth of each layer's bottom)[/]\n"
+                   + layers_markup(plan))
+        assumptions = plan.get("assumptions") or []
+        set_markup(self.query_one("#assumptions", Static),
+                   "[b]Assumptions[/b]\n" + "\n".join(f"  • {escape(a)}" for a in assumptions)
+                   if assumptions else "")
+        pitfalls = plan.get("pitfalls") or []
+        set_markup(self.query_one("#pitfalls", Static),
+                   "[b]Pitfalls[/b]\n" + "\n".join(f"  • {escape(p)}" for p in pitfalls)
+                   if pitfalls else "")
+
+    def on_mount(self) -> None:
+        self.query_one("#summary-card").display = False
+
+    def show_message(self, message: str) -> None:
+        """Show a message instead of a plan (before the first plan, or when none can be made)."""
+        self.query_one("#summary-card").display = False
+        message_box = self.query_one("#summary-message", Static)
+        message_box.display = True
+        message_box.update(message)
