@@ -14,6 +14,20 @@ from planner.physics.tissues import get_tissue, load_tissues
 ANGLE_ERROR_DEG = 5.0
 """Angle uncertainty used for the velocity-error figures. [deg]"""
 
+LIMITS = {"--frequency-mhz": (0.01, 100.0), "--depth-cm": (0.01, 100.0), "thickness": (1e-4, 100.0),
+          "--velocity-cm-s": (-2000.0, 2000.0), "--z1": (1e-5, 100.0), "--z2": (1e-5, 100.0),
+          "--c1": (1.0, 20000.0), "--c2": (1.0, 20000.0)}
+"""Plausibility ranges of the quick calculations (inclusive): far wider than any diagnostic
+use, they only keep the arithmetic finite (common practice)."""
+
+
+def _in_range(option: str, value: float | None) -> None:
+    if value is None:
+        return
+    low, high = LIMITS[option]
+    if not low <= value <= high:
+        raise InputError(f"{option} must be between {low:g} and {high:g}, got {value:g}")
+
 
 def register(sub) -> None:
     calc = sub.add_parser("calc", help="quick physics calculations")
@@ -95,8 +109,7 @@ def run_interface(args) -> int:
         if (args.c1 is None) != (args.c2 is None):
             raise InputError("give both --c1 and --c2, or neither")
         for name, value in (("--z1", args.z1), ("--z2", args.z2), ("--c1", args.c1), ("--c2", args.c2)):
-            if value is not None and value <= 0:
-                raise InputError(f"{name} must be > 0, got {value:g}")
+            _in_range(name, value)
         z1, z2, c1, c2 = args.z1, args.z2, args.c1, args.c2
         names = ("medium 1", "medium 2")
     result = interface_result(z1, z2, c1, c2, args.angle_deg)
@@ -126,16 +139,17 @@ def parse_layers(text: str) -> list[tuple[str, float]]:
             value = float(thick)
         except ValueError:
             raise InputError(f"layer {item.strip()!r}: thickness must be a number of cm") from None
-        if not math.isfinite(value) or value <= 0:
-            raise InputError(f"layer {item.strip()!r}: thickness must be > 0 cm")
+        low, high = LIMITS["thickness"]
+        if not math.isfinite(value) or not low <= value <= high:
+            raise InputError(f"layer {item.strip()!r} in --layers: thickness must be between "
+                             f"{low:g} and {high:g} cm")
         layers.append((name, value))
     return layers
 
 
 def path_result(layers: list[tuple[str, float]], frequency_mhz: float) -> dict:
     """The quick path calculation as a JSON-ready dict."""
-    if frequency_mhz <= 0:
-        raise InputError(f"--frequency-mhz must be > 0, got {frequency_mhz:g}")
+    _in_range("--frequency-mhz", frequency_mhz)
     tissues = [get_tissue(name) for name, _ in layers]
     d = np.array([t for _, t in layers])
     c = np.array([t.speed_m_per_s for t in tissues])
@@ -176,10 +190,9 @@ def run_path(args) -> int:
 def doppler_result(depth_cm: float, frequency_mhz: float, angle_deg: float,
                    velocity_cm_s: float | None) -> dict:
     """The quick Doppler calculation as a JSON-ready dict."""
-    if depth_cm <= 0:
-        raise InputError(f"--depth-cm must be > 0, got {depth_cm:g}")
-    if frequency_mhz <= 0:
-        raise InputError(f"--frequency-mhz must be > 0, got {frequency_mhz:g}")
+    _in_range("--depth-cm", depth_cm)
+    _in_range("--frequency-mhz", frequency_mhz)
+    _in_range("--velocity-cm-s", velocity_cm_s)
     if not 0 <= angle_deg < 90:
         raise InputError(f"--angle-deg must be from 0 to below 90 degrees for Doppler, got {angle_deg:g}")
     prf = float(doppler.prf_max_hz(depth_cm))
