@@ -69,7 +69,10 @@ def format_key_path(key_path: KeyPath) -> str:
         if isinstance(part, int) and not isinstance(part, bool):
             out += f"[{part}]"
         else:
-            out += ("." if out else "") + str(part)
+            text = str(part)
+            if not text.isprintable():
+                text = text.encode("unicode_escape").decode("ascii")
+            out += ("." if out else "") + text
     return out
 
 
@@ -252,7 +255,12 @@ class _Builder:
         if node.tag == _TIMESTAMP_TAG:
             return node.value
         if node.tag in _PLAIN_SCALAR_TAGS:
-            return self.constructor.yaml_constructors[node.tag](self.constructor, node)
+            try:
+                return self.constructor.yaml_constructors[node.tag](self.constructor, node)
+            except ValueError:
+                self.problems.append(f"{self.at(node)} number too long or malformed "
+                                     f"({len(node.value)} characters)")
+                return None
         self.problems.append(f"{self.at(node)} unsupported YAML tag {node.tag!r}; use plain "
                              "text, numbers, true/false, lists and mappings")
         return None

@@ -103,7 +103,7 @@ def parse_inventory(data, origin: str, add) -> tuple[Probe, ...]:
         if not isinstance(raw, dict):
             add(path, "each probe must be a mapping")
             continue
-        for key in sorted(set(raw) - _FIELDS):
+        for key in sorted(set(raw) - _FIELDS, key=str):
             add(path + (key,), f"unknown key {key!r}; valid keys: {', '.join(sorted(_FIELDS))}")
         missing = sorted(_FIELDS - set(raw))
         if missing:
@@ -168,7 +168,7 @@ def load_inventory(path: str | Path | None = None) -> ProbeInventory:
         resolved = Path(path).resolve()
         stat = resolved.stat()
         key = (str(resolved), stat.st_mtime_ns, stat.st_size)
-    except OSError:
+    except (OSError, RuntimeError):   # RuntimeError: a symbolic-link loop on Python 3.11
         key = None
     if key is not None and key in _CACHE:
         return _CACHE[key]

@@ -75,6 +75,12 @@ def _in_line_order(path: str, problems: list[str]) -> list[str]:
     return [problem for _, members in groups for problem in members]
 
 
+def _items(value: Any) -> list:
+    """The items of a YAML list, or none when the value is not a list (the schema pass has
+    already reported the wrong type with its line)."""
+    return value if isinstance(value, list) else []
+
+
 def _suggest(value: str, valid: list[str], what: str) -> str:
     close = difflib.get_close_matches(value, valid, n=3)
     if close:
@@ -148,7 +154,7 @@ class _Checker:
             self.problems.extend(inventory_problems)
             return None
         self.check_probe(equipment.get("probe"), ids, ("equipment", "probe"))
-        for index, label in enumerate(equipment.get("alternative_probes") or []):
+        for index, label in enumerate(_items(equipment.get("alternative_probes"))):
             self.check_probe(label, ids, ("equipment", "alternative_probes", index))
         return ids
 
@@ -176,13 +182,13 @@ class _Checker:
             windows = self.check_target(view, path)
             self.check_window(view.get("window"), windows, view.get("target"), path + ("window",))
             self.check_probe(view.get("probe"), probe_ids, path + ("probe",))
-            for f_index, fallback in enumerate(view.get("fallbacks") or []):
+            for f_index, fallback in enumerate(_items(view.get("fallbacks"))):
                 if isinstance(fallback, dict):
                     f_path = path + ("fallbacks", f_index)
                     self.check_window(fallback.get("window"), windows, view.get("target"),
                                       f_path + ("window",))
                     self.check_probe(fallback.get("probe"), probe_ids, f_path + ("probe",))
-            for m_index, measurement in enumerate(view.get("measurements") or []):
+            for m_index, measurement in enumerate(_items(view.get("measurements"))):
                 if isinstance(measurement, dict):
                     m_path = path + ("measurements", m_index)
                     m_id = measurement.get("id")
@@ -191,12 +197,12 @@ class _Checker:
                             self.problems.add(m_path + ("id",), f"duplicate measurement id "
                                                                 f"{m_id!r}")
                         seen_measurements.setdefault(m_id, m_path)
-                    for t_index, band in enumerate(measurement.get("thresholds") or []):
+                    for t_index, band in enumerate(_items(measurement.get("thresholds"))):
                         if isinstance(band, dict):
                             self.check_band(band, m_path + ("thresholds", t_index))
             doppler = view.get("doppler")
             if (pulsed_policy == "not_permitted" and isinstance(doppler, dict)
-                    and "pulsed_doppler" in (doppler.get("modes") or [])):
+                    and "pulsed_doppler" in _items(doppler.get("modes"))):
                 self.problems.add(path + ("doppler", "modes"), "uses pulsed_doppler although "
                                   "safety.pulsed_doppler is not_permitted")
 

@@ -34,6 +34,8 @@ TI bands follow the published tables: a band covers ``ti_above < TI <= ti_up_to`
 
 from __future__ import annotations
 
+import math
+
 import os
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -185,8 +187,8 @@ class _Reader:
                 self.problems.add(key_path, "missing; give a number")
             return None
         value = raw[key]
-        if isinstance(value, bool) or not isinstance(value, (int, float)):
-            self.problems.add(key_path, f"must be a number, got {value!r}")
+        if isinstance(value, bool) or not isinstance(value, (int, float)) or not math.isfinite(value):
+            self.problems.add(key_path, f"must be a finite number, got {value!r}")
             return None
         if (positive and value <= 0) or (not positive and value < 0):
             self.problems.add(key_path, f"must be {'> 0' if positive else '>= 0'}, got {value!r}")
