@@ -2,8 +2,25 @@
 
 from __future__ import annotations
 
+from planner.body.conditions import CONDITIONS
 from planner.engine.context import RuleContext
 from planner.findings import Finding
+
+ADVICE_BY_CONDITION: dict[str, tuple[str, str, str, tuple[str, ...]]] = {
+    "no_breath_hold": ("advice", "No breath hold",
+                       "Use quiet breathing, short holds and cine-loop review; intercostal windows move "
+                       "less than subcostal ones.", ("CommonPractice",)),
+    "limited_mobility": ("advice", "Limited mobility",
+                         "Decubitus, prone and upright positions may not be possible: prefer windows "
+                         "usable supine and check the couch's weight limit.", ("SoRHighBMI",)),
+    "post_prandial": ("caution", "Not fasted",
+                      "After a meal the gallbladder contracts and gas increases; biliary and pancreatic "
+                      "views may need rebooking after a 6-8 h fast.", ("GasShadowTeaching",)),
+    "oedema": ("caution", "Subcutaneous oedema",
+               "Oedema thickens the wall and scatters sound; expect more near-field clutter and a "
+               "deeper target than BMI alone predicts. Measure the wall if you can.", ("CommonPractice",)),
+}
+"""Advice for conditions that change the approach rather than the layer stack."""
 
 LIMITED_EXAM_BMI: float = 30.0
 """BMI from which a limited examination becomes likely (Heinitz2023; NHSGGC468). [kg/m^2]"""
@@ -56,25 +73,8 @@ def condition_findings(ctx: RuleContext) -> list[Finding]:
             "condition.ascites", "info", "Ascites as a window",
             "Free fluid between wall and organs carries sound with little loss; use it as a window, "
             "but it pushes the target deeper.", {"grade": c["ascites"]}, ("EnhancementTeaching",)))
-    if "no_breath_hold" in c:
-        out.append(Finding(
-            "condition.no_breath_hold", "advice", "No breath hold",
-            "Use quiet breathing, short holds and cine-loop review; intercostal windows move less than "
-            "subcostal ones.", {}, ("CommonPractice",)))
-    if "limited_mobility" in c:
-        out.append(Finding(
-            "condition.limited_mobility", "advice", "Limited mobility",
-            "Decubitus, prone and upright positions may not be possible: prefer windows usable supine "
-            "and check the couch's weight limit.", {}, ("SoRHighBMI",)))
-    if "post_prandial" in c:
-        out.append(Finding(
-            "condition.post_prandial", "caution", "Not fasted",
-            "After a meal the gallbladder contracts and gas increases; biliary and pancreatic views may "
-            "need rebooking after a 6-8 h fast.", {}, ("GasShadowTeaching",)))
-    if "oedema" in c:
-        out.append(Finding(
-            "condition.oedema", "caution", "Subcutaneous oedema",
-            "Oedema thickens the wall and scatters sound; expect more near-field clutter and a deeper "
-            "target than BMI alone predicts. Measure the wall if you can.", {"grade": c["oedema"]},
-            ("CommonPractice",)))
+    for name, (severity, title, message, sources) in ADVICE_BY_CONDITION.items():
+        if name in c:
+            grade = {"grade": c[name]} if len(CONDITIONS[name].grades) > 1 else {}
+            out.append(Finding(f"condition.{name}", severity, title, message, grade, sources))
     return out
