@@ -201,3 +201,22 @@ def test_sweep_monotonic_and_finite():
     assert np.all(np.isfinite(s["ceiling_mhz"]))
     assert np.all(np.diff(s["depth_cm"]) >= -1e-9)
     assert np.all(np.diff(s["ceiling_mhz"]) <= 1e-9)
+
+
+def test_local_policy_tightens_a_limit_and_both_values_show():
+    """A department's tighter scan-time limit appears beside the published one (BMUS 2009 Fig. 1:
+    obstetric TI 1.0-1.5 allows < 30 min), and exceeding it is a warning."""
+    import pathlib
+
+    from planner.safety import ExamContext
+    policy = pathlib.Path(__file__).resolve().parents[1] / "protocols" / "examples" / "local-policy.yaml"
+    ctx = ExamContext(exam_type="obstetric", gestation_weeks=22, expected_ti=1.2, planned_minutes=25,
+                      bone_near_focus=True)
+    p = make_plan(PlanRequest("fetal-head", Patient.from_inputs(bmi=38, gestation_weeks=22),
+                              context=ctx, local_policy_path=str(policy)))
+    f = next(f for f in p.safety if f["values"].get("local_limit_min") is not None)
+    assert f["values"]["published_limit_min"] == 30
+    assert f["values"]["local_limit_min"] < 30
+    assert f["severity"] == "warning"
+    assert "exceeds" in f["message"] and "30 min" in f["message"]
+    assert p.monitored_index == "TIB"

@@ -145,7 +145,7 @@ def test_broken_policy_reports_every_problem_with_lines(tmp_path):
         ":7:38: scan_time_limits.obstetric[1].max_minutes: must be > 0",
         "scan_time_limits.obstetric: TI bands overlap",
         ":10:3: scan_time_limits.underwater: unknown exam type",
-        "exam_limits.obstetric.max_ti: must be a number, got '1e3'",
+        "exam_limits.obstetric.max_ti: must be a finite number, got '1e3'",
         "exam_limits.obstetric.max_mi: must be <= 1.9",
         "exam_limits.obstetric.hours: unknown key",
         ":14:29: doppler_restrictions[0].exam_types[1]: unknown value 'martian'",

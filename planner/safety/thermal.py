@@ -160,8 +160,10 @@ def _local_part(ctx: ExamContext, policy: LocalPolicy | None, values: dict[str, 
         text = f"< {minutes_text(local_min)}"
         if published is not None and local_min > published:
             text += " (longer than the published limit)"
-        parts.append(text)
         severity = _severity(ctx.planned_minutes, local_min, approaching)
+        if ctx.planned_minutes is not None and ctx.planned_minutes >= local_min:
+            text += f" (the planned {minutes_text(ctx.planned_minutes)} exceeds it)"
+        parts.append(text)
     if limits.max_ti is not None:
         parts.append(f"{monitored_index(ctx)} <= {number_text(limits.max_ti)}")
         if ctx.expected_ti is not None and ctx.expected_ti > limits.max_ti:
