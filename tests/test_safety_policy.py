@@ -151,7 +151,7 @@ def test_broken_policy_reports_every_problem_with_lines(tmp_path):
         ":14:29: doppler_restrictions[0].exam_types[1]: unknown value 'martian'",
         ":16:5: doppler_restrictions[0].permitted: must be one of",
         "yes/no",
-        "preferred_settings.cardiac.start_ti: must be a number, got True",
+        "preferred_settings.cardiac.start_ti: must be a finite number, got True",
         "preferred_settings.cardiac.notes: must be a list",
     ]
     for piece in expected:
