@@ -32,8 +32,9 @@ always reflects the current engine and data. The format (``schema_version: 1``):
       supervisor_comments: ''
       student_reflection: ''
 
-Missing keys take these defaults; unknown keys, wrong types and impossible values are
-reported all at once with their line (:class:`planner.errors.DataError`). Files are
+Missing keys take these defaults. Unknown keys and wrong types are reported all at once
+with their line (:class:`planner.errors.DataError`); impossible values (checked as the
+terminal UI checks them) are reported, again all at once, when the types are right. Files are
 written atomically. :func:`check_inputs` gives the per-field problems that the terminal
 UI shows next to each field. The engine and the YAML reader are imported only when
 needed, so that the terminal UI can paint before loading them.
@@ -55,7 +56,8 @@ __all__ = ["SCHEMA_VERSION", "PlanInputs", "SignOff", "check_inputs", "custom_co
 SCHEMA_VERSION: int = 1
 """The ``schema_version`` a plan file declares."""
 
-KIND = "plan file"
+KIND = "plan"
+"""What the file is, for messages ('... is not a usable plan file')."""
 
 
 @dataclass(frozen=True)
@@ -287,6 +289,15 @@ def inputs_to_data(inputs: PlanInputs) -> dict[str, Any]:
     }
 
 
+def _shown(value: Any, limit: int = 60) -> str:
+    """A value for a one-line message (long values cut, line breaks escaped)."""
+    try:
+        text = repr(value)
+    except ValueError:          # an int too long to print
+        text = f"a {type(value).__name__} too long to show"
+    return text if len(text) <= limit else text[: limit - 3] + "..."
+
+
 class _Reader:
     """Typed reading of one section with every problem collected."""
 
@@ -306,7 +317,7 @@ class _Reader:
     def unknown(self, raw: dict, path: tuple, valid: tuple[str, ...]) -> None:
         for k in raw:
             if k not in valid:
-                self.c.add(path + (k,), f"unknown key {k!r}; valid keys: {', '.join(valid)}")
+                self.c.add(path + (k,), f"unknown key {_shown(k)}; valid keys: {', '.join(valid)}")
 
     def number(self, raw: dict, key: str, path: tuple) -> float | None:
         value = raw.get(key)
@@ -317,25 +328,29 @@ class _Reader:
                 value = float(value)
             except ValueError:
                 pass
-        if isinstance(value, bool) or not isinstance(value, (int, float)) \
-                or not math.isfinite(value):
-            self.c.add(path + (key,), f"expected a number, got {value!r}")
+        try:
+            number = float(value) if isinstance(value, (int, float)) and \
+                not isinstance(value, bool) else math.nan
+        except OverflowError:
+            number = math.inf
+        if not math.isfinite(number):
+            self.c.add(path + (key,), f"expected a finite number, got {_shown(value)}")
             return None
-        return float(value)
+        return number
 
     def text(self, raw: dict, key: str, path: tuple, *, nullable: bool) -> str | None:
         value = raw.get(key)
         if value is None:
             return None if nullable else ""
         if not isinstance(value, str) or (nullable and not value.strip()):
-            self.c.add(path + (key,), f"expected text, got {value!r}")
+            self.c.add(path + (key,), f"expected text, got {_shown(value)}")
             return None if nullable else ""
         return value.strip() if nullable else value
 
     def flag(self, raw: dict, key: str, path: tuple) -> bool:
         value = raw.get(key, False)
         if not isinstance(value, bool):
-            self.c.add(path + (key,), f"expected true or false, got {value!r}")
+            self.c.add(path + (key,), f"expected true or false, got {_shown(value)}")
             return False
         return value
 
@@ -350,7 +365,7 @@ def _conditions(r: _Reader, raw: Any) -> tuple[tuple[str, int], ...]:
     out = []
     for name, grade in raw.items():
         if isinstance(grade, bool) or not isinstance(grade, int):
-            r.c.add(path + (name,), f"expected a whole-number grade, got {grade!r}")
+            r.c.add(path + (name,), f"expected a whole-number grade, got {_shown(grade)}")
             continue
         out.append((str(name), grade))
     return tuple(out)
@@ -366,18 +381,20 @@ def inputs_from_data(data: dict[str, Any], collector) -> PlanInputs | None:
     r.unknown(data, (), _TOP_KEYS)
     if data.get("schema_version") != SCHEMA_VERSION:
         collector.add(("schema_version",), f"must be {SCHEMA_VERSION}, got "
-                                           f"{data.get('schema_version')!r}")
+                                           f"{_shown(data.get('schema_version'))}")
     patient = r.section(data, "patient", _PATIENT_KEYS)
     exam = r.section(data, "exam", tuple(_EXAM_KEYS))
     sup = r.section(data, "supervision", ("draft",) + _SIGNOFF_KEYS)
     from planner.safety.context import EXAM_TYPES, MODES
     modes = exam.get("modes", ["b_mode"])
-    if not isinstance(modes, list) or not modes or any(m not in MODES for m in modes):
+    if not isinstance(modes, list) or not modes or \
+            any(not isinstance(m, str) or m not in MODES for m in modes):
         collector.add(("exam", "modes"), f"expected a list of one or more of "
-                                         f"{', '.join(MODES)}, got {modes!r}")
+                                         f"{', '.join(MODES)}, got {_shown(modes)}")
         modes = ["b_mode"]
-    if exam.get("type") is not None and exam.get("type") not in EXAM_TYPES:
-        collector.add(("exam", "type"), f"unknown exam type {exam.get('type')!r}; valid: null "
+    exam_type = exam.get("type")
+    if exam_type is not None and (not isinstance(exam_type, str) or exam_type not in EXAM_TYPES):
+        collector.add(("exam", "type"), f"unknown exam type {_shown(exam_type)}; valid: null "
                                         f"(the target's usual) or {', '.join(EXAM_TYPES)}")
     target = r.text(data, "target", (), nullable=True)
     if target is None and "target" not in data:

@@ -271,7 +271,7 @@ def _doppler_rule(reader: _Reader, raw: Any, where: tuple) -> LocalDopplerRule |
     exams = reader.id_list(raw, where + ("exam_types",), tuple(EXAM_TYPES))
     modes = reader.id_list(raw, where + ("modes",), tuple(MODES))
     permitted = raw.get("permitted")
-    if permitted not in PERMISSIONS:
+    if not isinstance(permitted, str) or permitted not in PERMISSIONS:
         hint = " (YAML reads yes/no as true/false)" if isinstance(permitted, bool) else ""
         reader.problems.add(where + ("permitted",),
                             f"must be one of {', '.join(PERMISSIONS)}, got {permitted!r}{hint}")
@@ -281,7 +281,7 @@ def _doppler_rule(reader: _Reader, raw: Any, where: tuple) -> LocalDopplerRule |
     note = raw.get("note", "")
     if not isinstance(note, str):
         reader.problems.add(where + ("note",), f"must be text, got {note!r}")
-    if not exams or not modes or permitted not in PERMISSIONS:
+    if not exams or not modes or not isinstance(permitted, str) or permitted not in PERMISSIONS:
         return None
     return LocalDopplerRule(exams, modes, str(permitted), weeks, max_ti, minutes, str(note))
 

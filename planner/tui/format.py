@@ -23,6 +23,7 @@ SEVERITY_WORD: dict[str, str] = {"warning": "WARNING", "caution": "CAUTION",
 
 _UNITS: tuple[tuple[str, str], ...] = (
     ("_db_per_cm_mhz", "dB/cm/MHz"), ("_m_per_s", "m/s"), ("_cm_per_s", "cm/s"),
+    ("_cm_s", "cm/s"),
     ("_mw_per_cm2", "mW/cm²"), ("_w_per_cm2", "W/cm²"), ("_kg_per_m3", "kg/m³"),
     ("_mhz", "MHz"), ("_khz", "kHz"), ("_hz", "Hz"), ("_cm", "cm"), ("_mm", "mm"), ("_um", "µm"),
     ("_db", "dB"), ("_deg", "°"), ("_min", "min"), ("_minutes", "min"), ("_s", "s"),
@@ -161,7 +162,7 @@ def _harmonic_band(harmonic: dict) -> str:
     return ""
 
 
-def finding_markup(finding: dict, width_hint: int = 0) -> str:
+def finding_markup(finding: dict) -> str:
     """A finding as an option: tag and title, then the message."""
     return (f"{severity_tag(finding.get('severity', 'info'))} [b]{escape(finding.get('title', ''))}[/b]\n"
             f"{escape(finding.get('message', ''))}")

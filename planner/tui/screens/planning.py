@@ -61,6 +61,7 @@ class PlanningScreen(Screen):
         self.recomputes = 0
         self._last_input_id = "bmi"
         self.built = False
+        self._building = False
 
     def compose(self) -> ComposeResult:
         yield Masthead(id="masthead")
@@ -72,15 +73,16 @@ class PlanningScreen(Screen):
 
     async def build(self) -> None:
         """Mount the form and the plan views, then start loading the engine."""
-        if self.built:
+        if self._building:
             return
-        self.built = True
+        self._building = True
         from planner.tui.widgets.input_panel import InputPanel
         from planner.tui.widgets.plan_pane import PlanPane
-        await self.mount(Horizontal(InputPanel(form_values(self.baseline)), PlanPane(), id="body"),
-                         before=self.query_one(Footer))
+        body = Horizontal(id="body")
+        await self.mount(body, before=self.query_one(Footer))
+        await body.mount_all([InputPanel(form_values(self.baseline)), PlanPane()])
         await self.query_one("#loading").remove()
-        self.query_one("#bmi", Input).focus()
+        self.built = True
         self.load_engine()
 
     @property
@@ -136,9 +138,14 @@ class PlanningScreen(Screen):
         self.outcome = outcome
         unplaced = panel.show_problems(outcome.problems)
         if outcome.plan is not None:
-            self.plan = outcome.plan
             plan = outcome.plan.to_dict()
-            pane.show_plan(plan)
+            try:
+                pane.show_plan(plan)
+            except Exception as exc:  # noqa: BLE001 - a display bug must not end the session
+                outcome.message = f"cannot show this plan ({type(exc).__name__}: {exc}); please report it"
+                outcome.plan = None
+        if outcome.plan is not None:
+            self.plan = outcome.plan
             band = plan["frequency_mhz"]
             band_text = (f"{band['low']:.1f}–{band['high']:.1f} MHz" if band.get("low") is not None
                          else "no usable band")

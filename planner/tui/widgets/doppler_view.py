@@ -8,70 +8,100 @@ from textual.containers import VerticalScroll
 from textual.markup import escape
 from textual.widgets import Static
 
-from planner.tui.format import value_text
+NO_DOPPLER = ("No Doppler section. Tick a Doppler mode (colour, power or pulsed) under "
+              "Exam → Modes; vessel targets then get the Nyquist limit at their depth, the "
+              "recommended frequency and angle, and the remedies for aliasing.")
 
-NO_DOPPLER = ("No Doppler planning in this plan. Tick a Doppler mode (colour, power or pulsed) "
-              "under Exam → Modes to add it for a vessel target.")
+
+def _num(value: Any, digits: int = 0) -> str:
+    if isinstance(value, bool) or not isinstance(value, (int, float)):
+        return "?"
+    return f"{value:.{digits}f}" if digits else f"{value:g}" if abs(value) < 10 else f"{value:.0f}"
 
 
-def _remedy_line(remedy: dict[str, Any]) -> str:
-    removes = remedy.get("removes_aliasing")
-    verdict = "" if removes is None else (" [$success]removes aliasing[/]" if removes
-                                          else " [$warning]not enough alone[/]")
-    changes = remedy.get("changes") or remedy.get("effect") or ""
-    text = escape(str(remedy.get("action", "")))
-    if changes:
-        text += f" [$text-muted]({escape(value_text(changes))})[/]"
-    return f"  • {text}{verdict}"
+def _sourced(record: Any) -> tuple[str, str]:
+    """``(value, 'Source, status')`` of a ``{value, source, status}`` record."""
+    if isinstance(record, dict):
+        status = str(record.get("status", "")).replace("_", " ")
+        return _num(record.get("value")), f"{record.get('source', '?')}, {status}"
+    return _num(record), ""
+
+
+def _expected_lines(vessel: dict) -> list[str]:
+    lines = []
+    expected = vessel.get("expected_cm_s") or {}
+    if expected:
+        (low, low_src), (high, high_src) = _sourced(expected.get("low")), \
+            _sourced(expected.get("high"))
+        lines.append(f"Expected [b]{low}–{high} cm/s[/b] [$text-muted]({escape(low_src)}; "
+                     f"{escape(high_src)})[/]")
+    for threshold in vessel.get("thresholds") or []:
+        value, source = _sourced(threshold)
+        lines.append(f"  {escape(str(threshold.get('label', '')))}: {value} cm/s "
+                     f"[$text-muted]({escape(source)})[/]")
+    return lines
+
+
+def _nyquist_lines(table: list[dict]) -> list[str]:
+    by_freq: dict[float, list[tuple[float, float]]] = {}
+    for row in table:
+        if isinstance(row, dict):
+            by_freq.setdefault(row.get("frequency_mhz"), []).append(
+                (row.get("angle_deg"), row.get("v_max_cm_s")))
+    lines = []
+    for freq, cells in by_freq.items():
+        angles = "/".join(_num(a) for a, _ in cells)
+        limits = " / ".join(_num(v) for _, v in cells)
+        lines.append(f"  {_num(freq)} MHz: {limits} cm/s at {angles}°")
+    return lines
 
 
 def doppler_markup(doppler: dict[str, Any] | None) -> str:
     """The Doppler section of a plan as markup (a note when there is none)."""
     if not doppler:
         return escape(NO_DOPPLER)
-    lines = []
     vessel = doppler.get("vessel") or {}
-    if vessel:
-        lines.append(f"[b]{escape(str(vessel.get('name', vessel.get('id', 'vessel'))))}[/b]")
-        for key, value in vessel.items():
-            if key not in ("id", "name", "sources"):
-                lines.append(f"  {escape(key.replace('_', ' '))}: {escape(value_text(value))}")
-    if doppler.get("depth_cm") is not None:
-        lines.append(f"Depth {doppler['depth_cm']:.1f} cm · range-limited PRF "
-                     f"{value_text(doppler.get('prf_max_hz'), 'Hz')}")
+    kind = ", ".join(str(vessel[k]) for k in ("flow", "quantity") if vessel.get(k))
+    lines = [f"[b]{escape(str(vessel.get('name', 'Vessel')))}[/b]"
+             + (f" [$text-muted]({escape(kind)})[/]" if kind else "")]
+    lines += _expected_lines(vessel)
+    lines.append(f"Depth {_num(doppler.get('depth_cm'), 1)} cm · range-limited PRF up to "
+                 f"{_num(doppler.get('prf_max_hz'))} Hz")
     rec = doppler.get("recommended") or {}
     if rec:
-        lines.append(f"[b]Recommended[/b] {value_text(rec.get('frequency_mhz'), 'MHz')} at "
-                     f"{value_text(rec.get('angle_deg'))}°, Nyquist limit "
-                     f"{value_text(rec.get('v_max_cm_s'), 'cm/s')}")
+        lines.append(f"[b]Set {_num(rec.get('frequency_mhz'))} MHz at {_num(rec.get('angle_deg'))}°"
+                     f"[/b]: no aliasing up to {_num(rec.get('v_max_cm_s'))} cm/s")
         if rec.get("how"):
             lines.append(f"  {escape(str(rec['how']))}")
-    if "aliasing_expected" in doppler:
-        flag = ("[bold $error]ALIASING EXPECTED[/]" if doppler["aliasing_expected"]
-                else "[$success]no aliasing expected[/]")
-        margin = doppler.get("margin")
-        lines.append(flag + (f" [$text-muted]({escape(value_text(margin))})[/]" if margin else ""))
-    remedies = doppler.get("remedies") or []
-    if remedies:
-        lines.append("[b]Remedies[/b], in order")
-        lines += [_remedy_line(r) for r in remedies if isinstance(r, dict)]
     error = doppler.get("velocity_error_percent") or {}
     if error:
-        lines.append(f"Velocity error for ±5° angle uncertainty: {escape(value_text(error, '%'))}")
+        plus, minus = error.get("plus_5_deg"), error.get("minus_5_deg")
+        if isinstance(plus, (int, float)) and isinstance(minus, (int, float)):
+            lines.append(f"Velocity error if the angle is off by +5°: {plus:+.1f} %, "
+                         f"by −5°: {minus:+.1f} %")
+    if doppler.get("aliasing_expected"):
+        margin = doppler.get("margin") or {}
+        lines.append(f"[bold $error]ALIASING EXPECTED[/]: {_num(margin.get('design_velocity_cm_s'))}"
+                     f" cm/s against a limit of {_num(margin.get('v_max_cm_s'))} cm/s")
+    elif "aliasing_expected" in doppler:
+        lines.append("[bold $success]No aliasing expected[/] at the recommended setting")
+    remedies = [r for r in doppler.get("remedies") or [] if isinstance(r, dict)]
+    if remedies:
+        lines.append("[b]Remedies[/b] (each recomputed with the change applied)")
+        for index, remedy in enumerate(remedies, 1):
+            verdict = ("removes aliasing" if remedy.get("removes_aliasing")
+                       else "[$warning]not enough alone[/]")
+            lines.append(f"  {index}. {escape(str(remedy.get('text') or remedy.get('action', '')))}"
+                         f": {verdict}" + (f" [$text-muted]({escape(str(remedy['cost']))})[/]"
+                                           if remedy.get("cost") else ""))
     table = doppler.get("nyquist") or []
     if table:
-        lines.append("[b]Nyquist limit[/b] (frequency, angle → v max)")
-        for row in table[:12]:
-            if isinstance(row, dict):
-                lines.append("  " + escape(", ".join(value_text(v, _unit(k)) for k, v in row.items())))
+        lines.append("[b]Nyquist limit at this depth[/b]")
+        lines += _nyquist_lines(table)
     if doppler.get("sources"):
-        lines.append(f"[$text-muted]Sources: {escape(', '.join(map(str, doppler['sources'])))}[/]")
+        lines.append(f"[$text-muted]Sources: {escape(', '.join(map(str, doppler['sources'])))}"
+                     " (full citations: F3, Enter on a Doppler finding)[/]")
     return "\n".join(lines)
-
-
-def _unit(key: str) -> str:
-    from planner.tui.format import split_unit
-    return split_unit(key)[1]
 
 
 class DopplerView(VerticalScroll):

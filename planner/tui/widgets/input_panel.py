@@ -14,12 +14,13 @@ from textual import on
 from textual.app import ComposeResult
 from textual.containers import Vertical, VerticalScroll
 from textual.suggester import Suggester
-from textual.widgets import Checkbox, Input, Select, SelectionList, Static
+from textual.widgets import Checkbox, Input, Select, Static
 
 from planner.tui.compute import SIGNOFF_FIELDS
 from planner.tui.messages import InputsEdited, TargetPicked
 from planner.tui.widgets.field import FieldRow
 from planner.tui.widgets.target_picker import TargetPicker
+from planner.tui.widgets.tick import Tick
 
 AUTO = "auto"
 """Select value meaning 'let the engine decide' (window, exam type) or 'unknown' (sex)."""
@@ -27,8 +28,7 @@ AUTO = "auto"
 FLAGS = ("pregnancy_possible", "contrast_agent", "febrile", "draft")
 _TEXT_INPUTS = ("bmi", "height_cm", "weight_kg", "wall_mm", "depth_cm", "conditions",
                 "gestation_weeks", "expected_ti", "planned_minutes") + SIGNOFF_FIELDS
-_EVENTS = (Input.Changed, Select.Changed, Checkbox.Changed, SelectionList.SelectedChanged,
-           TargetPicked)
+_EVENTS = (Input.Changed, Select.Changed, Checkbox.Changed, TargetPicked)
 
 
 class ConditionSuggester(Suggester):
@@ -62,6 +62,8 @@ class InputPanel(VerticalScroll):
         self.library = None
         self.suggester = ConditionSuggester()
         self._exam_ids: set[str] = set()
+        self.mode_ids: tuple[str, ...] = ()
+        self._rows: dict[str, FieldRow] = {}
 
     def compose(self) -> ComposeResult:
         v = self.values
@@ -88,21 +90,19 @@ class InputPanel(VerticalScroll):
         yield FieldRow("Exam type", Select([("target's usual", AUTO)], value=AUTO,
                                            allow_blank=False, compact=True, id="exam_type"),
                        field="exam_type")
-        yield FieldRow("Modes", SelectionList[str](compact=True, id="modes"), field="modes",
-                       stacked=True)
+        yield FieldRow("Modes", Vertical(id="modes"), field="modes", stacked=True)
         yield FieldRow("Gestation wk", _text("gestation_weeks", v["gestation_weeks"], "optional"),
                        field="gestation_weeks")
-        yield Checkbox("Pregnancy possible", v["pregnancy_possible"], id="pregnancy_possible",
-                       compact=True)
-        yield Checkbox("Gas contrast agent", v["contrast_agent"], id="contrast_agent",
-                       compact=True)
-        yield Checkbox("Febrile patient", v["febrile"], id="febrile", compact=True)
+        yield Tick("Pregnancy possible", v["pregnancy_possible"], id="pregnancy_possible",
+                   compact=True)
+        yield Tick("Gas contrast agent", v["contrast_agent"], id="contrast_agent", compact=True)
+        yield Tick("Febrile patient", v["febrile"], id="febrile", compact=True)
         yield FieldRow("Expected TI", _text("expected_ti", v["expected_ti"], "as displayed"),
                        field="expected_ti")
         yield FieldRow("Minutes", _text("planned_minutes", v["planned_minutes"], "planned dwell"),
                        field="planned_minutes")
         yield Static("Supervision", classes="section")
-        yield Checkbox("Supervised draft", v["draft"], id="draft", compact=True)
+        yield Tick("Supervised draft", v["draft"], id="draft", compact=True)
         with Vertical(id="signoff"):
             for name, label in zip(SIGNOFF_FIELDS, ("Student", "Supervisor", "Date",
                                                     "Comments", "Reflection")):
@@ -110,6 +110,7 @@ class InputPanel(VerticalScroll):
 
     def on_mount(self) -> None:
         self.query_one("#signoff").display = bool(self.values["draft"])
+        self.query_one("#bmi", Input).focus()
 
     # -- engine data ------------------------------------------------------------------------
     def set_library(self, library, exam_types: dict[str, str], modes: dict[str, str],
@@ -124,9 +125,10 @@ class InputPanel(VerticalScroll):
             self.query_one("#exam_type", Select).set_options(
                 [("target's usual", AUTO)] + [(label, key) for key, label in exam_types.items()])
             chosen = set(self.values.get("modes") or ("b_mode",))
-            modes_list = self.query_one("#modes", SelectionList)
-            modes_list.clear_options()
-            modes_list.add_options([(label, key, key in chosen) for key, label in modes.items()])
+            self.mode_ids = tuple(modes)
+            self.query_one("#modes").mount_all(
+                [Tick(label, key in chosen, id=f"mode-{key}", compact=True)
+                 for key, label in modes.items()])
         self.fill(self.values)
 
     def _window_options(self, target_id: str) -> list[tuple[str, str]]:
@@ -144,9 +146,9 @@ class InputPanel(VerticalScroll):
             value = self.query_one(f"#{name}", Select).value
             out[name] = None if value in (AUTO, Select.NULL) else value
         out["target_id"] = self.query_one(TargetPicker).chosen_id
-        modes_list = self.query_one("#modes", SelectionList)
-        out["modes"] = tuple(modes_list.selected) if modes_list.option_count else \
-            tuple(self.values.get("modes") or ("b_mode",))
+        out["modes"] = tuple(m for m in self.mode_ids
+                             if self.query_one(f"#mode-{m}", Checkbox).value) \
+            if self.mode_ids else tuple(self.values.get("modes") or ("b_mode",))
         for name in FLAGS:
             out[name] = self.query_one(f"#{name}", Checkbox).value
         self.values = dict(out)
@@ -169,18 +171,16 @@ class InputPanel(VerticalScroll):
             exam = self.query_one("#exam_type", Select)
             known = values.get("exam_type") in self._exam_ids
             exam.value = values["exam_type"] if known else AUTO
-            modes_list = self.query_one("#modes", SelectionList)
-            modes_list.deselect_all()
-            for mode in values.get("modes") or ():
-                if modes_list.option_count:
-                    modes_list.select(mode)
+            for mode in self.mode_ids:
+                self.query_one(f"#mode-{mode}", Checkbox).value = mode in (values.get("modes") or ())
             for name in FLAGS:
                 self.query_one(f"#{name}", Checkbox).value = bool(values.get(name))
         self.query_one("#signoff").display = bool(values.get("draft"))
 
     def show_problems(self, problems: dict[str, str]) -> dict[str, str]:
         """Mark each field with its problem; return the problems no field shows."""
-        rows = {row.field: row for row in self.query(FieldRow)}
+        rows = self._rows or {row.field: row for row in self.query(FieldRow)}
+        self._rows = rows
         for name, row in rows.items():
             message = problems.get(name) or ""
             if message != row.error:
@@ -204,7 +204,6 @@ class InputPanel(VerticalScroll):
     @on(Input.Changed)
     @on(Select.Changed)
     @on(Checkbox.Changed)
-    @on(SelectionList.SelectedChanged)
     def _edited(self, event) -> None:
         event.stop()
         self.post_message(InputsEdited())

@@ -7,13 +7,15 @@ from textual.widgets import Static
 
 
 def masthead_markup(target_name: str, source: str, edited: bool, draft: bool) -> str:
-    """The masthead text: name of the tool, target, the plan's origin and the draft mark."""
-    parts = [f"[b]scanplan[/b] · {escape(target_name)}"]
-    if source:
-        parts.append(f"[bold $warning]{escape(source)}[/]" + (" (edited)" if edited else ""))
+    """The masthead text: the tool, the draft mark, where the plan came from, the target
+    (most important first, as a narrow terminal cuts the end)."""
+    parts = ["[b]scanplan[/b]"]
     if draft:
         parts.append("[bold reverse] DRAFT [/] for supervisor review")
-    return "  │  ".join(parts)
+    if source:
+        parts.append(f"[bold $warning]{escape(source)}[/]" + (" (edited)" if edited else ""))
+    parts.append(escape(target_name))
+    return " │ ".join(parts)
 
 
 class Masthead(Static):

@@ -4,6 +4,7 @@ from __future__ import annotations
 
 from textual.app import ComposeResult
 from textual.containers import Horizontal, Vertical, VerticalScroll
+from textual.content import Content
 from textual.markup import escape
 from textual.widgets import DataTable, Label, Static
 
@@ -25,11 +26,21 @@ def windows_rows(plan: dict) -> list[tuple[str, ...]]:
     return rows
 
 
+def _line_count(markup: str, width: int) -> int:
+    return sum(max(1, len(Content.from_markup(line).wrap(width))) for line in markup.split("\n"))
+
+
 def set_markup(static: Static, markup: str) -> None:
-    """Update ``static`` only when its markup changes (saves a layout pass)."""
-    if getattr(static, "_markup_shown", None) != markup:
-        static._markup_shown = markup
-        static.update(markup)
+    """Update ``static`` when its markup changes; skip the layout pass when the new text
+    takes as many lines as the old (the common case while typing a number)."""
+    old = getattr(static, "_markup_shown", None)
+    if old == markup:
+        return
+    static._markup_shown = markup
+    width = static.content_region.width
+    same_height = old is not None and width > 0 and \
+        _line_count(old, width) == _line_count(markup, width)
+    static.update(markup, layout=not same_height)
 
 
 def layers_markup(plan: dict) -> str:
@@ -76,11 +87,19 @@ class PlanSummary(VerticalScroll):
                                             f"{reference:g} MHz)[/]" if reference else ""))
         rows = windows_rows(plan)
         table = self.query_one("#windows-table", DataTable)
-        if rows != getattr(table, "_rows_shown", None):
+        shown = getattr(table, "_rows_shown", None)
+        if rows != shown:
             table._rows_shown = rows
-            table.clear()
-            for row in rows:
-                table.add_row(*row)
+            if shown is not None and len(shown) == len(rows) and \
+                    all(len(a[1]) == len(b[1]) for a, b in zip(shown, rows)):
+                for y, (old_row, new_row) in enumerate(zip(shown, rows)):
+                    for x, (old_cell, new_cell) in enumerate(zip(old_row, new_row)):
+                        if old_cell != new_cell:
+                            table.update_cell_at((y, x), new_cell)
+            else:
+                table.clear()
+                for row in rows:
+                    table.add_row(*row)
         advice = (plan.get("tilt") or {}).get("advice", "")
         set_markup(self.query_one("#tilt-advice", Static),
                    f"[b]Tilt[/b]  {escape(advice)}" if advice else "")
