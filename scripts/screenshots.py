@@ -10,9 +10,11 @@ Usage: ``python scripts/screenshots.py [--out screenshots] [--no-png]``.
 from __future__ import annotations
 
 import argparse
+import os
 import asyncio
 import shutil
 import subprocess
+import tempfile
 import sys
 from pathlib import Path
 
@@ -76,7 +78,15 @@ def main(argv: list[str] | None = None) -> int:
         line = f"{svg.relative_to(out.parent) if out.parent in svg.parents else svg}  ({what})"
         if converter:
             png = svg.with_suffix(".png")
-            subprocess.run([converter, "-o", str(png), str(svg)], check=True)
+            # rsvg drops a space that starts a text run unless whitespace is preserved
+            # (terminals and browsers keep it); convert from a preserving copy.
+            text = svg.read_text(encoding="utf-8").replace("<svg ", '<svg xml:space="preserve" ', 1)
+            with tempfile.NamedTemporaryFile("w", suffix=".svg", delete=False) as tmp:
+                tmp.write(text)
+            try:
+                subprocess.run([converter, "-o", str(png), tmp.name], check=True)
+            finally:
+                os.unlink(tmp.name)
             line += f" + {png.name}"
         print(line)
     if not converter and not args.no_png:

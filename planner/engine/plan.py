@@ -116,8 +116,11 @@ def rank_assessments(assessments: list[WindowAssessment]) -> tuple[list[WindowAs
     return ranked, reference
 
 
-def _exam_context(request: PlanRequest, target, chosen: WindowAssessment,
-                  doppler: dict | None) -> ExamContext:
+def default_exam_context(request: PlanRequest, target, chosen: WindowAssessment,
+                         doppler: dict | None = None) -> ExamContext:
+    """The exam context the engine assumes when the request gives none: the target's exam type,
+    the patient's gestation, Doppler modes when Doppler is planned, bone near the focus and lung
+    in the beam by the target and window."""
     if request.context is not None:
         return request.context
     weeks = request.patient.gestation_weeks
@@ -188,7 +191,7 @@ def make_plan(request: PlanRequest) -> Plan:
             tilt = dict(tilt, advice=tilt["advice"] + " For Doppler do the opposite: keep the "
                         "beam-to-flow angle at 60 deg or less, not perpendicular (see Doppler).")
     findings.sort(key=lambda f: -severity_rank(f.severity))
-    exam = _exam_context(request, target, chosen, doppler)
+    exam = default_exam_context(request, target, chosen, doppler)
     policy = load_local_policy(request.local_policy_path) if request.local_policy_path else None
     safety = safety_findings(exam, policy)
     opt = chosen.best
