@@ -8,8 +8,9 @@ from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Vertical, VerticalScroll
 from textual.markup import escape
-from textual.screen import ModalScreen
 from textual.widgets import Static
+
+from planner.tui.screens.closing import OnceModal
 
 from planner.tui.format import severity_tag, value_rows
 
@@ -48,7 +49,7 @@ def explanation_markup(finding: dict[str, Any]) -> str:
     return "\n".join(parts)
 
 
-class ExplainScreen(ModalScreen[None]):
+class ExplainScreen(OnceModal[None]):
     """A modal with :func:`explanation_markup`; Escape or Enter closes it."""
 
     BINDINGS = [Binding("escape,enter", "close", "Close", show=True)]
@@ -68,4 +69,4 @@ class ExplainScreen(ModalScreen[None]):
         self.query_one("#explain-scroll").focus()
 
     def action_close(self) -> None:
-        self.dismiss(None)
+        self.close_once(None)

@@ -5,8 +5,9 @@ from __future__ import annotations
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Vertical, VerticalScroll
-from textual.screen import ModalScreen
 from textual.widgets import Static
+
+from planner.tui.screens.closing import OnceModal
 
 KEYS: tuple[tuple[str, str], ...] = (
     ("Tab / Shift+Tab", "next / previous field"),
@@ -36,7 +37,7 @@ ABOUT = (
     "sources; open it for the numbers and the formula in words.")
 
 
-class HelpScreen(ModalScreen[None]):
+class HelpScreen(OnceModal[None]):
     """Keys and a short description; Escape closes it."""
 
     BINDINGS = [Binding("escape,f1,enter", "close", "Close", show=True)]
@@ -55,4 +56,4 @@ class HelpScreen(ModalScreen[None]):
         self.query_one("#help-scroll").focus()
 
     def action_close(self) -> None:
-        self.dismiss(None)
+        self.close_once(None)

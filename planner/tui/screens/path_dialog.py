@@ -9,8 +9,9 @@ from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Vertical, VerticalScroll
 from textual.markup import escape
-from textual.screen import ModalScreen
 from textual.widgets import Input, Static
+
+from planner.tui.screens.closing import OnceModal
 
 
 @dataclass(frozen=True)
@@ -24,7 +25,7 @@ class PathRequest:
     confirm: bool = False
 
 
-class PathDialog(ModalScreen[str | None]):
+class PathDialog(OnceModal[str | None]):
     """Returns the path typed (Enter) or None (Escape)."""
 
     BINDINGS = [Binding("escape", "cancel", "Cancel", show=True)]
@@ -52,7 +53,7 @@ class PathDialog(ModalScreen[str | None]):
     @on(Input.Submitted, "#path-input")
     def _submitted(self, event: Input.Submitted) -> None:
         event.stop()
-        self.dismiss(event.value.strip() or None)
+        self.close_once(event.value.strip() or None)
 
     def action_cancel(self) -> None:
-        self.dismiss(None)
+        self.close_once(None)
