@@ -76,8 +76,11 @@ class PlanSummary(VerticalScroll):
 
     def show_plan(self, plan: dict) -> None:
         """Show ``plan`` (a plan as a dict)."""
-        self.query_one("#summary-message").display = False
-        self.query_one("#summary-card").display = True
+        message, card = self.query_one("#summary-message"), self.query_one("#summary-card")
+        if message.display:
+            message.display = False
+        if not card.display:
+            card.display = True
         for index, (_, value) in enumerate(summary_rows(plan)):
             set_markup(self.query_one(f"#summary-{index}", Static), value)
         windows = plan.get("windows") or []
