@@ -19,6 +19,7 @@ KEYS: tuple[tuple[str, str], ...] = (
     ("Ctrl+R", "export a report (.md or .html)"),
     ("Ctrl+G", "supervised draft on or off (adds sign-off fields)"),
     ("Ctrl+N", "new plan (clear the inputs)"),
+    ("F7", "a department protocol: its problems or its sheet"),
     ("F9", "light or dark theme"),
     ("Ctrl+P", "command palette"),
     ("F1", "this help"),

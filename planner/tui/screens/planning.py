@@ -20,7 +20,7 @@ from textual.markup import escape
 from textual.screen import Screen
 from textual.widgets import Checkbox, Footer, Input, Static
 
-from planner.errors import DataError, PlannerError
+from planner.errors import DataError, InputError, PlannerError
 from planner.planfile import PlanInputs
 from planner.tui.compute import FIELD_LABELS, Outcome, compute, form_values
 from planner.tui.demo import DEMO_INPUTS, DEMO_LABEL
@@ -40,6 +40,7 @@ class PlanningScreen(Screen):
         Binding("ctrl+o", "open", "Open"),
         Binding("ctrl+r", "export", "Export"),
         Binding("ctrl+g", "toggle_draft", "Draft"),
+        Binding("f7", "protocol", "Protocol"),
         Binding("f2", "view('plan')", "Views", key_display="F2-F6"),
         Binding("f3", "view('findings')", "Findings", show=False),
         Binding("f4", "view('safety')", "Safety", show=False),
@@ -62,6 +63,7 @@ class PlanningScreen(Screen):
         self._last_input_id = "bmi"
         self.built = False
         self._building = False
+        self._protocol_path = "protocol.yaml"
 
     def compose(self) -> ComposeResult:
         yield Masthead(id="masthead")
@@ -253,6 +255,23 @@ class PlanningScreen(Screen):
         inputs = load_plan_inputs(Path(path).expanduser())
         self._adopt(inputs, Path(path).name)
         self.notify(f"Opened {path}")
+        return None
+
+    def action_protocol(self) -> None:
+        self._ask(PathRequest("Open a department protocol", "A protocol file (YAML): its "
+                              "problems, or its sheet for every WHO habitus class.",
+                              self._protocol_path),
+                  lambda path, confirm: self._open_protocol(path), must_exist=True)
+
+    def _open_protocol(self, path: str) -> str | None:
+        from planner.tui.screens.protocol import ProtocolScreen
+        target = Path(path).expanduser()
+        if target.is_dir():
+            raise InputError(f"{path}: is a folder, not a protocol file")
+        if not target.exists():
+            raise InputError(f"{path}: no such file")
+        self._protocol_path = path
+        self.app.push_screen(ProtocolScreen(target))
         return None
 
     def action_export(self) -> None:
