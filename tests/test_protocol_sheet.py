@@ -115,7 +115,7 @@ def test_every_view_has_one_row_per_who_class_at_a_bmi_inside_the_class(upper):
 def test_heaviest_class_gets_a_lower_top_frequency_than_normal_for_deep_views(upper):
     """Practice: deep targets in large patients need a lower frequency (penetration about
     40/f cm, RadiologyPhysicsSummary; drop to the low band of the curvilinear probe for
-    deep targets, PRACTICE 'Lower transmit frequency'); a thicker wall makes every target
+    deep targets, common practice); a thicker wall makes every target
     deeper (HabitusPracticeModel). Deep = 8 cm or more at normal weight."""
     deep = 0
     for view in upper.data["views"]:

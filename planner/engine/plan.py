@@ -165,7 +165,7 @@ def _no_window_findings(target, ranked: list[WindowAssessment]) -> list[Finding]
 
 
 def make_plan(request: PlanRequest) -> Plan:
-    """Compute the plan for one patient and target (see DESIGN.md section 3)."""
+    """Compute the plan for one patient and target (architecture: DEVELOPERS.md)."""
     target = load_library().get(request.target_id)
     windows = [_window_by_id(target, request.window_id)] if request.window_id else list(target.windows)
     inventory = load_inventory(request.probes_path)
