@@ -18,6 +18,7 @@ from textual.widgets import Checkbox, Input, Select, Static
 
 from planner.tui.compute import SIGNOFF_FIELDS
 from planner.tui.messages import InputsEdited, TargetPicked
+from planner.tui.widgets.form_input import FormInput
 from planner.tui.widgets.field import FieldRow
 from planner.tui.widgets.target_picker import TargetPicker
 from planner.tui.widgets.tick import Tick
@@ -50,7 +51,7 @@ class ConditionSuggester(Suggester):
 
 
 def _text(field: str, value: str, placeholder: str = "") -> Input:
-    return Input(value=value, id=field, compact=True, placeholder=placeholder)
+    return FormInput(value=value, id=field, compact=True, placeholder=placeholder)
 
 
 class InputPanel(VerticalScroll):
