@@ -49,10 +49,8 @@ def request_from_args(args):
     """Build a PlanRequest from parsed arguments (InputError on impossible values)."""
     from planner.body.conditions import parse_condition
     from planner.body.patient import Patient
-    from planner.engine.plan import bone_near_focus
     from planner.engine.request import PlanRequest
     from planner.library.targets import load_library
-    from planner.safety import ExamContext
 
     target = load_library().get(args.target)
     conditions: dict[str, int] = {}
@@ -63,29 +61,24 @@ def request_from_args(args):
                                   sex=args.sex, conditions=conditions,
                                   gestation_weeks=args.gestation_weeks, wall_mm=args.wall_mm,
                                   fat_mm=args.fat_mm, depth_cm=args.depth_cm)
-    context = None
-    if (args.exam or args.mode or args.contrast or args.febrile or args.lung_in_beam
-            or args.pregnancy_possible or args.expected_ti is not None or args.minutes is not None
-            or args.expected_mi is not None or args.doppler):
-        exam = args.exam or target.exam_type
-        modes = list(args.mode) or ["b_mode"]
+    exam = args.exam or target.exam_type
+    if args.gestation_weeks is not None and exam.startswith("neonatal"):
+        from planner.errors import InputError
+        raise InputError(f"a gestational age does not apply to a {exam.replace('_', ' ')} exam")
+    overrides: dict = {name: value for name, value in (
+        ("exam_type", args.exam), ("expected_ti", args.expected_ti),
+        ("planned_minutes", args.minutes), ("expected_mi", args.expected_mi)) if value is not None}
+    overrides.update({name: True for name, flag in (
+        ("contrast_agent", args.contrast), ("febrile", args.febrile),
+        ("lung_in_beam", args.lung_in_beam), ("pregnancy_possible", args.pregnancy_possible))
+        if flag})
+    if args.mode:
+        modes = list(args.mode)
         if args.doppler and not any(m.endswith("doppler") for m in modes):
             modes.append("pulsed_doppler")
-        pregnant = exam in ("obstetric", "gynaecological")
-        if args.gestation_weeks is not None and exam.startswith("neonatal"):
-            from planner.errors import InputError
-            raise InputError(f"a gestational age does not apply to a {exam.replace('_', ' ')} exam")
-        context = ExamContext(
-            exam_type=exam, gestation_weeks=args.gestation_weeks if pregnant else None,
-            pregnancy_possible=args.pregnancy_possible or (
-                args.gestation_weeks is not None and exam != "obstetric"),
-            modes=tuple(modes), contrast_agent=args.contrast, febrile=args.febrile,
-            lung_in_beam=args.lung_in_beam or target.region == "thorax",
-            bone_near_focus=bone_near_focus(target, target.windows[0] if not args.window
-                                            else target.window(args.window)),
-            expected_ti=args.expected_ti, planned_minutes=args.minutes,
-            expected_mi=args.expected_mi)
-    return PlanRequest(target_id=target.id, patient=patient, window_id=args.window, context=context,
+        overrides["modes"] = tuple(modes)
+    return PlanRequest(target_id=target.id, patient=patient, window_id=args.window,
+                       context_overrides=overrides or None,
                        probes_path=args.probes, local_policy_path=args.local, doppler=args.doppler,
                        draft=args.draft)
 

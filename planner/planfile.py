@@ -121,12 +121,11 @@ def custom_context(inputs: PlanInputs) -> bool:
             or inputs.expected_ti is not None or inputs.planned_minutes is not None)
 
 
-def exam_context(inputs: PlanInputs, target, *, window=None, bone_near_gate: bool = False):
-    """The exam context the user asked for, or None to let the engine choose it.
+def exam_context(inputs: PlanInputs, target) -> dict | None:
+    """The exam-context fields the user set, or None to let the engine choose them all.
 
-    Bone near the focus follows the target tissue, the window (``window``, else the chosen
-    or the usual window) and a Doppler gate near bone; aerated lung is in the beam for
-    thorax targets. A gestational age marks a possible pregnancy in non-obstetric exams.
+    The engine derives the rest (bone near the focus, lung in the beam, gestation) exactly as
+    for a plan without user context (:func:`planner.engine.plan.default_exam_context`).
     """
     exam_type = inputs.exam_type or target.exam_type
     weeks, possible = inputs.gestation_weeks, inputs.pregnancy_possible
@@ -135,31 +134,20 @@ def exam_context(inputs: PlanInputs, target, *, window=None, bone_near_gate: boo
                          f"{exam_type.replace('_', ' ')} exam")
     if not custom_context(inputs):
         return None
-    from planner.engine.plan import BONE_TARGET_TISSUES
-    from planner.safety import ExamContext
-    if window is None:
-        window = target.window(inputs.window_id) if inputs.window_id else target.windows[0]
-    bone = target.target_tissue in BONE_TARGET_TISSUES or window.bone_in_path or bone_near_gate
-    lung = target.region == "thorax"
-    if exam_type == "obstetric":
-        ctx_weeks, lung = weeks, False
-    elif exam_type == "gynaecological":
-        ctx_weeks, possible, lung = weeks, possible or weeks is not None, False
-    elif exam_type.startswith("neonatal"):
-        ctx_weeks = None
-    else:
-        ctx_weeks, possible = None, possible or weeks is not None
-    return ExamContext(exam_type=exam_type, gestation_weeks=ctx_weeks, pregnancy_possible=possible,
-                       modes=inputs.modes, contrast_agent=inputs.contrast_agent,
-                       febrile=inputs.febrile, lung_in_beam=lung, bone_near_focus=bone,
-                       expected_ti=inputs.expected_ti, planned_minutes=inputs.planned_minutes)
+    fields = {"exam_type": inputs.exam_type, "expected_ti": inputs.expected_ti,
+              "planned_minutes": inputs.planned_minutes}
+    overrides = {name: value for name, value in fields.items() if value is not None}
+    overrides.update({name: True for name in ("contrast_agent", "febrile", "pregnancy_possible")
+                      if getattr(inputs, name)})
+    if tuple(inputs.modes) != ("b_mode",):
+        overrides["modes"] = tuple(inputs.modes)
+    return overrides
 
 
-def to_request(inputs: PlanInputs, *, window_id: str | None = None, bone_near_gate: bool = False):
+def to_request(inputs: PlanInputs):
     """Turn the inputs into a :class:`planner.engine.PlanRequest` (InputError if impossible).
 
-    Doppler planning is asked for when a Doppler mode is planned. ``window_id`` and
-    ``bone_near_gate`` refine the exam context once a first plan has chosen its window.
+    Doppler planning is asked for when a Doppler mode is planned.
     """
     from planner.engine.request import PlanRequest
     from planner.library.targets import load_library
@@ -167,27 +155,15 @@ def to_request(inputs: PlanInputs, *, window_id: str | None = None, bone_near_ga
     target = load_library().get(inputs.target_id)
     if inputs.window_id:
         target.window(inputs.window_id)
-    window = target.window(window_id) if window_id else None
     return PlanRequest(target_id=target.id, patient=_patient(inputs), window_id=inputs.window_id,
-                       context=exam_context(inputs, target, window=window,
-                                            bone_near_gate=bone_near_gate),
+                       context_overrides=exam_context(inputs, target),
                        doppler=any(m in DOPPLER_MODES for m in inputs.modes), draft=inputs.draft)
 
 
 def make_plan_for(inputs: PlanInputs):
-    """The plan for ``inputs`` (a :class:`planner.engine.Plan`; InputError if impossible).
-
-    With a user-set exam context the plan is made twice when needed: the second time with
-    bone near the focus judged on the window the first plan chose and on its Doppler gate.
-    """
+    """The plan for ``inputs`` (a :class:`planner.engine.Plan`; InputError if impossible)."""
     from planner.engine import make_plan
-    request = to_request(inputs)
-    plan = make_plan(request)
-    if request.context is None:
-        return plan
-    gate = bool(((plan.doppler or {}).get("safety") or {}).get("bone_near_gate"))
-    refined = to_request(inputs, window_id=plan.window["id"], bone_near_gate=gate)
-    return plan if refined.context == request.context else make_plan(refined)
+    return make_plan(to_request(inputs))
 
 
 _CONTEXT_FIELDS = (("expected_ti", "expected_ti"), ("planned_minutes", "planned_minutes"),
@@ -253,7 +229,10 @@ def check_inputs(inputs: PlanInputs) -> dict[str, str]:
     if patient is None:
         return problems
     try:
-        exam_context(inputs, target)
+        from planner.engine.plan import default_exam_context
+        request = to_request(inputs)
+        window = target.window(inputs.window_id) if inputs.window_id else target.windows[0]
+        default_exam_context(request, target, window)     # the engine's own rules validate it
     except (PlannerError, ValueError) as exc:
         message = getattr(exc, "message", None) or str(exc)
         name = next((f for key, f in _CONTEXT_FIELDS if key in message), "exam_type")

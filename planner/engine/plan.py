@@ -116,24 +116,29 @@ def rank_assessments(assessments: list[WindowAssessment]) -> tuple[list[WindowAs
     return ranked, reference
 
 
-def default_exam_context(request: PlanRequest, target, chosen: WindowAssessment,
+def default_exam_context(request: PlanRequest, target, window,
                          doppler: dict | None = None) -> ExamContext:
-    """The exam context the engine assumes when the request gives none: the target's exam type,
-    the patient's gestation, Doppler modes when Doppler is planned, bone near the focus and lung
-    in the beam by the target and window."""
+    """The exam context of a plan: the request's complete context when it gives one; otherwise
+    the target's exam type (or the user's), the patient's gestation, Doppler modes when Doppler
+    is planned, bone near the focus (target, window, Doppler gate) and lung in the beam,
+    with any fields the user set (``request.context_overrides``) taking precedence."""
     if request.context is not None:
         return request.context
+    overrides = dict(request.context_overrides or {})
+    exam_type = overrides.pop("exam_type", None) or target.exam_type
     weeks = request.patient.gestation_weeks
-    bone = bone_near_focus(target, chosen.window) \
+    bone = bone_near_focus(target, window) \
         or bool(doppler and doppler.get("safety", {}).get("bone_near_gate"))
-    modes = DOPPLER_PLAN_MODES if request.doppler else ("b_mode",)
-    if target.exam_type in ("obstetric", "gynaecological"):
-        return ExamContext(exam_type=target.exam_type, gestation_weeks=weeks,
-                           pregnancy_possible=weeks is not None and target.exam_type == "gynaecological",
-                           bone_near_focus=bone, modes=modes)
-    pregnant = weeks is not None and not target.exam_type.startswith("neonatal")
-    return ExamContext(exam_type=target.exam_type, pregnancy_possible=pregnant, modes=modes,
-                       bone_near_focus=bone, lung_in_beam=target.region == "thorax")
+    fields: dict = {"exam_type": exam_type, "bone_near_focus": bone,
+                    "modes": DOPPLER_PLAN_MODES if request.doppler else ("b_mode",)}
+    if exam_type in ("obstetric", "gynaecological"):
+        fields.update(gestation_weeks=weeks,
+                      pregnancy_possible=weeks is not None and exam_type == "gynaecological")
+    else:
+        fields.update(pregnancy_possible=weeks is not None and not exam_type.startswith("neonatal"),
+                      lung_in_beam=target.region == "thorax")
+    fields.update(overrides)
+    return ExamContext(**fields)
 
 
 def _window_summary(a: WindowAssessment, reference_mhz: float) -> dict:
@@ -191,7 +196,7 @@ def make_plan(request: PlanRequest) -> Plan:
             tilt = dict(tilt, advice=tilt["advice"] + " For Doppler do the opposite: keep the "
                         "beam-to-flow angle at 60 deg or less, not perpendicular (see Doppler).")
     findings.sort(key=lambda f: -severity_rank(f.severity))
-    exam = default_exam_context(request, target, chosen, doppler)
+    exam = default_exam_context(request, target, chosen.window, doppler)
     policy = load_local_policy(request.local_policy_path) if request.local_policy_path else None
     safety = safety_findings(exam, policy)
     opt = chosen.best

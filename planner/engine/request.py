@@ -20,7 +20,11 @@ class PlanRequest:
     window_id : str or None
         Force one window; None ranks every candidate window.
     context : ExamContext or None
-        Exam context for the safety rules; None uses the target's usual exam type.
+        A complete exam context for the safety rules; None lets the engine derive it.
+    context_overrides : dict or None
+        Exam-context fields the user set (exam_type, modes, expected_ti, planned_minutes,
+        contrast_agent, febrile, pregnancy_possible, lung_in_beam, expected_mi, ...); the
+        engine derives the rest (bone near the focus, lung in the beam, gestation) as usual.
     probes_path, local_policy_path : str or None
         A department probe inventory and local policy file.
     doppler : bool
@@ -33,6 +37,7 @@ class PlanRequest:
     patient: Patient = field(default_factory=Patient)
     window_id: str | None = None
     context: ExamContext | None = None
+    context_overrides: dict | None = None
     probes_path: str | None = None
     local_policy_path: str | None = None
     doppler: bool = False

@@ -69,7 +69,7 @@ from typing import Any
 from planner.body.habitus import BMI_CLASSES, REPRESENTATIVE_BMI
 from planner.body.patient import Patient
 from planner.engine import Plan, PlanRequest, make_plan
-from planner.engine.plan import bone_near_focus
+from planner.engine.plan import default_exam_context
 from planner.errors import DataError, InputError
 from planner.library.probes import ProbeInventory, load_inventory
 from planner.library.targets import load_library
@@ -155,14 +155,13 @@ def _inventory_path(protocol: Protocol, protocol_path: str | os.PathLike[str] | 
     return None, "the default generic inventory"
 
 
-def _view_context(protocol: Protocol, view: View, target, window, weeks: float | None) -> ExamContext:
-    """Exam context of one view: the protocol's exam type, the view's Doppler modes, and
-    bone near the focus by the same rule as the plan engine (bone or cartilage targets,
-    fetal head and spine, infant hip, bone on the window's path)."""
+def _view_context(protocol: Protocol, view: View, target, window, patient: Patient) -> ExamContext:
+    """Exam context of one view: the protocol's exam type and the view's Doppler modes; the
+    engine derives the rest (bone near the focus, lung in the beam, gestation) by its own rules."""
     modes = ("b_mode",) + (view.doppler.modes if view.doppler else ())
-    bone = bone_near_focus(target, window)
-    return ExamContext(exam_type=protocol.exam_type, gestation_weeks=weeks, modes=modes,
-                       bone_near_focus=bone, lung_in_beam=target.region == "thorax")
+    request = PlanRequest(view.target, patient, window_id=view.window,
+                          context_overrides={"exam_type": protocol.exam_type, "modes": modes})
+    return default_exam_context(request, target, window)
 
 
 def _harmonic(plan: Plan) -> dict[str, Any]:
@@ -282,7 +281,7 @@ def _plan_views(protocol: Protocol, classes: tuple[str, ...], inv_path: str | No
     for view in protocol.views:
         target = library.get(view.target)
         window = target.window(view.window)
-        ctx = _view_context(protocol, view, target, window, weeks)
+        ctx = _view_context(protocol, view, target, window, patients[classes[0]])
         contexts.append(ctx)
         rows = []
         for c in classes:
