@@ -23,6 +23,7 @@ from importlib import resources
 from pathlib import Path
 from typing import Iterator
 
+from planner.safety.context import EXAM_TYPES as _SAFETY_EXAM_TYPES
 from planner.errors import DataError, InputError
 from planner.library.probes import PROBE_TYPES
 from planner.provenance import Sourced
@@ -48,10 +49,7 @@ REGIONS: tuple[str, ...] = ("abdomen", "pelvis", "obstetric", "small_parts", "va
                             "musculoskeletal", "thorax", "cardiac", "neonatal", "head")
 """Body regions used to group targets."""
 
-EXAM_TYPES: tuple[str, ...] = (
-    "general_abdominal", "obstetric", "gynaecological", "neonatal_head", "neonatal_spine",
-    "neonatal_other", "adult_transcranial", "ophthalmic", "peripheral_vascular",
-    "musculoskeletal", "small_parts", "cardiac", "thorax")
+EXAM_TYPES: tuple[str, ...] = tuple(_SAFETY_EXAM_TYPES)
 """Exam types; they select the thermal-index and scan-time tables."""
 
 REFLECTORS: tuple[str, ...] = ("specular", "diffuse", "mixed", "fluid")

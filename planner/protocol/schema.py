@@ -20,16 +20,13 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 from typing import Any
 
+from planner.safety.context import EXAM_TYPES as _SAFETY_EXAM_TYPES
 from planner.provenance import STATUSES, Sourced
 
 SCHEMA_VERSION = 1
 """The only protocol ``schema_version`` this release reads."""
 
-EXAM_TYPES: tuple[str, ...] = (
-    "general_abdominal", "obstetric", "gynaecological", "neonatal_head", "neonatal_spine",
-    "neonatal_other", "adult_transcranial", "ophthalmic", "peripheral_vascular",
-    "musculoskeletal", "small_parts", "cardiac", "thorax",
-)
+EXAM_TYPES: tuple[str, ...] = tuple(_SAFETY_EXAM_TYPES)
 """Exam types; the same ids as the safety rules and the target library use."""
 
 POSITIONS: tuple[str, ...] = (
