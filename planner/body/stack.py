@@ -96,68 +96,148 @@ def steatotic_liver(grade: int) -> Tissue:
                    attenuation_db_per_cm_mhz=float(alpha.value), provenance=prov)
 
 
+def wall_thickness_mm(model: WallModel, bmi, sex: str | None, wall_factor: float, *,
+                      gestation_weeks: float | None = None, pannus_allowed: bool = True
+                      ) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+    """Wall layer thicknesses for N patients at one window: median, 16th and 84th centile. [mm]
+
+    The one wall model of the engine: :func:`build_stack` (one patient) and the vectorised
+    sweep call it alike. The pannus (a model with ``pannus``, BMI >= :data:`PANNUS_BMI`,
+    ``pannus_allowed`` false when the wall or fat was measured) is assumed lifted: the fold
+    fat replaces the subcutaneous layer and the band widens to the fat through the pannus.
+    From 28 weeks of pregnancy at BMI >= 25 the lower-abdominal fat is scaled by
+    :data:`PREGNANCY_LATE_FAT_FACTOR`.
+
+    Parameters
+    ----------
+    bmi : array, shape (N,)
+        Body-mass index of each patient. [kg/m^2]
+
+    Returns
+    -------
+    median, low, high : arrays, shape (N, n_layers)
+        Layer thicknesses, scaled by ``wall_factor``. [mm]
+    pannus : array of bool, shape (N,)
+        Where the pannus was assumed lifted.
+    """
+    b = np.atleast_1d(np.asarray(bmi, dtype=float))
+    median = wall_layers_mm(model, b, sex) * wall_factor
+    low = wall_layers_mm(model, b, sex, z=-1.0) * wall_factor
+    high = wall_layers_mm(model, b, sex, z=+1.0) * wall_factor
+    roles = [lay.role for lay in model.layers]
+    lifted_mask = np.zeros(b.shape, dtype=bool)
+    if model.pannus and pannus_allowed and "subcutaneous_fat" in roles:
+        i = roles.index("subcutaneous_fat")
+        lifted, through = (np.asarray(v, dtype=float) * wall_factor for v in pannus_fat_mm(model, b, sex))
+        lifted_mask = b >= PANNUS_BMI
+        median[:, i] = np.where(lifted_mask, lifted, median[:, i])
+        low[:, i] = np.where(lifted_mask, np.minimum(low[:, i], lifted), low[:, i])
+        high[:, i] = np.where(lifted_mask, np.maximum(high[:, i], through), high[:, i])
+    if model.id == "pregnancy_lower" and (gestation_weeks or 0) >= 28:
+        factor = np.where(b >= 25, PREGNANCY_LATE_FAT_FACTOR, 1.0)[:, None]
+        fat_cols = np.array([r in FAT_ROLES for r in roles])
+        for arr in (median, low, high):
+            arr[:, fat_cols] *= factor
+    return median, low, high, lifted_mask
+
+
 def wall_model_layers(model: WallModel, patient: Patient, wall_factor: float,
                       window_label: str) -> tuple[list[Layer], tuple[float, float], list[str]]:
     """Wall layers for a patient at a window, with the 16th-84th centile band. [cm]"""
     notes: list[str] = []
-    median = wall_layers_mm(model, patient.bmi, patient.sex) * wall_factor
-    low = wall_layers_mm(model, patient.bmi, patient.sex, z=-1.0) * wall_factor
-    high = wall_layers_mm(model, patient.bmi, patient.sex, z=+1.0) * wall_factor
-    roles = [lay.role for lay in model.layers]
-    if model.pannus and patient.bmi >= PANNUS_BMI and patient.wall_mm is None \
-            and patient.fat_mm is None and "subcutaneous_fat" in roles:
-        i = roles.index("subcutaneous_fat")
-        lifted, through = (float(v) for v in pannus_fat_mm(model, patient.bmi, patient.sex))
-        lifted, through = lifted * wall_factor, through * wall_factor
-        median[i], low[i], high[i] = lifted, min(low[i], lifted), max(high[i], through)
-        notes.append(f"{window_label}: pannus assumed lifted (fold fat {lifted:.0f} mm; "
-                     f"through the pannus about {through:.0f} mm)")
-    if model.id == "pregnancy_lower" and (patient.gestation_weeks or 0) >= 28 and patient.bmi >= 25:
-        for arr in (median, low, high):
-            arr[[r in FAT_ROLES for r in roles]] *= PREGNANCY_LATE_FAT_FACTOR
+    median, low, high, lifted = wall_thickness_mm(
+        model, patient.bmi, patient.sex, wall_factor, gestation_weeks=patient.gestation_weeks,
+        pannus_allowed=patient.wall_mm is None and patient.fat_mm is None)
+    median, low, high = median[0], low[0], high[0]
+    if lifted[0]:
+        i = [lay.role for lay in model.layers].index("subcutaneous_fat")
+        notes.append(f"{window_label}: pannus assumed lifted (fold fat {median[i]:.0f} mm; "
+                     f"through the pannus about {high[i]:.0f} mm)")
     layers = [Layer(get_tissue(lay.tissue), float(t) / 10.0, lay.role,
                     lay.role.replace("_", " "))
               for lay, t in zip(model.layers, median)]
     return layers, (float(low.sum()) / 10.0, float(high.sum()) / 10.0), notes
 
 
-def measured_wall_ratio(model: WallModel, patient: Patient, wall_factor: float) -> float:
-    """Ratio measured / modelled for the wall (or its subcutaneous fat), 1 when not measured."""
-    if patient.wall_mm is None and patient.fat_mm is None:
-        return 1.0
-    layers, _, _ = wall_model_layers(model, patient, wall_factor, "")
-    if patient.wall_mm is not None:
-        return patient.wall_mm / (10.0 * sum(lay.thickness_cm for lay in layers))
-    fat = 10.0 * sum(lay.thickness_cm for lay in layers if lay.role == "subcutaneous_fat")
-    return patient.fat_mm / fat if fat > 0 else 1.0
-
-
-def build_stack(patient: Patient, window, *, wall_ratio: float = 1.0,
-                path_scale: float = 1.0, measured: bool = False) -> LayerStack:
-    """Build the layer stack of one target window for one patient.
+def measured_wall_ratio(model: WallModel, patient: Patient, wall_factor: float, bmi=None) -> np.ndarray:
+    """Ratio measured / modelled for the wall (or its subcutaneous fat), 1 when not measured.
 
     Parameters
     ----------
-    patient : Patient
-    window : planner.library.targets.Window
-        The window (its wall id, wall factor and organ path).
-    wall_ratio : float
-        Measured / modelled wall thickness; scales the wall layers (all of them for a
-        measured wall, the fat layers for a measured fat thickness).
-    path_scale : float
-        Scales the organ path so a measured skin-to-target depth is honoured.
-    measured : bool
-        True when the wall was measured (the uncertainty band collapses).
+    bmi : array, shape (N,), optional
+        Patients' BMI (default: the patient's). [kg/m^2]
+
+    Returns
+    -------
+    array, shape (N,)
     """
-    model = load_wall_models()[window.wall]
-    layers, band, notes = wall_model_layers(model, patient, window.wall_factor, window.name)
-    if wall_ratio != 1.0:
-        fat_only = patient.wall_mm is None and patient.fat_mm is not None
-        layers = [replace(lay, thickness_cm=lay.thickness_cm * wall_ratio)
-                  if (not fat_only or lay.role == "subcutaneous_fat") else lay for lay in layers]
-    wall_cm = sum(lay.thickness_cm for lay in layers)
-    if measured:
-        band = (wall_cm, wall_cm)
+    b = np.atleast_1d(np.asarray(patient.bmi if bmi is None else bmi, dtype=float))
+    if patient.wall_mm is None and patient.fat_mm is None:
+        return np.ones(b.shape)
+    median, _, _, _ = wall_thickness_mm(model, b, patient.sex, wall_factor,
+                                        gestation_weeks=patient.gestation_weeks, pannus_allowed=False)
+    layers_cm = median / 10.0
+    if patient.wall_mm is not None:
+        return patient.wall_mm / (10.0 * layers_cm.sum(axis=1))
+    roles = [lay.role for lay in model.layers]
+    if "subcutaneous_fat" not in roles:
+        return np.ones(b.shape)
+    fat = 10.0 * layers_cm[:, roles.index("subcutaneous_fat")]
+    return np.where(fat > 0, patient.fat_mm / np.where(fat > 0, fat, 1.0), 1.0)
+
+
+@dataclass(frozen=True)
+class StackBatch:
+    """The stacks of one window for N patients who differ in BMI and measured depth.
+
+    Attributes
+    ----------
+    layers : tuple of Layer
+        Layer identities (tissue, role, label) with the first patient's thicknesses.
+    thickness_cm : array, shape (N, n_layers)
+        Each patient's layer thicknesses. [cm]
+    wall_cm, wall_low_cm, wall_high_cm : arrays, shape (N,)
+        Body wall and its 16th-84th centile band. [cm]
+    valid : array of bool, shape (N,)
+        False where a measured depth is not deeper than this window's wall.
+    notes : tuple of str
+        Assumptions made for the first patient.
+    """
+
+    window_id: str
+    wall_id: str
+    layers: tuple[Layer, ...]
+    thickness_cm: np.ndarray
+    wall_cm: np.ndarray
+    wall_low_cm: np.ndarray
+    wall_high_cm: np.ndarray
+    valid: np.ndarray
+    above_path_cm: np.ndarray
+    notes: tuple[str, ...] = ()
+
+    def stack(self, i: int = 0) -> LayerStack:
+        """The stack of patient ``i`` as layers."""
+        layers = tuple(replace(lay, thickness_cm=float(t)) for lay, t in zip(self.layers, self.thickness_cm[i]))
+        return LayerStack(window_id=self.window_id, wall_id=self.wall_id, layers=layers,
+                          wall_cm=float(self.wall_cm[i]),
+                          wall_band_cm=(float(self.wall_low_cm[i]), float(self.wall_high_cm[i])),
+                          notes=self.notes)
+
+    def arrays(self) -> dict[str, np.ndarray]:
+        """Per-layer arrays: thickness_cm (N, n) and the tissue values (n,)."""
+        return {
+            "thickness_cm": self.thickness_cm,
+            "speed_m_per_s": np.array([lay.tissue.speed_m_per_s for lay in self.layers]),
+            "impedance_mrayl": np.array([lay.tissue.impedance_mrayl for lay in self.layers]),
+            "attenuation_db_per_cm_mhz": np.array(
+                [lay.tissue.attenuation_db_per_cm_mhz for lay in self.layers]),
+            "attenuation_exponent": np.array([lay.tissue.attenuation_exponent for lay in self.layers]),
+        }
+
+
+def _organ_path(patient: Patient, window, notes: list[str]) -> list[Layer]:
+    """The layers below the wall: free fluid when present, then the window's organ path."""
+    layers: list[Layer] = []
     grade = patient.conditions.get("ascites")
     if grade and window.wall in ASCITES_WALLS:
         depth = float(ASCITES_DEPTH_CM[grade].value)
@@ -173,6 +253,82 @@ def build_stack(patient: Patient, window, *, wall_ratio: float = 1.0,
         if role == "bladder" and "empty_bladder" in patient.conditions:
             tissue, label = get_tissue("soft_tissue"), "bowel loops (bladder empty)"
             notes.append(f"{window.name}: empty bladder, bowel takes the place of the bladder window")
-        layers.append(Layer(tissue, step.thickness_cm * path_scale, role, label))
-    return LayerStack(window_id=window.id, wall_id=window.wall, layers=tuple(layers),
-                      wall_cm=float(wall_cm), wall_band_cm=band, notes=tuple(notes))
+        layers.append(Layer(tissue, step.thickness_cm, role, label))
+    return layers
+
+
+DEPTH_MARGIN_CM: float = 0.05
+"""A measured depth must lie this far below the wall to leave an organ path (common practice). [cm]"""
+
+
+def build_stack_batch(patient: Patient, window, *, bmi=None, depth_cm=None,
+                      wall_ratio=None) -> StackBatch:
+    """Build the stacks of one target window for N patients (the engine's one stack builder).
+
+    Parameters
+    ----------
+    patient : Patient
+        Sex, conditions, gestation and measured wall or fat shared by all N.
+    window : planner.library.targets.Window
+    bmi : array, shape (N,), optional
+        BMI of each patient (default: the patient's). [kg/m^2]
+    depth_cm : array, shape (N,), optional
+        Measured skin-to-target depth, NaN where not measured (default: the patient's);
+        the organ path is scaled to honour it. [cm]
+    wall_ratio : array, shape (N,), optional
+        Measured / modelled wall (see :func:`measured_wall_ratio`, taken at the plan's
+        reference window so that every window is scaled alike); default: this window's.
+    """
+    model = load_wall_models()[window.wall]
+    b = np.atleast_1d(np.asarray(patient.bmi if bmi is None else bmi, dtype=float))
+    measured_any = patient.wall_mm is not None or patient.fat_mm is not None
+    median, low, high, lifted = wall_thickness_mm(
+        model, b, patient.sex, window.wall_factor, gestation_weeks=patient.gestation_weeks,
+        pannus_allowed=not measured_any)
+    notes: list[str] = []
+    if lifted[0]:
+        i = [lay.role for lay in model.layers].index("subcutaneous_fat")
+        notes.append(f"{window.name}: pannus assumed lifted (fold fat {median[0, i]:.0f} mm; "
+                     f"through the pannus about {high[0, i]:.0f} mm)")
+    ratio = (measured_wall_ratio(model, patient, window.wall_factor, b) if wall_ratio is None
+             else np.broadcast_to(np.asarray(wall_ratio, dtype=float), b.shape))
+    layers_cm = median / 10.0
+    if measured_any:                 # a measured wall scales every wall layer; measured fat, the fat
+        cols = np.array([patient.wall_mm is not None or lay.role == "subcutaneous_fat"
+                         for lay in model.layers])
+        layers_cm = np.where(cols[None, :], layers_cm * ratio[:, None], layers_cm)
+    wall_cm = layers_cm.sum(axis=1)
+    low_cm, high_cm = low.sum(axis=1) / 10.0, high.sum(axis=1) / 10.0
+    if patient.wall_mm is not None:
+        low_cm, high_cm = wall_cm, wall_cm
+    wall_layers = [Layer(get_tissue(lay.tissue), float(t), lay.role, lay.role.replace("_", " "))
+                   for lay, t in zip(model.layers, layers_cm[0])]
+    organ = _organ_path(patient, window, notes)
+    n_extra = len(organ) - len(window.path)
+    fixed = np.array([lay.thickness_cm for lay in organ[:n_extra]])
+    path = np.array([lay.thickness_cm for lay in organ[n_extra:]])
+    unscaled = np.concatenate([layers_cm, np.broadcast_to(fixed, (b.size, fixed.size)),
+                               np.broadcast_to(path, (b.size, path.size))], axis=1)
+    path_cm = float(sum(step.thickness_cm for step in window.path))
+    above = np.cumsum(unscaled, axis=1)[:, -1] - path_cm   # summed in layer order, as depth_cm
+    want = np.atleast_1d(np.asarray(patient.depth_cm if depth_cm is None else depth_cm, dtype=float)) \
+        if (depth_cm is not None or patient.depth_cm is not None) else np.full(b.shape, np.nan)
+    want = np.broadcast_to(want, b.shape)
+    measured_depth = ~np.isnan(want)
+    valid = ~measured_depth | ((want > above + DEPTH_MARGIN_CM) & (path_cm > 0))
+    scale = np.where(measured_depth & valid, (want - above) / max(path_cm, 1e-12), 1.0)
+    thickness = np.concatenate([layers_cm, np.broadcast_to(fixed, (b.size, fixed.size)),
+                                path[None, :] * scale[:, None]], axis=1)
+    layers = tuple(wall_layers + organ)
+    return StackBatch(window_id=window.id, wall_id=window.wall, layers=layers, thickness_cm=thickness,
+                      wall_cm=wall_cm, wall_low_cm=low_cm, wall_high_cm=high_cm,
+                      valid=valid, above_path_cm=above, notes=tuple(notes))
+
+
+def build_stack(patient: Patient, window, *, wall_ratio: float | None = None) -> LayerStack:
+    """Build the layer stack of one target window for one patient.
+
+    One row of :func:`build_stack_batch`: the modelled (or measured) wall, then free fluid,
+    then the organ path, scaled so that a measured skin-to-target depth is honoured.
+    """
+    return build_stack_batch(patient, window, wall_ratio=wall_ratio).stack(0)

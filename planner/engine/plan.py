@@ -6,7 +6,7 @@ from dataclasses import dataclass, field
 from typing import Any
 
 from planner.body.patient import Patient
-from planner.body.stack import build_stack, measured_wall_ratio
+from planner.body.stack import build_stack_batch, measured_wall_ratio
 from planner.body.walls import load_wall_models
 from planner.engine import artefacts, decisions, habitus_rules
 from planner.engine.assess import WindowAssessment, assess_window
@@ -76,35 +76,24 @@ def _window_by_id(target, window_id: str):
                      f"{', '.join(w.id for w in target.windows)}")
 
 
-def _path_scale(patient: Patient, window, wall_ratio: float) -> float:
-    """Scale of the organ path that makes the stack as deep as a measured depth."""
-    if patient.depth_cm is None:
-        return 1.0
-    stack = build_stack(patient, window, wall_ratio=wall_ratio)
-    path = sum(step.thickness_cm for step in window.path)
-    above = stack.depth_cm - path
-    if patient.depth_cm <= above + 0.05 or path <= 0:
-        raise InputError(f"measured depth {patient.depth_cm:g} cm is not deeper than the body wall "
-                         f"at {window.name} ({above:.1f} cm)")
-    return (patient.depth_cm - above) / path
-
-
 def assess_windows(patient: Patient, target, windows, inventory: ProbeInventory,
                    reference) -> list[WindowAssessment]:
-    """Build and assess the stack of every window, measured values applied."""
-    model = load_wall_models()[reference.wall]
-    ratio = measured_wall_ratio(model, patient, reference.wall_factor)
-    measured = patient.wall_mm is not None
+    """Build and assess the stack of every window, measured values applied.
+
+    A measured wall or fat is scaled at the reference window and applied to every window
+    alike; a window whose wall is deeper than a measured target depth is not a candidate
+    (for the reference window that is an input error).
+    """
+    ratio = measured_wall_ratio(load_wall_models()[reference.wall], patient, reference.wall_factor)
     out = []
     for w in windows:
-        try:
-            scale = _path_scale(patient, w, ratio)
-        except InputError:
+        batch = build_stack_batch(patient, w, wall_ratio=ratio)
+        if not batch.valid[0]:
             if w is reference:
-                raise
-            continue          # a measured depth shallower than this window's wall: not a candidate
-        out.append(assess_window(build_stack(patient, w, wall_ratio=ratio, path_scale=scale,
-                                             measured=measured), w, target, inventory))
+                raise InputError(f"measured depth {patient.depth_cm:g} cm is not deeper than the body "
+                                 f"wall at {w.name} ({float(batch.above_path_cm[0]):.1f} cm)")
+            continue
+        out.append(assess_window(batch.stack(0), w, target, inventory))
     return out
 
 

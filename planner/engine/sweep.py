@@ -1,22 +1,31 @@
-"""Vectorised planning over many scenarios at once (BMI x measured depth x ...).
+"""Planning over many patients at once: the engine's vectorised path, row by row.
 
-For population studies, protocol sheets and benchmarks: the same physics as
-:func:`planner.engine.make_plan` for one target window, evaluated on arrays. A test checks
-that a scalar sweep agrees with ``make_plan``.
+:func:`sweep_plans` gives, for one request and N BMI values, the headline a single plan
+would give for each (window, probe, band, start frequency, harmonic imaging), computed on
+arrays through the same stack building, reach, probe choice, feasibility and window ranking
+as :func:`planner.engine.make_plan` (:mod:`planner.engine.batch`). A department uses it to
+see at which habitus a probe or a window stops working; ``scanplan sweep`` prints it.
+:func:`sweep` gives the raw arrays of one window.
 """
 
 from __future__ import annotations
 
+from dataclasses import dataclass, replace
+
 import numpy as np
 
 from planner.body.patient import Patient
-from planner.body.stack import FAT_ROLES, PREGNANCY_LATE_FAT_FACTOR, build_stack
-from planner.body.walls import load_wall_models, pannus_fat_mm, wall_layers_mm
-from planner.engine.assess import signal_budget_db
-from planner.library.probes import ProbeInventory, default_inventory
+from planner.body.stack import build_stack_batch, measured_wall_ratio
+from planner.body.walls import load_wall_models
+from planner.engine.batch import WindowBatch, assess_batch
+from planner.engine.decisions import CLUTTER_BMI, CLUTTER_FAT_MM
+from planner.engine.request import PlanRequest
+from planner.errors import InputError
+from planner.library.probes import ProbeInventory, default_inventory, load_inventory
 from planner.library.targets import load_library
-from planner.physics import attenuation, beam, sound_speed
-from planner.physics.constants import HARMONIC_CONVERSION_LOSS_DB
+
+REFERENCE_FREQUENCY_MHZ: float = 3.5
+"""Frequency at which windows are compared when none is feasible (common practice). [MHz]"""
 
 
 def _window(target, window_id):
@@ -25,7 +34,8 @@ def _window(target, window_id):
     for window in target.windows:
         if window.id == window_id:
             return window
-    raise ValueError(f"unknown window {window_id!r}; valid: {', '.join(w.id for w in target.windows)}")
+    raise InputError(f"unknown window {window_id!r} for target {target.id}; valid windows: "
+                     f"{', '.join(w.id for w in target.windows)}")
 
 
 def sweep(target_id: str, bmi, *, window_id: str | None = None, sex: str | None = None,
@@ -43,7 +53,7 @@ def sweep(target_id: str, bmi, *, window_id: str | None = None, sex: str | None 
     conditions : dict, optional
         Condition id -> grade, applied to every scenario.
     probe_id : str, optional
-        Probe for the detail floor and band; default: the target's first usual probe type.
+        Probe for the detail floor and band; default: the probe the engine chooses per scenario.
 
     Returns
     -------
@@ -54,46 +64,113 @@ def sweep(target_id: str, bmi, *, window_id: str | None = None, sex: str | None 
     target = load_library().get(target_id)
     window = _window(target, window_id)
     inventory = inventory or default_inventory()
-    probe = inventory.get(probe_id) if probe_id else next(
-        (p for t in target.probe_types for p in inventory.probes if p.type == t), inventory.probes[0])
     b = np.atleast_1d(np.asarray(bmi, dtype=float))
-    model = load_wall_models()[window.wall]
-    wall = wall_layers_mm(model, b, sex) * window.wall_factor / 10.0          # (N, n_wall) cm
-    roles = [lay.role for lay in model.layers]
-    if model.pannus and "subcutaneous_fat" in roles:
-        lifted, _ = pannus_fat_mm(model, b, sex)
-        wall[:, roles.index("subcutaneous_fat")] = lifted * window.wall_factor / 10.0
-    if model.id == "pregnancy_lower" and (gestation_weeks or 0) >= 28:
-        fat_cols = [r in FAT_ROLES for r in roles]
-        wall[:, fat_cols] *= np.where(b >= 25, PREGNANCY_LATE_FAT_FACTOR, 1.0)[:, None]
-    reference = build_stack(Patient(conditions=dict(conditions or {})), window)
-    tail = reference.layers[len(model.layers):]
-    path = np.array([lay.thickness_cm for lay in tail])
-    if depth_cm is not None:
-        want = np.atleast_1d(np.asarray(depth_cm, dtype=float))
-        scale = (want - wall.sum(axis=1)) / max(path.sum(), 1e-9)
-        scale = np.where(np.isnan(want), 1.0, np.maximum(scale, 0.0))
+    patient = Patient(sex=sex, conditions=dict(conditions or {}), gestation_weeks=gestation_weeks)
+    depth = None if depth_cm is None else np.broadcast_to(np.asarray(depth_cm, dtype=float), b.shape)
+    stacks = build_stack_batch(patient, window, bmi=b, depth_cm=depth)
+    batch = assess_batch(stacks, target, inventory)
+    pa = batch.probes
+    rows = np.arange(b.size)
+    if probe_id:
+        col = np.full(b.size, [p.id for p in pa.probes].index(inventory.get(probe_id).id))
     else:
-        scale = np.ones_like(b)
-    layers = [lay for lay in reference.layers[:len(model.layers)]] + list(tail)
-    thick = np.concatenate([wall, path[None, :] * scale[:, None]], axis=1)
-    a0 = np.array([lay.tissue.attenuation_db_per_cm_mhz for lay in layers])
-    y = np.array([lay.tissue.attenuation_exponent for lay in layers])
-    c = np.array([lay.tissue.speed_m_per_s for lay in layers])
-    iface = float(attenuation.interface_round_trip_loss_db(
-        np.array([lay.tissue.impedance_mrayl for lay in layers])))
-    budget = signal_budget_db(target)
-    ceiling = attenuation.max_frequency_for_budget_mhz(budget, thick, a0, y, fixed_loss_db=iface)
-    harmonic = attenuation.max_frequency_for_budget_mhz(
-        budget, thick, a0, y, fixed_loss_db=iface + HARMONIC_CONVERSION_LOSS_DB.value, harmonic=True)
-    depth = thick.sum(axis=1)
-    shown = sound_speed.displayed_depth_cm(thick, c)
-    f_num = np.maximum(probe.receive_f_number, depth * 10.0 / probe.aperture_mm)
-    floor = np.maximum(beam.min_frequency_axial_mhz(target.detail_mm, probe.pulse_cycles),
-                       beam.min_frequency_lateral_mhz(target.detail_mm, f_num))
-    high = np.minimum(probe.high_mhz, ceiling)
-    feasible = (high >= probe.low_mhz) & (np.maximum(floor, probe.low_mhz) <= high)
-    return {"depth_cm": depth, "displayed_depth_cm": shown, "depth_error_mm": 10.0 * (shown - depth),
-            "wall_mm": wall.sum(axis=1) * 10.0, "ceiling_mhz": ceiling,
-            "harmonic_ceiling_mhz": harmonic, "floor_mhz": floor, "high_mhz": high,
-            "feasible": feasible}
+        col = np.maximum(pa.best, 0)
+    return {"depth_cm": batch.depth_cm, "displayed_depth_cm": batch.displayed_depth_cm,
+            "depth_error_mm": 10.0 * (batch.displayed_depth_cm - batch.depth_cm),
+            "wall_mm": stacks.wall_cm * 10.0, "ceiling_mhz": batch.ceiling_mhz,
+            "harmonic_ceiling_mhz": batch.harmonic_ceiling_mhz, "floor_mhz": pa.floor_mhz[rows, col],
+            "high_mhz": pa.high_mhz[rows, col], "feasible": pa.feasible[rows, col] & stacks.valid}
+
+
+@dataclass(frozen=True, slots=True)
+class SweepRow:
+    """The headline of one plan in a sweep (as ``make_plan`` would give it)."""
+
+    bmi: float
+    window: str
+    probe: str | None
+    start_mhz: float | None
+    high_mhz: float | None
+    low_mhz: float | None
+    harmonic: bool
+    feasible: bool
+
+    def to_dict(self) -> dict:
+        return {"bmi": self.bmi, "window": self.window, "probe": self.probe,
+                "start_mhz": self.start_mhz, "high_mhz": self.high_mhz, "low_mhz": self.low_mhz,
+                "harmonic": self.harmonic, "feasible": self.feasible}
+
+
+def harmonic_advised(batch: WindowBatch, rows: np.ndarray, col: np.ndarray, bmi: np.ndarray,
+                     contraindicated: bool) -> np.ndarray:
+    """Where harmonic imaging is advised: clutter likely and the harmonic echo still reaches.
+
+    Clutter is likely from :data:`~planner.engine.decisions.CLUTTER_FAT_MM` of subcutaneous fat
+    or BMI :data:`~planner.engine.decisions.CLUTTER_BMI` (Chandak2018; THIRadioGraphics); the
+    harmonic echo reaches when the transmit ceiling min(harmonic reach, probe top / 2) is not
+    below the probe's lowest frequency.
+    """
+    probes = batch.probes.probes
+    p_low = np.array([p.low_mhz for p in probes])[col]
+    p_high = np.array([p.high_mhz for p in probes])[col]
+    capable = np.array([p.harmonic for p in probes], dtype=bool)[col]
+    subcut = np.array([lay.role == "subcutaneous_fat" for lay in batch.stacks.layers], dtype=bool)
+    fat_mm = np.cumsum(np.where(subcut[None, :], batch.arrays["thickness_cm"], 0.0), axis=1)[:, -1] * 10.0
+    top = np.minimum(batch.harmonic_ceiling_mhz[rows], p_high / 2.0)
+    clutter = (fat_mm[rows] >= CLUTTER_FAT_MM) | (bmi >= CLUTTER_BMI)
+    return (not contraindicated) & capable & clutter & (top >= p_low)
+
+
+def sweep_plans(request: PlanRequest, bmi) -> list[SweepRow]:
+    """One plan headline per BMI for a request (the request's BMI is replaced by each value).
+
+    Windows are ranked per patient as :func:`planner.engine.plan.rank_assessments` does:
+    feasible windows first, then by round-trip loss at the highest feasible band top (or
+    :data:`REFERENCE_FREQUENCY_MHZ`); a window deeper than a measured depth is skipped.
+    """
+    target = load_library().get(request.target_id)
+    windows = [_window(target, request.window_id)] if request.window_id else list(target.windows)
+    inventory = load_inventory(request.probes_path)
+    b = np.atleast_1d(np.asarray(bmi, dtype=float))
+    patient = replace(request.patient, bmi=float(b[0]), bmi_given=True)
+    reference = windows[0]
+    ratio = measured_wall_ratio(load_wall_models()[reference.wall], patient, reference.wall_factor, b)
+    batches = [assess_batch(build_stack_batch(patient, w, bmi=b, wall_ratio=ratio), target, inventory)
+               for w in windows]
+    bad = ~batches[0].stacks.valid
+    if bad.any():
+        raise InputError(f"measured depth {patient.depth_cm:g} cm is not deeper than the body wall at "
+                         f"{reference.name} for BMI {b[bad][0]:g}")
+    rows = np.arange(b.size)
+    valid = np.stack([wb.stacks.valid for wb in batches])                       # (W, N)
+    feasible = np.stack([wb.feasible for wb in batches]) & valid
+    best_high = np.stack([wb.probes.high_mhz[rows, np.maximum(wb.probes.best, 0)] for wb in batches])
+    ref = np.where(feasible.any(axis=0), np.where(feasible, best_high, -np.inf).max(axis=0),
+                   REFERENCE_FREQUENCY_MHZ)
+    loss = np.stack([wb.loss_db(ref) for wb in batches])
+    key_loss = np.where(valid, loss, np.inf)
+    key_feasible = np.where(valid, (~feasible).astype(float), np.inf)
+    alive = np.ones_like(valid)
+    for key in (key_feasible, key_loss):
+        k = np.where(alive, key, np.inf)
+        alive &= k == k.min(axis=0, keepdims=True)
+    chosen = np.argmax(alive, axis=0)
+    out: list[SweepRow] = []
+    for i in rows:
+        wb = batches[chosen[i]]
+        col = int(wb.probes.best[i])
+        if col < 0:
+            out.append(SweepRow(float(b[i]), windows[chosen[i]].id, None, None, None, None, False, False))
+            continue
+        probe = wb.probes.probes[col]
+        ok = bool(wb.probes.feasible[i, col])
+        if ok:
+            low, high = float(wb.probes.low_mhz[i, col]), float(wb.probes.high_mhz[i, col])
+        else:
+            low = probe.low_mhz
+            high = max(low, min(probe.high_mhz, float(wb.ceiling_mhz[i])))
+        harmonic = bool(harmonic_advised(wb, np.array([i]), np.array([col]), b[i:i + 1],
+                                         target.harmonic_contraindicated)[0])
+        out.append(SweepRow(float(b[i]), windows[chosen[i]].id, probe.id, round(high, 1), round(high, 1),
+                            round(low, 1), harmonic, ok))
+    return out
