@@ -17,7 +17,7 @@ from planner.body.conditions import (ASCITES_DEPTH_CM, ASCITES_WALLS,
                                      STEATOSIS_SPEED_M_PER_S)
 from planner.body.patient import Patient
 from planner.body.walls import PANNUS_BMI, WallModel, load_wall_models, pannus_fat_mm, \
-    wall_layers_mm
+    wall_layers_band_mm
 from planner.physics.tissues import Tissue, get_tissue
 
 FAT_ROLES = frozenset({"subcutaneous_fat", "preperitoneal_fat", "perirenal_fat", "fossa_fat"})
@@ -121,9 +121,7 @@ def wall_thickness_mm(model: WallModel, bmi, sex: str | None, wall_factor: float
         Where the pannus was assumed lifted.
     """
     b = np.atleast_1d(np.asarray(bmi, dtype=float))
-    median = wall_layers_mm(model, b, sex) * wall_factor
-    low = wall_layers_mm(model, b, sex, z=-1.0) * wall_factor
-    high = wall_layers_mm(model, b, sex, z=+1.0) * wall_factor
+    median, low, high = (v * wall_factor for v in wall_layers_band_mm(model, b, sex))
     roles = [lay.role for lay in model.layers]
     lifted_mask = np.zeros(b.shape, dtype=bool)
     if model.pannus and pannus_allowed and "subcutaneous_fat" in roles:
@@ -217,7 +215,8 @@ class StackBatch:
 
     def stack(self, i: int = 0) -> LayerStack:
         """The stack of patient ``i`` as layers."""
-        layers = tuple(replace(lay, thickness_cm=float(t)) for lay, t in zip(self.layers, self.thickness_cm[i]))
+        layers = tuple(Layer(lay.tissue, t, lay.role, lay.label)
+                       for lay, t in zip(self.layers, self.thickness_cm[i].tolist()))
         return LayerStack(window_id=self.window_id, wall_id=self.wall_id, layers=layers,
                           wall_cm=float(self.wall_cm[i]),
                           wall_band_cm=(float(self.wall_low_cm[i]), float(self.wall_high_cm[i])),

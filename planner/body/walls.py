@@ -111,6 +111,26 @@ def wall_layers_mm(model: WallModel, bmi, sex: str | None = None, z: float = 0.0
     return np.stack(out, axis=-1)
 
 
+def wall_layers_band_mm(model: WallModel, bmi, sex: str | None = None
+                        ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Median, 16th and 84th centile layer thicknesses in one pass: :func:`wall_layers_mm` at
+    z = 0, -1 and +1. [mm], each of shape (..., n_layers)"""
+    b = np.clip(np.asarray(bmi, dtype=float), *BMI_MODEL_RANGE)
+    delta = (b - 25.0) if model.bmi_dependent else np.zeros_like(b)
+    wf, wm = _sex_weights(sex)
+    extra_cv = np.where(b > 40.0, 0.1, 0.0)
+    med, low, high = [], [], []
+    for layer in model.layers:
+        a = wf * layer.a_mm[0] + wm * layer.a_mm[1]
+        slope = wf * layer.b_mm_per_bmi[0] + wm * layer.b_mm_per_bmi[1]
+        median = np.maximum(layer.floor_mm, a + slope * delta)
+        spread = np.sqrt(np.log1p((layer.cv + extra_cv) ** 2))
+        med.append(median)
+        low.append(median * np.exp(-1.0 * spread))
+        high.append(median * np.exp(1.0 * spread))
+    return np.stack(med, axis=-1), np.stack(low, axis=-1), np.stack(high, axis=-1)
+
+
 PANNUS_BMI: float = 40.0
 """BMI from which a hanging pannus is assumed over suprapubic windows (Seif2023Pannus; from memory). [kg/m^2]"""
 

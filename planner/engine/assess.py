@@ -73,7 +73,7 @@ class WindowAssessment:
 def option_at(batch: WindowBatch, row: int, index: int) -> ProbeOption:
     """One probe's performance for patient ``row`` of a window batch."""
     pa = batch.probes
-    return ProbeOption(pa.probes[index], FIT_CODES[int(pa.fit[index])], float(pa.floor_mhz[row, index]),
+    return ProbeOption(pa.probes[index], FIT_CODES[int(pa.fit[row, index])], float(pa.floor_mhz[row, index]),
                        float(pa.low_mhz[row, index]), float(pa.high_mhz[row, index]),
                        float(pa.f_number[row, index]), bool(pa.feasible[row, index]))
 

@@ -49,6 +49,11 @@ def probe_fit(probe: Probe, window) -> str:
     return "blocked"
 
 
+def fit_codes(probes, window) -> np.ndarray:
+    """Footprint fit of each probe at a window, as codes into :data:`FIT_CODES`, shape (P,)."""
+    return np.array([FIT_CODES.index(probe_fit(p, window)) for p in probes], dtype=int)
+
+
 def ceilings_mhz(arrays: dict, budget_db: float, interface_db) -> tuple[np.ndarray, np.ndarray]:
     """Fundamental and harmonic (transmit) reach ceilings for N stacks, solved together. [MHz]
 
@@ -70,7 +75,7 @@ def ceilings_mhz(arrays: dict, budget_db: float, interface_db) -> tuple[np.ndarr
 class ProbeArrays:
     """How every probe of an inventory performs through one window, for N patients.
 
-    Arrays of shape (N, P) unless stated; ``fit`` is (P,) codes into :data:`FIT_CODES`.
+    Arrays of shape (N, P); ``fit`` holds codes into :data:`FIT_CODES`.
     """
 
     probes: tuple[Probe, ...]
@@ -88,6 +93,9 @@ def probe_arrays(probes, window, depth_cm, detail_mm: float, ceiling_mhz,
                  preferred) -> ProbeArrays:
     """Detail floor, band, feasibility and the chosen probe for N depths and reach ceilings.
 
+    ``window`` is the window (every row) or an (N, P) array of fit codes (rows from several
+    windows).
+
     The detail floor is the lowest frequency at which both the axial resolution (pulse cycles
     x wavelength / 2) and the lateral resolution at focus (wavelength x F-number, the receive
     F-number or depth over aperture when deeper) are as fine as ``detail_mm``
@@ -96,7 +104,8 @@ def probe_arrays(probes, window, depth_cm, detail_mm: float, ceiling_mhz,
     probes = tuple(probes)
     depth = np.atleast_1d(np.asarray(depth_cm, dtype=float))[:, None]                 # (N, 1)
     ceiling = np.atleast_1d(np.asarray(ceiling_mhz, dtype=float))[:, None]
-    fit = np.array([FIT_CODES.index(probe_fit(p, window)) for p in probes], dtype=int)
+    fit = np.broadcast_to(window if isinstance(window, np.ndarray) else fit_codes(probes, window),
+                          (depth.shape[0], len(probes)))
     rf = np.array([p.receive_f_number for p in probes])[None, :]
     aperture = np.array([p.aperture_mm for p in probes])[None, :]
     cycles = np.array([p.pulse_cycles for p in probes])[None, :]
@@ -107,7 +116,7 @@ def probe_arrays(probes, window, depth_cm, detail_mm: float, ceiling_mhz,
                        beam.min_frequency_lateral_mhz(detail_mm, f_num))
     high = np.minimum(p_high, ceiling)
     low = np.maximum(p_low, floor)
-    usable = (fit <= 1)[None, :]
+    usable = fit <= 1
     feasible = usable & (high >= p_low) & (low <= high)
     best = choose_probe_index(probes, fit, feasible, high, list(preferred))
     return ProbeArrays(probes, fit, floor, low, high, f_num, feasible, best)
@@ -124,24 +133,20 @@ def choose_probe_index(probes, fit: np.ndarray, feasible: np.ndarray, high_mhz: 
     lowest band), then a clean footprint fit, then the highest reachable frequency. The keys
     are compared in that order (lexicographic minimum per row).
     """
-    n = high_mhz.shape[0]
     types = [p.type for p in probes]
-    available = fit != 3
-    usual = available & np.array([t in preferred for t in types], dtype=bool)
-    pool = usual if usual.any() else available
-    if not pool.any():
-        return np.full(n, -1, dtype=int)
+    available = fit != 3                                                                 # (N, P)
+    usual = available & np.array([t in preferred for t in types], dtype=bool)[None, :]
+    pool = np.where(usual.any(axis=1, keepdims=True), usual, available)
     p_low = np.array([p.low_mhz for p in probes])[None, :]
     pref = np.array([preferred.index(t) if t in preferred else len(preferred) for t in types],
                     dtype=float)[None, :]
     reaches = high_mhz >= p_low
-    keys = [np.broadcast_to(~(fit <= 1), high_mhz.shape), ~feasible, ~reaches,
-            np.where(reaches, pref, p_low), np.broadcast_to(fit != 0, high_mhz.shape), -high_mhz]
-    alive = np.broadcast_to(pool[None, :], high_mhz.shape).copy()
+    keys = [~(fit <= 1), ~feasible, ~reaches, np.where(reaches, pref, p_low), fit != 0, -high_mhz]
+    alive = pool.copy()
     for key in keys:
         k = np.where(alive, key.astype(float), np.inf)
         alive &= k == k.min(axis=1, keepdims=True)
-    return np.argmax(alive, axis=1)
+    return np.where(pool.any(axis=1), np.argmax(alive, axis=1), -1)
 
 
 @dataclass(frozen=True)
@@ -176,22 +181,59 @@ class WindowBatch:
 
 def assess_batch(stacks: StackBatch, target, inventory) -> WindowBatch:
     """Reach ceilings, depth errors and probe choice of one window for N patients."""
-    arr = stacks.arrays()
+    return assess_batches([stacks], target, inventory)[0]
+
+
+def _padded(arrays: list[dict], key: str, fill: float, sizes: list[int], width: int) -> np.ndarray:
+    """Per-row layer values of several windows, padded to the longest stack."""
+    out = np.full((sum(sizes), width), fill)
+    start = 0
+    for a, n in zip(arrays, sizes):
+        v = a[key]
+        out[start:start + n, :v.shape[-1]] = v
+        start += n
+    return out
+
+
+def assess_batches(stacks_list: list[StackBatch], target, inventory) -> list[WindowBatch]:
+    """Assess several windows (each for N patients) in one pass.
+
+    The windows' rows are stacked (layers padded with zero thickness, which adds no loss),
+    so the reach of every window and patient is solved at once and the probe choice made
+    once; the result is split back into one :class:`WindowBatch` per window.
+    """
+    arrays = [s.arrays() for s in stacks_list]
+    sizes = [a["thickness_cm"].shape[0] for a in arrays]
     budget = signal_budget_db(target)
-    iface = float(attenuation.interface_round_trip_loss_db(arr["impedance_mrayl"]))
-    ceil_f, ceil_h = ceilings_mhz(arr, budget, iface)
-    thick = arr["thickness_cm"]
+    ifaces = [float(attenuation.interface_round_trip_loss_db(a["impedance_mrayl"])) for a in arrays]
+    width = max(a["thickness_cm"].shape[1] for a in arrays)
+    thick = _padded(arrays, "thickness_cm", 0.0, sizes, width)
+    joint = {"thickness_cm": thick,
+             "attenuation_db_per_cm_mhz": _padded(arrays, "attenuation_db_per_cm_mhz", 0.0, sizes, width),
+             "attenuation_exponent": _padded(arrays, "attenuation_exponent", 1.0, sizes, width)}
+    iface_rows = np.concatenate([np.full(n, i) for n, i in zip(sizes, ifaces)])
+    ceil_f, ceil_h = ceilings_mhz(joint, budget, iface_rows)
     depth = np.cumsum(thick, axis=1)[:, -1]        # in layer order, as LayerStack.depth_cm
-    shown = sound_speed.displayed_depth_cm(thick, arr["speed_m_per_s"])
-    fat_cols = np.array([lay.tissue.id == "fat" for lay in stacks.layers], dtype=bool)
-    if fat_cols.any():
-        fat_err = sound_speed.depth_error_mm(thick[:, fat_cols], arr["speed_m_per_s"][fat_cols])
-    else:
-        fat_err = np.zeros(depth.shape)
-    probes = probe_arrays(inventory.probes, _window_of(stacks, target), depth, target.detail_mm, ceil_f,
-                          target.probe_types)
-    return WindowBatch(stacks, budget, iface, ceil_f, ceil_h, depth, shown,
-                       np.broadcast_to(np.asarray(fat_err, dtype=float), depth.shape), probes, arr)
+    windows = [_window_of(s, target) for s in stacks_list]
+    fit = np.concatenate([np.broadcast_to(fit_codes(inventory.probes, w), (n, len(inventory.probes)))
+                          for w, n in zip(windows, sizes)], axis=0)
+    probes = probe_arrays(inventory.probes, fit, depth, target.detail_mm, ceil_f, target.probe_types)
+    out, start = [], 0
+    for stacks, arr, iface, n in zip(stacks_list, arrays, ifaces, sizes):
+        rows = slice(start, start + n)
+        start += n
+        t = arr["thickness_cm"]
+        shown = sound_speed.displayed_depth_cm(t, arr["speed_m_per_s"])
+        fat_cols = np.array([lay.tissue.id == "fat" for lay in stacks.layers], dtype=bool)
+        fat_err = (sound_speed.depth_error_mm(t[:, fat_cols], arr["speed_m_per_s"][fat_cols])
+                   if fat_cols.any() else np.zeros(n))
+        pa = ProbeArrays(probes.probes, probes.fit[rows], probes.floor_mhz[rows], probes.low_mhz[rows],
+                         probes.high_mhz[rows], probes.f_number[rows], probes.feasible[rows],
+                         probes.best[rows])
+        out.append(WindowBatch(stacks, budget, iface, ceil_f[rows], ceil_h[rows], depth[rows],
+                               np.asarray(shown, dtype=float),
+                               np.broadcast_to(np.asarray(fat_err, dtype=float), (n,)), pa, arr))
+    return out
 
 
 def _window_of(stacks: StackBatch, target):

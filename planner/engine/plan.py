@@ -9,7 +9,8 @@ from planner.body.patient import Patient
 from planner.body.stack import build_stack_batch, measured_wall_ratio
 from planner.body.walls import load_wall_models
 from planner.engine import artefacts, decisions, habitus_rules
-from planner.engine.assess import WindowAssessment, assess_window
+from planner.engine.assess import WindowAssessment, assessment_at
+from planner.engine.batch import assess_batches
 from planner.engine.context import RuleContext
 from planner.engine.doppler_plan import DOPPLER_PLAN_MODES, plan_doppler
 from planner.engine.request import PlanRequest
@@ -85,7 +86,7 @@ def assess_windows(patient: Patient, target, windows, inventory: ProbeInventory,
     (for the reference window that is an input error).
     """
     ratio = measured_wall_ratio(load_wall_models()[reference.wall], patient, reference.wall_factor)
-    out = []
+    candidates = []
     for w in windows:
         batch = build_stack_batch(patient, w, wall_ratio=ratio)
         if not batch.valid[0]:
@@ -93,8 +94,9 @@ def assess_windows(patient: Patient, target, windows, inventory: ProbeInventory,
                 raise InputError(f"measured depth {patient.depth_cm:g} cm is not deeper than the body "
                                  f"wall at {w.name} ({float(batch.above_path_cm[0]):.1f} cm)")
             continue
-        out.append(assess_window(batch.stack(0), w, target, inventory))
-    return out
+        candidates.append((w, batch))
+    assessed = assess_batches([b for _, b in candidates], target, inventory)
+    return [assessment_at(a, 0, w) for (w, _), a in zip(candidates, assessed)]
 
 
 def rank_assessments(assessments: list[WindowAssessment]) -> tuple[list[WindowAssessment], float]:
