@@ -17,7 +17,7 @@ import numpy as np
 from planner.body.patient import Patient
 from planner.body.stack import build_stack_batch, measured_wall_ratio
 from planner.body.walls import load_wall_models
-from planner.engine.batch import WindowBatch, assess_batch
+from planner.engine.batch import WindowBatch, assess_batch, assess_batches
 from planner.engine.decisions import CLUTTER_BMI, CLUTTER_FAT_MM
 from planner.engine.request import PlanRequest
 from planner.errors import InputError
@@ -135,8 +135,8 @@ def sweep_plans(request: PlanRequest, bmi) -> list[SweepRow]:
     patient = replace(request.patient, bmi=float(b[0]), bmi_given=True)
     reference = windows[0]
     ratio = measured_wall_ratio(load_wall_models()[reference.wall], patient, reference.wall_factor, b)
-    batches = [assess_batch(build_stack_batch(patient, w, bmi=b, wall_ratio=ratio), target, inventory)
-               for w in windows]
+    batches = assess_batches([build_stack_batch(patient, w, bmi=b, wall_ratio=ratio) for w in windows],
+                             target, inventory)
     bad = ~batches[0].stacks.valid
     if bad.any():
         raise InputError(f"measured depth {patient.depth_cm:g} cm is not deeper than the body wall at "

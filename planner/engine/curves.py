@@ -1,0 +1,220 @@
+"""Round-trip loss against depth along the chosen window: the curves the plan carries.
+
+The echo from depth ``z`` has crossed every layer above ``z`` twice, so its round-trip loss is
+
+``L(z, f) = 2 * sum_i alpha0_i * f**y_i * min(d_i, max(0, z - z_i)) + interface losses``
+
+where layer ``i`` starts at ``z_i`` and is ``d_i`` thick, and each interface above ``z`` adds
+its two-way intensity transmission loss ``-2 * 10 log10 T`` (normal incidence). At the bottom
+of the stack this is exactly the loss the engine compares with the signal budget, so the
+curve of the band's top frequency meets the budget line at the target. The engine computes
+these curves once (:func:`plan_depth_profile`); the terminal UI and the HTML plot draw the
+same frequencies from the plan.
+
+References
+----------
+Kremkau2015 (attenuation chapter); Szabo2004 ch. 4 (power law); ALevelPhysics (interface
+transmission).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Sequence
+
+import numpy as np
+
+from planner.physics import attenuation
+from planner.physics.interfaces import intensity_transmission_normal
+
+PROFILE_POINTS: int = 121
+"""Evenly spaced sample depths of a plan's curves (layer boundaries are added exactly)."""
+
+
+@dataclass(frozen=True)
+class LayerAcoustics:
+    """The acoustic properties of one layer that the loss profile needs.
+
+    Attributes
+    ----------
+    label : str
+        What the layer is (for the plot legend and tables).
+    thickness_cm : float
+        Layer thickness. [cm]
+    attenuation_db_per_cm_mhz : float
+        alpha0, one way. [dB cm^-1 MHz^-y]
+    attenuation_exponent : float
+        Power-law exponent y. [-]
+    impedance_mrayl : float or None
+        Characteristic impedance; None leaves out the interface losses. [MRayl]
+    """
+
+    label: str
+    thickness_cm: float
+    attenuation_db_per_cm_mhz: float
+    attenuation_exponent: float
+    impedance_mrayl: float | None = None
+
+
+@dataclass(frozen=True)
+class LossProfile:
+    """Round-trip loss against depth for a few frequencies.
+
+    Attributes
+    ----------
+    depth_cm : tuple of float
+        Sample depths from the skin (0) to the bottom of the stack. [cm]
+    frequencies_mhz : tuple of float
+        The frequencies, one curve each. [MHz]
+    loss_db : tuple of tuple of float
+        ``loss_db[k][j]`` is the round-trip loss at ``depth_cm[j]`` and
+        ``frequencies_mhz[k]``. [dB]
+    boundaries_cm : tuple of float
+        Depths of the layer boundaries below the skin. [cm]
+    target_depth_cm : float
+        Depth of the target (the bottom of the stack). [cm]
+    budget_db : float or None
+        The usable round-trip signal budget, when known. [dB]
+    """
+
+    depth_cm: tuple[float, ...]
+    frequencies_mhz: tuple[float, ...]
+    loss_db: tuple[tuple[float, ...], ...]
+    boundaries_cm: tuple[float, ...]
+    target_depth_cm: float
+    budget_db: float | None = None
+
+    def loss_at_target_db(self, frequency_index: int) -> float:
+        """Round-trip loss at the target for ``frequencies_mhz[frequency_index]``. [dB]"""
+        return self.loss_db[frequency_index][-1]
+
+    def reach_cm(self, frequency_index: int) -> float | None:
+        """Depth where the loss first reaches the budget (None if it never does). [cm]"""
+        if self.budget_db is None:
+            return None
+        loss = np.asarray(self.loss_db[frequency_index])
+        depth = np.asarray(self.depth_cm)
+        above = np.nonzero(loss >= self.budget_db)[0]
+        if above.size == 0:
+            return None
+        j = int(above[0])
+        if j == 0:
+            return 0.0
+        l0, l1 = loss[j - 1], loss[j]
+        if l1 == l0:
+            return float(depth[j])
+        return float(depth[j - 1] + (self.budget_db - l0) * (depth[j] - depth[j - 1]) / (l1 - l0))
+
+    def to_dict(self) -> dict:
+        """JSON-ready form (loss rounded to 0.01 dB, depths to 0.001 cm)."""
+        return {"depth_cm": [round(z, 3) for z in self.depth_cm],
+                "frequencies_mhz": list(self.frequencies_mhz),
+                "loss_db": [[round(v, 2) for v in row] for row in self.loss_db],
+                "boundaries_cm": [round(b, 3) for b in self.boundaries_cm],
+                "target_depth_cm": round(self.target_depth_cm, 3), "budget_db": self.budget_db}
+
+
+def loss_profile(layers: Sequence[LayerAcoustics], frequencies_mhz: Sequence[float], *,
+                 budget_db: float | None = None, points: int = PROFILE_POINTS) -> LossProfile:
+    """Round-trip loss against depth through a layer stack for several frequencies.
+
+    Raises
+    ------
+    ValueError
+        For an empty stack, a stack of zero depth, no frequencies, a frequency that is not
+        finite and > 0, or ``points`` < 2.
+    """
+    if not layers:
+        raise ValueError("layers must hold at least one layer, got none")
+    if isinstance(points, bool) or not isinstance(points, int) or points < 2:
+        raise ValueError(f"points must be an integer >= 2, got {points!r}")
+    freqs = np.asarray(list(frequencies_mhz), dtype=float)
+    if freqs.size == 0 or not np.all(np.isfinite(freqs)) or np.any(freqs <= 0):
+        raise ValueError(f"frequencies_mhz must be one or more finite values > 0, "
+                         f"got {list(frequencies_mhz)!r}")
+    thick = np.array([lay.thickness_cm for lay in layers], dtype=float)
+    total = float(thick.sum())
+    if total <= 0:
+        raise ValueError("the layers add up to zero depth")
+    tops = np.concatenate(([0.0], np.cumsum(thick)[:-1]))
+    bottoms = tops + thick
+    depth = np.unique(np.concatenate((np.linspace(0.0, total, points), bottoms)))
+    alpha = attenuation.attenuation_db_per_cm(
+        freqs[:, None], np.array([lay.attenuation_db_per_cm_mhz for lay in layers])[None, :],
+        np.array([lay.attenuation_exponent for lay in layers])[None, :])        # (n_f, n_layers)
+    crossed = np.clip(depth[:, None] - tops[None, :], 0.0, thick[None, :])       # (n_z, n_layers)
+    loss = 2.0 * crossed @ alpha.T                                              # (n_z, n_f)
+    loss = loss + _interface_steps_db(layers, tops, depth)[:, None]
+    return LossProfile(
+        depth_cm=tuple(float(z) for z in depth),
+        frequencies_mhz=tuple(float(f) for f in freqs),
+        loss_db=tuple(tuple(float(v) for v in loss[:, k]) for k in range(freqs.size)),
+        boundaries_cm=tuple(float(b) for b in bottoms[:-1]),
+        target_depth_cm=total, budget_db=None if budget_db is None else float(budget_db))
+
+
+def _interface_steps_db(layers: Sequence[LayerAcoustics], tops: np.ndarray,
+                        depth: np.ndarray) -> np.ndarray:
+    """Cumulative two-way interface loss at each depth (an interface counts once passed). [dB]"""
+    steps = np.zeros_like(depth)
+    for i in range(1, len(layers)):
+        z1, z2 = layers[i - 1].impedance_mrayl, layers[i].impedance_mrayl
+        if z1 is None or z2 is None:
+            continue
+        transmission = float(intensity_transmission_normal(z1, z2))
+        steps += np.where(depth > tops[i], -2.0 * 10.0 * np.log10(transmission), 0.0)
+    return steps
+
+
+def candidate_frequencies_mhz(band_low: float | None, band_high: float | None,
+                              ceiling_mhz: float | None,
+                              probe_band_mhz: tuple[float, float] | None) -> tuple[float, ...]:
+    """Two or three frequencies worth comparing on the plot. [MHz]
+
+    The low and high ends of the recommended band (the high end no higher than the exact
+    reach ceiling) and, when the probe goes higher, a frequency above the band (to show what
+    the budget forbids). Without a band, the window's reach ceiling and the probe's lowest
+    frequency are used.
+    """
+    picks: list[float] = []
+    if band_low and band_high:
+        top = float(band_high)
+        if ceiling_mhz and float(ceiling_mhz) < top:
+            top = float(ceiling_mhz)          # the band's end is rounded; the ceiling is exact
+        picks += [float(band_low), top]
+    else:
+        if ceiling_mhz:
+            picks.append(float(ceiling_mhz))
+        if probe_band_mhz:
+            picks.append(float(probe_band_mhz[0]))
+    top_probe = float(probe_band_mhz[1]) if probe_band_mhz else None
+    highest = max(picks) if picks else 3.0
+    above = (min(top_probe, highest * 1.6) if top_probe is not None and top_probe > highest * 1.1
+             else highest * 1.6)
+    picks.append(above)
+    out: list[float] = []
+    for f in sorted(picks):
+        f = round(f, 2)
+        if f > 0 and all(abs(f - g) >= 0.1 for g in out):
+            out.append(f)
+    return tuple(out[:3])
+
+
+def stack_acoustics(stack) -> list[LayerAcoustics]:
+    """The layers of a :class:`planner.body.stack.LayerStack` as the profile needs them."""
+    return [LayerAcoustics(lay.label, lay.thickness_cm, lay.tissue.attenuation_db_per_cm_mhz,
+                           lay.tissue.attenuation_exponent, lay.tissue.impedance_mrayl)
+            for lay in stack.layers]
+
+
+def plan_depth_profile(assessment, band_low: float | None, band_high: float | None,
+                       points: int = PROFILE_POINTS) -> LossProfile | None:
+    """The curves of a plan: loss against depth through the chosen window at the band's ends
+    and one frequency above it (None when the stack has no depth)."""
+    option = assessment.best
+    probe_band = (option.probe.low_mhz, option.probe.high_mhz) if option is not None else None
+    freqs = candidate_frequencies_mhz(band_low, band_high, assessment.ceiling_mhz, probe_band)
+    if not freqs or assessment.stack.depth_cm <= 0:
+        return None
+    return loss_profile(stack_acoustics(assessment.stack), freqs, budget_db=assessment.budget_db,
+                        points=points)
