@@ -12,7 +12,7 @@ from dataclasses import dataclass, replace
 
 import numpy as np
 
-from planner.body.conditions import (ASCITES_DEPTH_CM, ASCITES_WALLS,
+from planner.body.conditions import (ASCITES_DEPTH_CM,
                                      STEATOSIS_ATTENUATION_DB_PER_CM_MHZ,
                                      STEATOSIS_SPEED_M_PER_S)
 from planner.body.patient import Patient
@@ -112,7 +112,7 @@ def wall_model_layers(model: WallModel, patient: Patient, wall_factor: float,
         median[i], low[i], high[i] = lifted, min(low[i], lifted), max(high[i], through)
         notes.append(f"{window_label}: pannus assumed lifted (fold fat {lifted:.0f} mm; "
                      f"through the pannus about {through:.0f} mm)")
-    if model.id == "pregnancy_lower" and (patient.gestation_weeks or 0) >= 28 and patient.bmi >= 25:
+    if model.late_pregnancy_fat and (patient.gestation_weeks or 0) >= 28 and patient.bmi >= 25:
         for arr in (median, low, high):
             arr[[r in FAT_ROLES for r in roles]] *= PREGNANCY_LATE_FAT_FACTOR
     layers = [Layer(get_tissue(lay.tissue), float(t) / 10.0, lay.role,
@@ -159,7 +159,7 @@ def build_stack(patient: Patient, window, *, wall_ratio: float = 1.0,
     if measured:
         band = (wall_cm, wall_cm)
     grade = patient.conditions.get("ascites")
-    if grade and window.wall in ASCITES_WALLS:
+    if grade and model.ascites_beneath:
         depth = float(ASCITES_DEPTH_CM[grade].value)
         layers.append(Layer(get_tissue("ascites"), depth, "ascites", "free fluid (ascites)"))
     liver_grade = patient.conditions.get("steatosis")

@@ -63,7 +63,7 @@ def sweep(target_id: str, bmi, *, window_id: str | None = None, sex: str | None 
     if model.pannus and "subcutaneous_fat" in roles:
         lifted, _ = pannus_fat_mm(model, b, sex)
         wall[:, roles.index("subcutaneous_fat")] = lifted * window.wall_factor / 10.0
-    if model.id == "pregnancy_lower" and (gestation_weeks or 0) >= 28:
+    if model.late_pregnancy_fat and (gestation_weeks or 0) >= 28:
         fat_cols = [r in FAT_ROLES for r in roles]
         wall[:, fat_cols] *= np.where(b >= 25, PREGNANCY_LATE_FAT_FACTOR, 1.0)[:, None]
     reference = build_stack(Patient(conditions=dict(conditions or {})), window)
