@@ -15,6 +15,7 @@ always reflects the current engine and data. The format (``schema_version: 1``):
       wall_mm: null           # measured body-wall thickness [mm]
       depth_cm: null          # measured skin-to-target depth [cm]
       gestation_weeks: null
+      fat_mm: null            # measured subcutaneous fat [mm]
       conditions: {steatosis: 2}
     exam:
       type: null              # null: the target's usual exam type
@@ -22,8 +23,14 @@ always reflects the current engine and data. The format (``schema_version: 1``):
       contrast_agent: false
       febrile: false
       pregnancy_possible: false
+      lung_in_beam: false
       expected_ti: null
+      expected_mi: null
       planned_minutes: null
+      doppler: false          # plan Doppler even without a Doppler mode
+    files:
+      probes: null            # probe inventory file (null: the default inventory)
+      local_policy: null      # local safety policy file
     supervision:
       draft: false
       student: ''
@@ -33,7 +40,7 @@ always reflects the current engine and data. The format (``schema_version: 1``):
       student_reflection: ''
 
 Missing keys take these defaults. Unknown keys and wrong types are reported all at once
-with their line (:class:`planner.errors.DataError`); impossible values (checked as the
+with their line by the model :class:`planner.files.plan.PlanFile` (:class:`planner.errors.DataError`); impossible values (checked as the
 terminal UI checks them) are reported, again all at once, when the types are right. Files are
 written atomically. :func:`check_inputs` gives the per-field problems that the terminal
 UI shows next to each field. The engine and the YAML reader are imported only when
@@ -91,6 +98,7 @@ class PlanInputs:
     depth_cm: float | None = None
     gestation_weeks: float | None = None
     conditions: tuple[tuple[str, int], ...] = ()
+    fat_mm: float | None = None
     exam_type: str | None = None
     modes: tuple[str, ...] = ("b_mode",)
     contrast_agent: bool = False
@@ -98,6 +106,11 @@ class PlanInputs:
     pregnancy_possible: bool = False
     expected_ti: float | None = None
     planned_minutes: float | None = None
+    expected_mi: float | None = None
+    lung_in_beam: bool = False
+    probes_path: str | None = None
+    local_policy_path: str | None = None
+    doppler: bool = False
     draft: bool = False
     signoff: SignOff = field(default_factory=SignOff)
 
@@ -111,14 +124,15 @@ def _patient(inputs: PlanInputs, **only):
                                weight_kg=inputs.weight_kg, sex=inputs.sex,
                                conditions=dict(inputs.conditions),
                                gestation_weeks=inputs.gestation_weeks, wall_mm=inputs.wall_mm,
-                               depth_cm=inputs.depth_cm)
+                               fat_mm=inputs.fat_mm, depth_cm=inputs.depth_cm)
 
 
 def custom_context(inputs: PlanInputs) -> bool:
     """True when the user set any exam-context field (otherwise the engine decides)."""
     return (inputs.exam_type is not None or tuple(inputs.modes) != ("b_mode",)
             or inputs.contrast_agent or inputs.febrile or inputs.pregnancy_possible
-            or inputs.expected_ti is not None or inputs.planned_minutes is not None)
+            or inputs.lung_in_beam or inputs.expected_ti is not None
+            or inputs.expected_mi is not None or inputs.planned_minutes is not None)
 
 
 def exam_context(inputs: PlanInputs, target) -> dict | None:
@@ -135,10 +149,10 @@ def exam_context(inputs: PlanInputs, target) -> dict | None:
     if not custom_context(inputs):
         return None
     fields = {"exam_type": inputs.exam_type, "expected_ti": inputs.expected_ti,
-              "planned_minutes": inputs.planned_minutes}
+              "expected_mi": inputs.expected_mi, "planned_minutes": inputs.planned_minutes}
     overrides = {name: value for name, value in fields.items() if value is not None}
-    overrides.update({name: True for name in ("contrast_agent", "febrile", "pregnancy_possible")
-                      if getattr(inputs, name)})
+    overrides.update({name: True for name in ("contrast_agent", "febrile", "pregnancy_possible",
+                                              "lung_in_beam") if getattr(inputs, name)})
     if tuple(inputs.modes) != ("b_mode",):
         overrides["modes"] = tuple(inputs.modes)
     return overrides
@@ -147,7 +161,8 @@ def exam_context(inputs: PlanInputs, target) -> dict | None:
 def to_request(inputs: PlanInputs):
     """Turn the inputs into a :class:`planner.engine.PlanRequest` (InputError if impossible).
 
-    Doppler planning is asked for when a Doppler mode is planned.
+    Doppler planning is asked for when a Doppler mode is planned or ``doppler`` is set;
+    the probe inventory and local policy paths are passed as given.
     """
     from planner.engine.request import PlanRequest
     from planner.library.targets import load_library
@@ -157,7 +172,9 @@ def to_request(inputs: PlanInputs):
         target.window(inputs.window_id)
     return PlanRequest(target_id=target.id, patient=_patient(inputs), window_id=inputs.window_id,
                        context_overrides=exam_context(inputs, target),
-                       doppler=any(m in DOPPLER_MODES for m in inputs.modes), draft=inputs.draft)
+                       probes_path=inputs.probes_path, local_policy_path=inputs.local_policy_path,
+                       doppler=inputs.doppler or any(m in DOPPLER_MODES for m in inputs.modes),
+                       draft=inputs.draft)
 
 
 def make_plan_for(inputs: PlanInputs):
@@ -195,7 +212,7 @@ def check_inputs(inputs: PlanInputs) -> dict[str, str]:
     target = _try(problems, "target_id", lambda: load_library().get(inputs.target_id))
     if target is not None and inputs.window_id:
         _try(problems, "window_id", lambda: target.window(inputs.window_id))
-    for name in ("bmi", "wall_mm", "depth_cm", "gestation_weeks"):
+    for name in ("bmi", "wall_mm", "fat_mm", "depth_cm", "gestation_weeks"):
         if getattr(inputs, name) is not None:
             _try(problems, name, lambda n=name: _patient(inputs, **{n: getattr(inputs, n)}))
     _try(problems, "sex", lambda: check_sex(inputs.sex))
@@ -219,7 +236,7 @@ def check_inputs(inputs: PlanInputs) -> dict[str, str]:
     if inputs.wall_mm is not None and inputs.depth_cm is not None:
         _try(problems, "depth_cm", lambda: _patient(inputs, wall_mm=inputs.wall_mm,
                                                     depth_cm=inputs.depth_cm))
-    for name in ("expected_ti", "planned_minutes"):
+    for name in ("expected_ti", "expected_mi", "planned_minutes"):
         value = getattr(inputs, name)
         if value is not None and (not math.isfinite(value) or value < 0):
             problems[name] = f"{name} must be a finite number >= 0, got {value:g}"
@@ -241,16 +258,19 @@ def check_inputs(inputs: PlanInputs) -> dict[str, str]:
 
 
 # -- YAML -----------------------------------------------------------------------------------
-_PATIENT_KEYS = ("bmi", "height_cm", "weight_kg", "sex", "wall_mm", "depth_cm", "gestation_weeks",
-                 "conditions")
+_PATIENT_KEYS = ("bmi", "height_cm", "weight_kg", "sex", "wall_mm", "fat_mm", "depth_cm",
+                 "gestation_weeks", "conditions")
 _EXAM_KEYS = {"type": "exam_type", "modes": "modes", "contrast_agent": "contrast_agent",
               "febrile": "febrile", "pregnancy_possible": "pregnancy_possible",
-              "expected_ti": "expected_ti", "planned_minutes": "planned_minutes"}
+              "lung_in_beam": "lung_in_beam", "expected_ti": "expected_ti",
+              "expected_mi": "expected_mi", "planned_minutes": "planned_minutes",
+              "doppler": "doppler"}
+_FILES_KEYS = {"probes": "probes_path", "local_policy": "local_policy_path"}
 _SIGNOFF_KEYS = tuple(f.name for f in fields(SignOff))
-_TOP_KEYS = ("schema_version", "target", "window", "patient", "exam", "supervision")
 _FIELD_PATHS = {"target_id": ("target",), "window_id": ("window",),
                 **{k: ("patient", k) for k in _PATIENT_KEYS},
-                **{f: ("exam", k) for k, f in _EXAM_KEYS.items()}}
+                **{f: ("exam", k) for k, f in _EXAM_KEYS.items()},
+                **{f: ("files", k) for k, f in _FILES_KEYS.items()}}
 
 
 def inputs_to_data(inputs: PlanInputs) -> dict[str, Any]:
@@ -263,138 +283,38 @@ def inputs_to_data(inputs: PlanInputs) -> dict[str, Any]:
                     "conditions": {name: grade for name, grade in inputs.conditions}},
         "exam": {key: (list(inputs.modes) if attr == "modes" else getattr(inputs, attr))
                  for key, attr in _EXAM_KEYS.items()},
+        "files": {key: getattr(inputs, attr) for key, attr in _FILES_KEYS.items()},
         "supervision": {"draft": inputs.draft,
                         **{k: getattr(inputs.signoff, k) for k in _SIGNOFF_KEYS}},
     }
-
-
-def _shown(value: Any, limit: int = 60) -> str:
-    """A value for a one-line message (long values cut, line breaks escaped)."""
-    try:
-        text = repr(value)
-    except ValueError:          # an int too long to print
-        text = f"a {type(value).__name__} too long to show"
-    return text if len(text) <= limit else text[: limit - 3] + "..."
-
-
-class _Reader:
-    """Typed reading of one section with every problem collected."""
-
-    def __init__(self, collector) -> None:
-        self.c = collector
-
-    def section(self, data: dict, key: str, valid: tuple[str, ...]) -> dict:
-        raw = data.get(key, {})
-        if raw is None:
-            return {}
-        if not isinstance(raw, dict):
-            self.c.add((key,), f"expected a mapping, got {type(raw).__name__}")
-            return {}
-        self.unknown(raw, (key,), valid)
-        return raw
-
-    def unknown(self, raw: dict, path: tuple, valid: tuple[str, ...]) -> None:
-        for k in raw:
-            if k not in valid:
-                self.c.add(path + (k,), f"unknown key {_shown(k)}; valid keys: {', '.join(valid)}")
-
-    def number(self, raw: dict, key: str, path: tuple) -> float | None:
-        value = raw.get(key)
-        if value is None:
-            return None
-        if isinstance(value, str):
-            try:
-                value = float(value)
-            except ValueError:
-                pass
-        try:
-            number = float(value) if isinstance(value, (int, float)) and \
-                not isinstance(value, bool) else math.nan
-        except OverflowError:
-            number = math.inf
-        if not math.isfinite(number):
-            self.c.add(path + (key,), f"expected a finite number, got {_shown(value)}")
-            return None
-        return number
-
-    def text(self, raw: dict, key: str, path: tuple, *, nullable: bool) -> str | None:
-        value = raw.get(key)
-        if value is None:
-            return None if nullable else ""
-        if not isinstance(value, str) or (nullable and not value.strip()):
-            self.c.add(path + (key,), f"expected text, got {_shown(value)}")
-            return None if nullable else ""
-        return value.strip() if nullable else value
-
-    def flag(self, raw: dict, key: str, path: tuple) -> bool:
-        value = raw.get(key, False)
-        if not isinstance(value, bool):
-            self.c.add(path + (key,), f"expected true or false, got {_shown(value)}")
-            return False
-        return value
-
-
-def _conditions(r: _Reader, raw: Any) -> tuple[tuple[str, int], ...]:
-    path = ("patient", "conditions")
-    if raw is None:
-        return ()
-    if not isinstance(raw, dict):
-        r.c.add(path, "expected a mapping of condition: grade")
-        return ()
-    out = []
-    for name, grade in raw.items():
-        if isinstance(grade, bool) or not isinstance(grade, int):
-            r.c.add(path + (name,), f"expected a whole-number grade, got {_shown(grade)}")
-            continue
-        out.append((str(name), grade))
-    return tuple(out)
 
 
 def inputs_from_data(data: dict[str, Any], collector) -> PlanInputs | None:
     """Read plan-file data into :class:`PlanInputs`; problems go to ``collector``
     (a :class:`planner.yamlio.ProblemCollector`).
 
-    Returns None when any problem was found (types, unknown keys, impossible values).
+    Types are checked by :class:`planner.files.plan.PlanFile`, then the values by
+    :func:`check_inputs`. Returns None when any problem was found.
     """
-    r = _Reader(collector)
-    r.unknown(data, (), _TOP_KEYS)
-    if data.get("schema_version") != SCHEMA_VERSION:
-        collector.add(("schema_version",), f"must be {SCHEMA_VERSION}, got "
-                                           f"{_shown(data.get('schema_version'))}")
-    patient = r.section(data, "patient", _PATIENT_KEYS)
-    exam = r.section(data, "exam", tuple(_EXAM_KEYS))
-    sup = r.section(data, "supervision", ("draft",) + _SIGNOFF_KEYS)
-    from planner.safety.context import EXAM_TYPES, MODES
-    modes = exam.get("modes", ["b_mode"])
-    if not isinstance(modes, list) or not modes or \
-            any(not isinstance(m, str) or m not in MODES for m in modes):
-        collector.add(("exam", "modes"), f"expected a list of one or more of "
-                                         f"{', '.join(MODES)}, got {_shown(modes)}")
-        modes = ["b_mode"]
-    exam_type = exam.get("type")
-    if exam_type is not None and (not isinstance(exam_type, str) or exam_type not in EXAM_TYPES):
-        collector.add(("exam", "type"), f"unknown exam type {_shown(exam_type)}; valid: null "
-                                        f"(the target's usual) or {', '.join(EXAM_TYPES)}")
-    target = r.text(data, "target", (), nullable=True)
-    if target is None and "target" not in data:
-        collector.add(("target",), "missing key 'target'")
-    inputs = PlanInputs(
-        target_id=target or "", window_id=r.text(data, "window", (), nullable=True),
-        **{k: r.number(patient, k, ("patient",)) for k in
-           ("bmi", "height_cm", "weight_kg", "wall_mm", "depth_cm", "gestation_weeks")},
-        sex=r.text(patient, "sex", ("patient",), nullable=True),
-        conditions=_conditions(r, patient.get("conditions")),
-        exam_type=r.text(exam, "type", ("exam",), nullable=True), modes=tuple(modes),
-        contrast_agent=r.flag(exam, "contrast_agent", ("exam",)),
-        febrile=r.flag(exam, "febrile", ("exam",)),
-        pregnancy_possible=r.flag(exam, "pregnancy_possible", ("exam",)),
-        expected_ti=r.number(exam, "expected_ti", ("exam",)),
-        planned_minutes=r.number(exam, "planned_minutes", ("exam",)),
-        draft=r.flag(sup, "draft", ("supervision",)),
-        signoff=SignOff(**{k: r.text(sup, k, ("supervision",), nullable=False)
-                           for k in _SIGNOFF_KEYS}))
-    if collector:
+    from planner.files.base import validate_data
+    from planner.files.plan import PlanFile
+    model = validate_data(PlanFile, data, collector.add)
+    if model is None:
         return None
+    patient, exam = model.patient, model.exam
+    files, sup = model.files, model.supervision
+    patient_values = {k: getattr(patient, k) if patient else None for k in _PATIENT_KEYS[:-1]}
+    conditions = tuple((patient.conditions or {}).items()) if patient else ()
+    exam_values: dict[str, Any] = {}
+    if exam is not None:
+        exam_values = {attr: getattr(exam, key) for key, attr in _EXAM_KEYS.items()}
+        exam_values["modes"] = tuple(exam.modes)
+    inputs = PlanInputs(
+        target_id=model.target, window_id=model.window or None, **patient_values,
+        conditions=conditions, **exam_values,
+        **{attr: getattr(files, key) if files else None for key, attr in _FILES_KEYS.items()},
+        draft=sup.draft if sup else False,
+        signoff=SignOff(**{k: (getattr(sup, k) or "") if sup else "" for k in _SIGNOFF_KEYS}))
     for name, message in check_inputs(inputs).items():
         collector.add(_FIELD_PATHS.get(name, (name,)), message)
     return None if collector else inputs

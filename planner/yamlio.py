@@ -20,8 +20,7 @@ position of every key and list item, so that later validation can report
 
 PyYAML follows YAML 1.1: ``no``/``off`` read as ``False``, ``yes``/``on`` as
 ``True``, ``010`` as 8, ``1:30`` as 90 and ``1e3`` as the *text* ``'1e3'``.
-Validators must therefore check types explicitly (see
-:mod:`planner.protocol.fields` for the project's field checks).
+The models of :mod:`planner.files` therefore check types strictly.
 
 :func:`atomic_write_text` writes through a temporary file in the target folder,
 ``fsync`` and ``os.replace``, so a crash never leaves a half-written file.
@@ -251,23 +250,36 @@ class _Builder:
 
         return size(root)
 
-    def scalar(self, node: ScalarNode) -> Any:
+    def scalar(self, node: ScalarNode, path: KeyPath = ()) -> Any:
         if node.tag == _TIMESTAMP_TAG:
             return node.value
         if node.tag in _PLAIN_SCALAR_TAGS:
             try:
                 return self.constructor.yaml_constructors[node.tag](self.constructor, node)
-            except ValueError:
-                self.problems.append(f"{self.at(node)} number too long or malformed "
-                                     f"({len(node.value)} characters)")
+            except (ValueError, KeyError, TypeError, OverflowError, IndexError):
+                self.problems.append(self.bad_scalar(node, path))
                 return None
         self.problems.append(f"{self.at(node)} unsupported YAML tag {node.tag!r}; use plain "
                              "text, numbers, true/false, lists and mappings")
         return None
 
+    def bad_scalar(self, node: ScalarNode, path: KeyPath) -> str:
+        """The problem of a scalar its tag's constructor refused (``!!bool maybe``, a
+        malformed or over-long number)."""
+        kind = node.tag[len(_TAG):] if node.tag.startswith(_TAG) else node.tag
+        at = f"{self.at(node)} {format_key_path(path)}:" if path else self.at(node)
+        shown = node.value if len(node.value) <= 40 else node.value[:37] + "..."
+        if kind in ("int", "float") and len(node.value) > 40:
+            return (f"{at} number too long or malformed "
+                    f"({len(node.value)} characters)")
+        words = {"bool": "true or false", "int": "a whole number", "float": "a number",
+                 "null": "null"}.get(kind, kind)
+        return (f"{at} {shown!r} is not {words} (it is tagged !!{kind}); "
+                "remove the tag or fix the value")
+
     def build(self, node: Node, path: KeyPath) -> Any:
         if isinstance(node, ScalarNode):
-            return self.scalar(node)
+            return self.scalar(node, path)
         if isinstance(node, SequenceNode):
             if node.tag != _SEQ_TAG:
                 self.problems.append(f"{self.at(node)} unsupported YAML tag {node.tag!r} on a list")

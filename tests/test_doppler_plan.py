@@ -35,7 +35,7 @@ def fake_window(depth_cm, alpha=0.5, wall="epigastric", wid="test-window", name=
     def loss(f):
         return float(attenuation.stack_round_trip_loss_db(
             arr["thickness_cm"], f, arr["attenuation_db_per_cm_mhz"], arr["attenuation_exponent"]))
-    window = NS(id=wid, name=name, wall=wall, rib_gap_mm=None)
+    window = NS(id=wid, name=name, wall=wall, rib_gap_mm=None, endocavitary=False)
     return NS(window=window, stack=NS(depth_cm=depth_cm, arrays=lambda: arr), loss_db=loss)
 
 

@@ -223,6 +223,7 @@ KEY_VOCAB, VALUE_VOCAB = collect_vocabulary()
 
 scalars = st.one_of(
     st.none(), st.booleans(), st.integers(-10**6, 10**20),
+    st.integers(10**300, 10**420), st.integers(-10**420, -10**300),
     st.floats(allow_nan=True, allow_infinity=True),
     st.text(st.characters(blacklist_categories=("Cs",)), max_size=20),
     st.sampled_from(VALUE_VOCAB))
@@ -300,7 +301,9 @@ YAML_PUNCTUATION = [b"&a ", b"*a", b"*zz", b"!!python/object/apply:os.system ['t
                     b"- ", b": ", b"\t", b"{", b"}", b"[", b"]", b"'", b'"', b"%YAML 1.1\n",
                     b"---\n", b"...\n", b"? ", b"!!binary ", b"!custom ", b".nan", b".inf",
                     b"1.0e+999", b"0x1F", b"0o17", b"1:30", b"~", b"null", b"no", b"\xef\xbb\xbf",
-                    b"\x00", b"\xff\xfe", b"\xc3", b"\r", b"\x1b[31m", b"#", b"|", b">-", b"\\"]
+                    b"\x00", b"\xff\xfe", b"\xc3", b"\r", b"\x1b[31m", b"#", b"|", b">-", b"\\",
+                    b"!!bool ", b"!!int ", b"!!float ", b"!!null ", b"!!str ", b"!!timestamp ",
+                    b"9" * 400, b"-" + b"7" * 401]
 
 
 @st.composite
@@ -339,6 +342,29 @@ def test_byte_mutations_of_shipped_files(original, data, workspace):
     mutated = data.draw(byte_mutations(original.read_bytes()), label="bytes")
     path = workspace_copy(workspace, original)
     path.write_bytes(mutated)
+    check_outcome(kind_of(original), path)
+
+
+TAGGED_VALUES = ("!!bool maybe", "!!bool 1", "!!int 12abc", "!!int 0x", "!!float nope",
+                 "!!float", "!!null x", "!!timestamp 2026-13-45", "!!str", "!!binary abc",
+                 "9" * 400, "-" + "7" * 401, "0x" + "f" * 300, "1" * 400 + ".5",
+                 '"' + "8" * 400 + '"', "!!int " + "3" * 400)
+"""Type-tagged bad scalars and huge numbers: once KeyError / OverflowError inside the loaders."""
+
+
+@fuzz_settings(200)
+@given(original=st.sampled_from(SHIPPED), data=st.data())
+def test_tagged_and_huge_scalars_in_shipped_files(original, data, workspace):
+    """Replace the value of one ``key: value`` line with a tagged bad scalar or a huge number."""
+    lines = original.read_text(encoding="utf-8").split("\n")
+    candidates = [i for i, line in enumerate(lines)
+                  if re.match(r"^\s*(- )?[A-Za-z_]+: [^{\[#|>].*$", line)]
+    index = data.draw(st.sampled_from(candidates), label="line")
+    value = data.draw(st.sampled_from(TAGGED_VALUES), label="value")
+    key = lines[index].split(": ", 1)[0]
+    lines[index] = f"{key}: {value}"
+    path = workspace_copy(workspace, original)
+    path.write_text("\n".join(lines), encoding="utf-8")
     check_outcome(kind_of(original), path)
 
 
@@ -667,6 +693,10 @@ def test_mutated_saved_plans_load_or_are_refused_with_a_line(inputs, data, works
         try:
             plan = make_plan(planfile.to_request(result))
         except InputError:
+            return
+        except DataError as exc:    # a named probe inventory or local policy is not usable
+            assert result.probes_path or result.local_policy_path
+            assert all(problem.strip() and "\n" not in problem for problem in exc.problems)
             return
         json.dumps(plan.to_dict(), allow_nan=False)
 

@@ -74,7 +74,7 @@ def test_every_reference_resolves():
 KNOWN_KEYWORDS = {"$schema", "$id", "$defs", "$ref", "title", "description", "type",
                   "properties", "required", "additionalProperties", "propertyNames", "items",
                   "enum", "const", "pattern", "minLength", "minimum", "exclusiveMinimum",
-                  "maximum", "minItems", "anyOf", "allOf", "not", "format"}
+                  "maximum", "minItems", "anyOf", "allOf", "not", "format", "default"}
 TYPES = {"object": dict, "array": list, "string": str, "boolean": bool, "null": type(None)}
 
 

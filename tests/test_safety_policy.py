@@ -138,21 +138,21 @@ def test_broken_policy_reports_every_problem_with_lines(tmp_path):
     problems = caught.value.problems
     text = "\n".join(problems)
     expected = [
-        ":1:1: schema_version: must be 1",
-        ":2:1: department: missing or empty",
-        ":3:1: colour: unknown key",
+        ":1:1: schema_version: must be 1, got the number 2",
+        ":2:1: department: must not be empty",
+        ":3:1: colour: unknown key 'colour'",
         ":6:23: scan_time_limits.obstetric[0].ti_up_to: must be above ti_above",
-        ":7:38: scan_time_limits.obstetric[1].max_minutes: must be > 0",
+        ":7:38: scan_time_limits.obstetric[1].max_minutes: must be greater than 0, got -5",
         "scan_time_limits.obstetric: TI bands overlap",
-        ":10:3: scan_time_limits.underwater: unknown exam type",
-        "exam_limits.obstetric.max_ti: must be a finite number, got '1e3'",
-        "exam_limits.obstetric.max_mi: must be <= 1.9",
+        ":10:3: scan_time_limits.underwater: 'underwater' is not one of",
+        "exam_limits.obstetric.max_ti: expected a number, got text '1e3' (read as text",
+        "exam_limits.obstetric.max_mi: must be at most 1.9",
         "exam_limits.obstetric.hours: unknown key",
-        ":14:29: doppler_restrictions[0].exam_types[1]: unknown value 'martian'",
-        ":16:5: doppler_restrictions[0].permitted: must be one of",
+        ":14:29: doppler_restrictions[0].exam_types[1]: 'martian' is not one of",
+        ":16:5: doppler_restrictions[0].permitted: true is not one of",
         "yes/no",
-        "preferred_settings.cardiac.start_ti: must be a finite number, got True",
-        "preferred_settings.cardiac.notes: must be a list",
+        "preferred_settings.cardiac.start_ti: expected a number, got true",
+        "preferred_settings.cardiac.notes: expected a list",
     ]
     for piece in expected:
         assert piece in text, piece

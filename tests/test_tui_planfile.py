@@ -69,10 +69,19 @@ def test_impossible_values_are_reported_at_their_key(tmp_path):
     assert ":4:3: patient.bmi: BMI must be at least 10" in text
 
 
-def test_yaml_1_1_number_text_is_read_as_a_number(tmp_path):
-    """PyYAML (YAML 1.1) reads 3.5e1 as text; a plan file still means the number 35."""
+def test_yaml_1_1_number_text_is_refused_with_the_shared_hint(tmp_path):
+    """PyYAML (YAML 1.1) reads 3.5e1 as text, and "38" is text: a plan file refuses both with
+    the same hint as every other file kind, instead of guessing a number."""
+    from planner.files.problems import NUMBER_TEXT_HINT
     path = tmp_path / "exp.yaml"
-    path.write_text("schema_version: 1\ntarget: liver\npatient:\n  bmi: 3.5e1\n")
+    path.write_text('schema_version: 1\ntarget: liver\npatient:\n  bmi: 3.5e1\n'
+                    '  weight_kg: "38"\n')
+    with pytest.raises(DataError) as caught:
+        load_plan_inputs(path)
+    assert caught.value.problems == [
+        f"{path}:4:3: patient.bmi: expected a number, got text '3.5e1'{NUMBER_TEXT_HINT}",
+        f"{path}:5:3: patient.weight_kg: expected a number, got text '38'{NUMBER_TEXT_HINT}"]
+    path.write_text("schema_version: 1\ntarget: liver\npatient:\n  bmi: 35.0\n")
     assert load_plan_inputs(path).bmi == 35.0
 
 
@@ -142,7 +151,8 @@ def test_doppler_mode_asks_for_doppler_planning():
 
 def test_inputs_to_data_writes_every_key():
     data = inputs_to_data(PlanInputs())
-    assert list(data) == ["schema_version", "target", "window", "patient", "exam", "supervision"]
+    assert list(data) == ["schema_version", "target", "window", "patient", "exam", "files",
+                          "supervision"]
     assert set(data["supervision"]) == {"draft", "student", "supervisor", "date",
                                         "supervisor_comments", "student_reflection"}
 

@@ -58,9 +58,6 @@ ASCITES_DEPTH_CM: dict[int, Sourced] = {
 }
 """Thickness of the free-fluid layer placed between the wall and the organs. [cm]"""
 
-ASCITES_WALLS: frozenset[str] = frozenset(
-    {"epigastric", "periumbilical", "paramedian", "subcostal", "ruq_intercostal"})
-"""Wall families under which free abdominal fluid lies."""
 
 
 def parse_condition(text: str) -> tuple[str, int]:

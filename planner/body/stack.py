@@ -12,7 +12,7 @@ from dataclasses import dataclass, replace
 
 import numpy as np
 
-from planner.body.conditions import (ASCITES_DEPTH_CM, ASCITES_WALLS,
+from planner.body.conditions import (ASCITES_DEPTH_CM,
                                      STEATOSIS_ATTENUATION_DB_PER_CM_MHZ,
                                      STEATOSIS_SPEED_M_PER_S)
 from planner.body.patient import Patient
@@ -131,7 +131,7 @@ def wall_thickness_mm(model: WallModel, bmi, sex: str | None, wall_factor: float
         median[:, i] = np.where(lifted_mask, lifted, median[:, i])
         low[:, i] = np.where(lifted_mask, np.minimum(low[:, i], lifted), low[:, i])
         high[:, i] = np.where(lifted_mask, np.maximum(high[:, i], through), high[:, i])
-    if model.id == "pregnancy_lower" and (gestation_weeks or 0) >= 28:
+    if model.late_pregnancy_fat and (gestation_weeks or 0) >= 28:
         factor = np.where(b >= 25, PREGNANCY_LATE_FAT_FACTOR, 1.0)[:, None]
         fat_cols = np.array([r in FAT_ROLES for r in roles])
         for arr in (median, low, high):
@@ -234,11 +234,11 @@ class StackBatch:
         }
 
 
-def _organ_path(patient: Patient, window, notes: list[str]) -> list[Layer]:
+def _organ_path(patient: Patient, window, model: WallModel, notes: list[str]) -> list[Layer]:
     """The layers below the wall: free fluid when present, then the window's organ path."""
     layers: list[Layer] = []
     grade = patient.conditions.get("ascites")
-    if grade and window.wall in ASCITES_WALLS:
+    if grade and model.ascites_beneath:
         depth = float(ASCITES_DEPTH_CM[grade].value)
         layers.append(Layer(get_tissue("ascites"), depth, "ascites", "free fluid (ascites)"))
     liver_grade = patient.conditions.get("steatosis")
@@ -302,7 +302,7 @@ def build_stack_batch(patient: Patient, window, *, bmi=None, depth_cm=None,
         low_cm, high_cm = wall_cm, wall_cm
     wall_layers = [Layer(get_tissue(lay.tissue), float(t), lay.role, lay.role.replace("_", " "))
                    for lay, t in zip(model.layers, layers_cm[0])]
-    organ = _organ_path(patient, window, notes)
+    organ = _organ_path(patient, window, model, notes)
     n_extra = len(organ) - len(window.path)
     fixed = np.array([lay.thickness_cm for lay in organ[:n_extra]])
     path = np.array([lay.thickness_cm for lay in organ[n_extra:]])

@@ -48,12 +48,22 @@ class WallModel:
     bmi_dependent: bool = True
     pannus: bool = False
     notes: tuple[str, ...] = field(default=())
+    intercostal: bool = False
+    ascites_beneath: bool = False
+    late_pregnancy_fat: bool = False
+    endocavitary: bool = False
+    includes_bone: bool = False
 
 
 def _pair(value) -> tuple[float, float]:
     if isinstance(value, dict):
         return float(value["female"]), float(value["male"])
     return float(value), float(value)
+
+
+WALL_FACTS: tuple[str, ...] = ("intercostal", "ascites_beneath", "late_pregnancy_fat",
+                               "endocavitary", "includes_bone")
+"""Boolean facts a wall family may state in ``walls.yaml`` (see its header)."""
 
 
 @lru_cache(maxsize=1)
@@ -71,7 +81,8 @@ def load_wall_models() -> dict[str, WallModel]:
             for lay in raw["layers"])
         models[wall_id] = WallModel(id=wall_id, name=raw["name"], layers=layers,
                                     bmi_dependent=raw.get("bmi_dependent", True),
-                                    pannus=raw.get("pannus", False))
+                                    pannus=raw.get("pannus", False),
+                                    **{fact: bool(raw.get(fact, False)) for fact in WALL_FACTS})
     return models
 
 

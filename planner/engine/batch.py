@@ -36,7 +36,7 @@ def signal_budget_db(target) -> float:
 
 def probe_fit(probe: Probe, window) -> str:
     """Whether a probe's footprint suits the window (rib gap, endocavitary route)."""
-    endo_window = window.wall == "endocavitary"
+    endo_window = bool(window.endocavitary)
     if (probe.type == "endocavitary") != endo_window:
         return "n/a"
     gap = window.rib_gap_mm

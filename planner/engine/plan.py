@@ -23,14 +23,13 @@ from planner.safety import DISCLAIMER, ExamContext, load_local_policy, monitored
 
 SCHEMA_VERSION = 1
 BONE_TARGET_TISSUES = frozenset({"cortical_bone", "cartilage"})
-BONE_NEAR_FOCUS_TARGETS = frozenset({"fetal-head", "fetal-spine", "infant-hip"})
-"""Targets whose focus lies at or near bone, so TIB applies and pulsed-Doppler times are cut."""
 
 
 def bone_near_focus(target, window=None) -> bool:
-    """True when bone lies at or near the focus: bone or cartilage targets, the fetal head and
-    spine, the infant hip, or bone on the window's path (the safety rules then use TIB)."""
-    return (target.target_tissue in BONE_TARGET_TISSUES or target.id in BONE_NEAR_FOCUS_TARGETS
+    """True when bone lies at or near the focus: bone or cartilage targets, targets marked
+    ``bone_near_focus`` in the library (fetal head and spine, infant hip), or bone on the
+    window's path (the safety rules then use TIB)."""
+    return (target.target_tissue in BONE_TARGET_TISSUES or target.bone_near_focus
             or bool(getattr(window, "bone_in_path", False)))
 
 
@@ -151,7 +150,7 @@ def _no_window_findings(target, ranked: list[WindowAssessment]) -> list[Finding]
         return []
     ideas = ["accept less detail (see the band finding)", "firm graded compression to thin the wall",
              "harmonic imaging for the near field"]
-    if any(w.wall == "endocavitary" for w in target.windows):
+    if any(w.endocavitary for w in target.windows):
         ideas.insert(0, "the endocavitary route")
     ideas.append("another imaging method if the question needs finer detail")
     return [Finding("plan.no_window", "warning", "No window gives the needed detail",

@@ -277,8 +277,8 @@ def _window(c: _Checker, raw: dict, path: Path) -> t.Window | None:
     rectus, bone = c.flag(raw, "midline_rectus", path), c.flag(raw, "bone_in_path", path)
     if wall in t.INTERCOSTAL_WALLS and "rib_gap_mm" in raw and raw["rib_gap_mm"] is None:
         c.add(path + ("rib_gap_mm",), f"an intercostal window ({wall}) must give rib_gap_mm")
-    if wall == "temporal" and "bone_in_path" in raw and not bone:
-        c.add(path + ("bone_in_path",), "the temporal wall includes bone; set bone_in_path: true")
+    if wall in t.BONE_WALLS and "bone_in_path" in raw and not bone:
+        c.add(path + ("bone_in_path",), f"the {wall} wall includes bone; set bone_in_path: true")
     inner = [layer for layer in layers[:-1] if layer is not None]
     if any(c.tissues.get(layer.tissue) == "bone" for layer in inner) and not bone:
         c.add(path + ("bone_in_path",), "a bone layer lies before the target in the path; "
@@ -297,7 +297,7 @@ def _window(c: _Checker, raw: dict, path: Path) -> t.Window | None:
 
 
 def _target(c: _Checker, target_id: Any, raw: dict, path: Path) -> t.Target | None:
-    c.keys(raw, path, TARGET_KEYS)
+    c.keys(raw, path, TARGET_KEYS, ("bone_near_focus",))
     name = c.text(raw, "name", path)
     region = c.choice(raw, "region", path, t.REGIONS, "region")
     reflector = c.choice(raw, "reflector", path, t.REFLECTORS, "reflector")
@@ -333,7 +333,8 @@ def _target(c: _Checker, target_id: Any, raw: dict, path: Path) -> t.Target | No
     return t.Target(target_id, name, region, reflector, exam, tissue, float(depth.value),
                     float(detail.value), probes, tuple(surfaces), fluid, wall_tissue, lumen,
                     calcification, harmonic, pitfalls, tuple(windows),
-                    {"typical_depth_cm": depth, "detail_mm": detail})
+                    {"typical_depth_cm": depth, "detail_mm": detail},
+                    c.flag(raw, "bone_near_focus", path))
 
 
 def _probe_types(c: _Checker, raw: dict, path: Path) -> tuple[str, ...]:

@@ -23,13 +23,13 @@ from importlib import resources
 from pathlib import Path
 from typing import Iterator
 
-from planner.safety.context import EXAM_TYPES as _SAFETY_EXAM_TYPES
+from planner.datafiles import load_package_yaml, vocabulary
 from planner.errors import DataError, InputError
 from planner.library.probes import PROBE_TYPES
 from planner.provenance import Sourced
 
 __all__ = [
-    "CURVATURES", "EXAM_TYPES", "INTERCOSTAL_WALLS", "LAYER_ROLES", "ORIENTATIONS",
+    "BONE_WALLS", "CURVATURES", "ENDOCAVITARY_WALLS", "EXAM_TYPES", "INTERCOSTAL_WALLS", "LAYER_ROLES", "ORIENTATIONS",
     "PROBE_TYPES", "REFLECTORS", "REGIONS", "RISK_LEVELS", "SCHEMA_VERSION",
     "SURFACE_REFLECTORS", "WALL_MODEL_IDS", "PathLayer", "Surface", "Target",
     "TargetLibrary", "Window", "load_library", "load_library_file", "parse_library",
@@ -38,19 +38,18 @@ __all__ = [
 SCHEMA_VERSION: int = 1
 """The ``schema_version`` a target library file must declare."""
 
-WALL_MODEL_IDS: tuple[str, ...] = (
-    "epigastric", "periumbilical", "paramedian", "ruq_intercostal", "subcostal",
-    "posterior_flank", "pregnancy_lower", "neck_anterior", "neck_lateral", "groin", "thigh",
-    "popliteal", "limb_distal", "shoulder", "breast", "scrotal", "chest_wall", "temporal",
-    "fontanelle", "infant", "endocavitary")
-"""Body-wall models a window may name (implemented by :mod:`planner.body`)."""
+_WALLS: dict = load_package_yaml("walls.yaml")["walls"]
+
+WALL_MODEL_IDS: tuple[str, ...] = tuple(_WALLS)
+"""Body-wall models a window may name (``planner/data/walls.yaml``, used by :mod:`planner.body`)."""
 
 REGIONS: tuple[str, ...] = ("abdomen", "pelvis", "obstetric", "small_parts", "vascular",
                             "musculoskeletal", "thorax", "cardiac", "neonatal", "head")
 """Body regions used to group targets."""
 
-EXAM_TYPES: tuple[str, ...] = tuple(_SAFETY_EXAM_TYPES)
-"""Exam types; they select the thermal-index and scan-time tables."""
+EXAM_TYPES: tuple[str, ...] = tuple(vocabulary()["exam_types"])
+"""Exam types (``planner/data/vocabulary.yaml``); they select the thermal-index and scan-time
+tables."""
 
 REFLECTORS: tuple[str, ...] = ("specular", "diffuse", "mixed", "fluid")
 """Dominant echo type of what the exam must judge."""
@@ -74,8 +73,17 @@ LAYER_ROLES: dict[str, str] = {"bladder": "urine", "stomach": "water"}
 ``stomach``: the water-filled stomach used as a window.
 """
 
-INTERCOSTAL_WALLS: tuple[str, ...] = ("ruq_intercostal", "chest_wall")
-"""Wall models of intercostal windows; their windows must give ``rib_gap_mm``."""
+INTERCOSTAL_WALLS: tuple[str, ...] = tuple(w for w, raw in _WALLS.items() if raw.get("intercostal"))
+"""Wall models of intercostal windows (``intercostal: true`` in ``walls.yaml``); their windows
+must give ``rib_gap_mm``."""
+
+ENDOCAVITARY_WALLS: tuple[str, ...] = tuple(w for w, raw in _WALLS.items()
+                                            if raw.get("endocavitary"))
+"""Wall models of endocavitary routes (``endocavitary: true`` in ``walls.yaml``)."""
+
+BONE_WALLS: tuple[str, ...] = tuple(w for w, raw in _WALLS.items() if raw.get("includes_bone"))
+"""Wall models with bone in the wall itself (``includes_bone: true``); their windows set
+``bone_in_path``."""
 
 
 @dataclass(frozen=True, slots=True)
@@ -133,6 +141,12 @@ class Window:
     provenance: dict[str, Sourced] = field(default_factory=dict, hash=False, repr=False)
 
     @property
+    def endocavitary(self) -> bool:
+        """True for an endocavitary route (its wall model says so): only endocavitary
+        probes fit."""
+        return self.wall in ENDOCAVITARY_WALLS
+
+    @property
     def path_cm(self) -> float:
         """Total thickness of the organ path (wall excluded). [cm]"""
         return float(sum(layer.thickness_cm for layer in self.path))
@@ -170,6 +184,7 @@ class Target:
     pitfalls: tuple[str, ...]
     windows: tuple[Window, ...]
     provenance: dict[str, Sourced] = field(default_factory=dict, hash=False, repr=False)
+    bone_near_focus: bool = False
 
     def window_ids(self) -> tuple[str, ...]:
         """Ids of the windows, usual first."""

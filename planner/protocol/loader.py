@@ -1,7 +1,8 @@
 """Load and check department protocol files, reporting every problem at once.
 
 :func:`load_protocol` reads a protocol safely (:func:`planner.yamlio.load_user_yaml`),
-checks it against the model of :mod:`planner.protocol.schema` and then against the
+checks it against the model of :mod:`planner.protocol.schema` (as a strict pydantic model,
+:func:`planner.files.dataclass_model.model_for`) and then against the
 world outside the file: target and window ids of the target library, probe ids of
 the department probe inventory, bibliography keys of every source, unique view and
 measurement ids, consistent threshold bands, the time budget and local Doppler rules.
@@ -12,13 +13,14 @@ together in one :class:`planner.errors.DataError`.
 from __future__ import annotations
 
 import difflib
+import math
 import os
 import re
 from pathlib import Path
 from typing import Any
 
 from planner.errors import DataError
-from planner.protocol.fields import describe, parse_model
+from planner.files.problems import describe
 from planner.protocol.schema import ID_PATTERN, REFERENCE_KEY_PATTERN, SCHEMA_VERSION, Protocol
 from planner.yamlio import ProblemCollector, load_user_yaml
 
@@ -73,6 +75,17 @@ def _in_line_order(path: str, problems: list[str]) -> list[str]:
         groups.append((line, [problem]))
     groups.sort(key=lambda group: group[0])
     return [problem for _, members in groups for problem in members]
+
+
+def _finite(value: Any) -> float | None:
+    """``value`` as a float when it is a finite number a float can hold, else ``None`` (the
+    schema pass has already reported anything else with its line)."""
+    if isinstance(value, bool) or not isinstance(value, (int, float)):
+        return None
+    if isinstance(value, int) and abs(value) > 1e300:
+        return None
+    number = float(value)
+    return number if math.isfinite(number) else None
 
 
 def _items(value: Any) -> list:
@@ -226,9 +239,7 @@ class _Checker:
 
     def check_band(self, band: dict[Any, Any], path: tuple) -> None:
         def number(key: str) -> float | None:
-            value = band.get(key)
-            ok = isinstance(value, (int, float)) and not isinstance(value, bool)
-            return float(value) if ok else None
+            return _finite(band.get(key))
 
         if not any(band.get(key) is not None for key in ("above", "at_or_above", "below",
                                                          "at_or_below")):
@@ -247,19 +258,26 @@ class _Checker:
     def check_time_budget(self, views: Any) -> None:
         safety = self.data.get("safety")
         limit = safety.get("max_scan_minutes") if isinstance(safety, dict) else None
-        limit_value = limit.get("value") if isinstance(limit, dict) else None
-        if not isinstance(views, list) or not isinstance(limit_value, (int, float)) \
-                or isinstance(limit_value, bool):
+        limit_value = _finite(limit.get("value")) if isinstance(limit, dict) else None
+        if not isinstance(views, list) or limit_value is None:
             return
         total = 0.0
         for view in views:
-            minutes = view.get("expected_minutes") if isinstance(view, dict) else None
-            if isinstance(minutes, (int, float)) and not isinstance(minutes, bool):
+            minutes = _finite(view.get("expected_minutes")) if isinstance(view, dict) else None
+            if minutes is not None:
                 total += minutes
         if total > limit_value:
             self.problems.add(("safety", "max_scan_minutes"),
                               f"the views' expected minutes add up to {total:g} min, more than "
                               f"the limit of {limit_value:g} min")
+
+
+def _parse(data: dict[Any, Any], problems: ProblemCollector) -> Protocol | None:
+    """Validate against the model generated from :class:`Protocol`; ``None`` on problems."""
+    from planner.files.base import validate_data
+    from planner.files.dataclass_model import build, model_for
+    model = validate_data(model_for(Protocol), data, problems.add)
+    return None if model is None else build(Protocol, model)
 
 
 def load_protocol(path: str | os.PathLike[str], *, library: Any = None,
@@ -297,7 +315,7 @@ def load_protocol(path: str | os.PathLike[str], *, library: Any = None,
         problems.add(("schema_version",), f"this release reads schema_version "
                                           f"{SCHEMA_VERSION}, got {describe(version)}")
         problems.raise_if_any(title="Invalid protocol")
-    protocol = parse_model(Protocol, loaded.data, problems)
+    protocol = _parse(loaded.data, problems)
     checker = _Checker(Path(path), loaded.data, problems,
                        library if library is not None else _default_library(),
                        references if references is not None else _default_references())

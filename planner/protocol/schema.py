@@ -20,13 +20,13 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 from typing import Any
 
-from planner.safety.context import EXAM_TYPES as _SAFETY_EXAM_TYPES
+from planner.datafiles import vocabulary
 from planner.provenance import STATUSES, Sourced
 
 SCHEMA_VERSION = 1
 """The only protocol ``schema_version`` this release reads."""
 
-EXAM_TYPES: tuple[str, ...] = tuple(_SAFETY_EXAM_TYPES)
+EXAM_TYPES: tuple[str, ...] = tuple(vocabulary()["exam_types"])
 """Exam types; the same ids as the safety rules and the target library use."""
 
 POSITIONS: tuple[str, ...] = (

@@ -6,32 +6,15 @@ import math
 from dataclasses import asdict, dataclass, fields
 from typing import Any
 
+from planner.datafiles import vocabulary
 from planner.errors import InputError
 from planner.safety.validity import check_inputs
 
-EXAM_TYPES: dict[str, str] = {
-    "general_abdominal": "General abdominal",
-    "obstetric": "Obstetric",
-    "gynaecological": "Gynaecological",
-    "neonatal_head": "Neonatal head (through the fontanelle)",
-    "neonatal_spine": "Neonatal spine",
-    "neonatal_other": "Neonatal, other (abdomen, hips, chest, heart)",
-    "adult_transcranial": "Adult transcranial",
-    "ophthalmic": "Ophthalmic (eye and orbit)",
-    "peripheral_vascular": "Peripheral vascular",
-    "musculoskeletal": "Musculoskeletal",
-    "small_parts": "Small parts (thyroid, breast, scrotum, superficial)",
-    "cardiac": "Cardiac (adult transthoracic)",
-    "thorax": "Thorax (lung, pleura, chest wall)",
-}
-"""Exam type id -> label. The id selects the thermal index to watch and the scan-time table."""
+EXAM_TYPES: dict[str, str] = vocabulary()["exam_types"]
+"""Exam type id -> label (``planner/data/vocabulary.yaml``). The id selects the thermal index
+to watch and the scan-time table."""
 
-MODES: dict[str, str] = {
-    "b_mode": "B-mode",
-    "colour_doppler": "Colour Doppler",
-    "power_doppler": "Power Doppler",
-    "pulsed_doppler": "Pulsed (spectral) Doppler",
-}
+MODES: dict[str, str] = vocabulary()["modes"]
 """Planned imaging mode id -> label."""
 
 DOPPLER_MODES: tuple[str, ...] = ("colour_doppler", "power_doppler", "pulsed_doppler")

@@ -5,7 +5,7 @@ minutes per TI band, a maximum TI, an MI ceiling and a time cap per exam type, D
 restrictions, preferred starting settings. scanplan shows every local value *beside* the
 published one, labelled as local practice; the published value is never hidden.
 
-File format (YAML, ``schema_version: 1``)::
+File format (YAML, ``schema_version: 1``; model :class:`planner.files.policy.PolicyFile`)::
 
     schema_version: 1
     department: Harbourside Community Imaging
@@ -35,13 +35,11 @@ TI bands follow the published tables: a band covers ``ti_above < TI <= ti_up_to`
 from __future__ import annotations
 
 import math
-
 import os
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
-from planner.safety.context import EXAM_TYPES, MODES
 from planner.safety.tables import safety_data
 from planner.yamlio import ProblemCollector, load_user_yaml
 
@@ -56,9 +54,6 @@ PERMISSIONS: dict[str, str] = {
 """Doppler permission values of a local policy -> wording in findings."""
 
 DEFAULT_KEY = "default"
-_TOP_KEYS = ("schema_version", "department", "version", "approved_by", "review_date",
-             "scan_time_limits", "exam_limits", "doppler_restrictions", "preferred_settings")
-_TEXT_KEYS = ("version", "approved_by", "review_date")
 
 
 def is_local_source(source: str) -> bool:
@@ -173,131 +168,68 @@ class LocalPolicy:
         return tuple(out)
 
 
-class _Reader:
-    """Typed field reading that records every problem instead of stopping at the first."""
-
-    def __init__(self, problems: ProblemCollector) -> None:
-        self.problems = problems
-
-    def number(self, raw: dict, key_path: tuple, *, required: bool = False, positive: bool = True,
-               at_most: float | None = None) -> float | None:
-        key = key_path[-1]
-        if key not in raw or raw[key] is None:
-            if required:
-                self.problems.add(key_path, "missing; give a number")
-            return None
-        value = raw[key]
-        if isinstance(value, bool) or not isinstance(value, (int, float)) or not math.isfinite(value):
-            self.problems.add(key_path, f"must be a finite number, got {value!r}")
-            return None
-        if (positive and value <= 0) or (not positive and value < 0):
-            self.problems.add(key_path, f"must be {'> 0' if positive else '>= 0'}, got {value!r}")
-            return None
-        if at_most is not None and value > at_most:
-            self.problems.add(key_path, f"must be <= {at_most:g}, got {value!r}")
-            return None
-        return float(value)
-
-    def mapping(self, raw: Any, key_path: tuple, allowed: tuple[str, ...]) -> dict:
-        if not isinstance(raw, dict):
-            self.problems.add(key_path, f"must be a mapping with keys {', '.join(allowed)}")
-            return {}
-        for key in raw:
-            if key not in allowed:
-                self.problems.add(key_path + (key,), f"unknown key; valid: {', '.join(allowed)}")
-        return raw
-
-    def per_exam(self, raw: Any, key_path: tuple) -> dict:
-        choices = tuple(EXAM_TYPES) + (DEFAULT_KEY,)
-        if not isinstance(raw, dict):
-            self.problems.add(key_path, "must be a mapping from exam type to settings")
-            return {}
-        good = {}
-        for key, value in raw.items():
-            if key in choices:
-                good[key] = value
-            else:
-                self.problems.add(key_path + (key,),
-                                  f"unknown exam type; valid: {', '.join(choices)}")
-        return good
-
-    def id_list(self, raw: dict, key_path: tuple, choices: tuple[str, ...]) -> tuple[str, ...]:
-        value = raw.get(key_path[-1])
-        if not isinstance(value, list) or not value:
-            self.problems.add(key_path, f"must be a non-empty list of {', '.join(choices)}")
-            return ()
-        for i, item in enumerate(value):
-            if item not in choices:
-                self.problems.add(key_path + (i,),
-                                  f"unknown value {item!r}; valid: {', '.join(choices)}")
-        return tuple(v for v in value if v in choices)
+def _is_number(value: Any) -> bool:
+    return (isinstance(value, (int, float)) and not isinstance(value, bool)
+            and abs(value) < 1e300 and (isinstance(value, int) or math.isfinite(value)))
 
 
-def _bands(reader: _Reader, raw: Any, key_path: tuple) -> tuple[LocalTimeBand, ...]:
-    if not isinstance(raw, list) or not raw:
-        reader.problems.add(key_path,
-                            "must be a non-empty list of {ti_above, ti_up_to, max_minutes}")
-        return ()
-    bands = []
-    for i, item in enumerate(raw):
-        where = key_path + (i,)
-        item = reader.mapping(item, where, ("ti_above", "ti_up_to", "max_minutes"))
-        if not item:
+def _check_bands(problems: ProblemCollector, exam: Any, raw: Any) -> None:
+    """Each band's ``ti_up_to`` above its ``ti_above``; bands of one exam do not overlap."""
+    if not isinstance(raw, list):
+        return
+    bands: list[tuple[float, float | None]] = []
+    for index, item in enumerate(raw):
+        if not isinstance(item, dict) or not _is_number(item.get("ti_above")):
             continue
-        lo = reader.number(item, where + ("ti_above",), required=True, positive=False)
-        hi = reader.number(item, where + ("ti_up_to",))
-        minutes = reader.number(item, where + ("max_minutes",), required=True)
-        if lo is None or minutes is None or ("ti_up_to" in item and item["ti_up_to"] is not None
-                                             and hi is None):
+        low, high = float(item["ti_above"]), item.get("ti_up_to")
+        if high is not None and not _is_number(high):
             continue
-        if hi is not None and hi <= lo:
-            reader.problems.add(where + ("ti_up_to",),
-                                f"must be above ti_above ({lo:g}), got {hi:g}")
+        if high is not None and high <= low:
+            problems.add(("scan_time_limits", exam, index, "ti_up_to"),
+                         f"must be above ti_above ({low:g}), got {high:g}")
             continue
-        bands.append(LocalTimeBand(lo, hi, minutes))
-    ordered = sorted(bands, key=lambda b: b.ti_above)
+        bands.append((low, None if high is None else float(high)))
+    ordered = sorted(bands, key=lambda band: band[0])
     for first, second in zip(ordered, ordered[1:]):
-        if first.ti_up_to is None or first.ti_up_to > second.ti_above:
-            reader.problems.add(key_path, f"TI bands overlap (band from {first.ti_above:g} and "
-                                          f"band from {second.ti_above:g})")
-    return tuple(ordered)
+        if first[1] is None or first[1] > second[0]:
+            problems.add(("scan_time_limits", exam), f"TI bands overlap (band from {first[0]:g} "
+                                                     f"and band from {second[0]:g})")
 
 
-def _doppler_rule(reader: _Reader, raw: Any, where: tuple) -> LocalDopplerRule | None:
-    keys = ("exam_types", "modes", "permitted", "before_weeks", "max_ti", "max_minutes", "note")
-    raw = reader.mapping(raw, where, keys)
-    if not raw:
-        return None
-    exams = reader.id_list(raw, where + ("exam_types",), tuple(EXAM_TYPES))
-    modes = reader.id_list(raw, where + ("modes",), tuple(MODES))
-    permitted = raw.get("permitted")
-    if not isinstance(permitted, str) or permitted not in PERMISSIONS:
-        hint = " (YAML reads yes/no as true/false)" if isinstance(permitted, bool) else ""
-        reader.problems.add(where + ("permitted",),
-                            f"must be one of {', '.join(PERMISSIONS)}, got {permitted!r}{hint}")
-    weeks = reader.number(raw, where + ("before_weeks",), at_most=45)
-    max_ti = reader.number(raw, where + ("max_ti",))
-    minutes = reader.number(raw, where + ("max_minutes",))
-    note = raw.get("note", "")
-    if not isinstance(note, str):
-        reader.problems.add(where + ("note",), f"must be text, got {note!r}")
-    if not exams or not modes or not isinstance(permitted, str) or permitted not in PERMISSIONS:
-        return None
-    return LocalDopplerRule(exams, modes, str(permitted), weeks, max_ti, minutes, str(note))
+def _cross_checks(problems: ProblemCollector, data: dict[str, Any]) -> None:
+    """The checks that need more than one field or the published tables."""
+    limits = data.get("scan_time_limits")
+    for exam, raw in (limits.items() if isinstance(limits, dict) else ()):
+        _check_bands(problems, exam, raw)
+    ceiling = float(safety_data().value("regulatory.max_mi").value)
+    exams = data.get("exam_limits")
+    for exam, raw in (exams.items() if isinstance(exams, dict) else ()):
+        value = raw.get("max_mi") if isinstance(raw, dict) else None
+        if _is_number(value) and value > ceiling:
+            problems.add(("exam_limits", exam, "max_mi"),
+                         f"must be at most {ceiling:g} (the regulatory MI ceiling), got {value!r}")
 
 
-def _preferences(reader: _Reader, raw: Any, where: tuple) -> LocalPreferences:
-    raw = reader.mapping(raw, where, ("start_ti", "notes"))
-    start = reader.number(raw, where + ("start_ti",)) if raw else None
-    notes = raw.get("notes", []) if raw else []
-    if not isinstance(notes, list) or not all(isinstance(n, str) and n.strip() for n in notes):
-        reader.problems.add(where + ("notes",), "must be a list of non-empty texts")
-        notes = []
-    return LocalPreferences(start, tuple(n.strip() for n in notes))
+def _policy_from_model(model: Any, path: str) -> LocalPolicy:
+    bands = {exam: tuple(sorted((LocalTimeBand(b.ti_above, b.ti_up_to, b.max_minutes)
+                                 for b in raw), key=lambda band: band.ti_above))
+             for exam, raw in model.scan_time_limits.items()}
+    limits = {exam: LocalExamLimits(raw.max_ti, raw.max_mi, raw.max_minutes)
+              for exam, raw in model.exam_limits.items()}
+    rules = tuple(LocalDopplerRule(tuple(r.exam_types), tuple(r.modes), r.permitted,
+                                   r.before_weeks, r.max_ti, r.max_minutes, r.note)
+                  for r in model.doppler_restrictions)
+    prefs = {exam: LocalPreferences(raw.start_ti, tuple(raw.notes))
+             for exam, raw in model.preferred_settings.items()}
+    return LocalPolicy(model.department, path, model.version, model.approved_by,
+                       model.review_date, bands, limits, rules, prefs)
 
 
 def load_local_policy(path: str | os.PathLike[str]) -> LocalPolicy:
     """Load and check a department's local safety policy file.
+
+    The file is read by :func:`planner.yamlio.load_user_yaml` and validated by
+    :class:`planner.files.policy.PolicyFile`.
 
     Parameters
     ----------
@@ -313,43 +245,21 @@ def load_local_policy(path: str | os.PathLike[str]) -> LocalPolicy:
     planner.errors.DataError
         Listing every problem as ``file:line:col: key.path: message``.
     """
+    from planner.files.base import validate_data
+    from planner.files.policy import PolicyFile
+
     loaded = load_user_yaml(path, kind="local policy")
     problems = ProblemCollector(path, loaded)
-    reader = _Reader(problems)
-    data = reader.mapping(loaded.data, (), _TOP_KEYS)
-    if data.get("schema_version") != 1:
-        problems.add(("schema_version",), f"must be 1, got {data.get('schema_version')!r}")
-    department = data.get("department")
-    if not isinstance(department, str) or not department.strip():
-        problems.add(("department",), "missing or empty; give the department's name")
-        department = ""
-    texts = {}
-    for key in _TEXT_KEYS:
-        value = data.get(key, "")
-        if isinstance(value, bool) or not isinstance(value, (str, int, float)):
-            problems.add((key,), f"must be text, got {value!r}")
-            value = ""
-        texts[key] = str(value)
-    mi_ceiling = float(safety_data().value("regulatory.max_mi").value)
-    bands = {exam: _bands(reader, raw, ("scan_time_limits", exam))
-             for exam, raw in reader.per_exam(data.get("scan_time_limits", {}),
-                                              ("scan_time_limits",)).items()}
-    limits = {}
-    for exam, raw in reader.per_exam(data.get("exam_limits", {}), ("exam_limits",)).items():
-        where = ("exam_limits", exam)
-        raw = reader.mapping(raw, where, ("max_ti", "max_mi", "max_minutes"))
-        limits[exam] = LocalExamLimits(reader.number(raw, where + ("max_ti",)),
-                                       reader.number(raw, where + ("max_mi",), at_most=mi_ceiling),
-                                       reader.number(raw, where + ("max_minutes",)))
-    rules_raw = data.get("doppler_restrictions", [])
-    if not isinstance(rules_raw, list):
-        problems.add(("doppler_restrictions",), "must be a list of restrictions")
-        rules_raw = []
-    rules = tuple(r for r in (_doppler_rule(reader, raw, ("doppler_restrictions", i))
-                              for i, raw in enumerate(rules_raw)) if r is not None)
-    prefs = {exam: _preferences(reader, raw, ("preferred_settings", exam))
-             for exam, raw in reader.per_exam(data.get("preferred_settings", {}),
-                                              ("preferred_settings",)).items()}
+    model = validate_data(PolicyFile, loaded.data, problems.add)
+    _cross_checks(problems, loaded.data)
+    problems.problems.sort(key=_line_of)
     problems.raise_if_any(title="Invalid local policy file")
-    return LocalPolicy(department.strip(), str(path), texts["version"], texts["approved_by"],
-                       texts["review_date"], bands, limits, rules, prefs)
+    assert model is not None
+    return _policy_from_model(model, str(path))
+
+
+def _line_of(problem: str) -> tuple[int, ...]:
+    """``(line, column)`` of a located problem, for sorting (0 when it has none)."""
+    head = problem.split(": ", 1)[0].split(":")
+    numbers = tuple(int(part) for part in head[-2:] if part.isdigit())
+    return numbers if len(numbers) == 2 else (0, 0)

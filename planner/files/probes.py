@@ -1,0 +1,81 @@
+"""Model of a probe inventory file (a department's, or the shipped default).
+
+Format (``schema_version: 1``): ``probes``, a non-empty list of probes with ``id``,
+``label``, ``type`` (a probe family of ``planner/data/vocabulary.yaml``), ``band_mhz:
+[low, high]`` [MHz], ``aperture_mm`` (active aperture in the scan plane) [mm],
+``elevation_aperture_mm`` [mm], ``elevation_focus_cm`` [cm], ``footprint_mm: [length,
+width]`` [mm], ``receive_f_number`` [-], ``pulse_cycles`` [-] and ``harmonic``. Optional
+``department``, ``title`` and ``source`` ({source, status, note}) describe the file.
+The ranges are plausibility bounds (common practice), not limits of any product.
+"""
+
+from __future__ import annotations
+
+from typing import Annotated, Literal
+
+from pydantic import Field, field_validator
+
+from planner.datafiles import vocabulary
+from planner.files.base import FileModel, OptText, Positive, SourceKey, Status, Text
+
+__all__ = ["ProbeEntry", "InventoryFile", "InventorySource"]
+
+ProbeType = Literal[vocabulary()["probe_types"]]  # type: ignore[valid-type]
+
+
+def _bounded(low: float, high: float, description: str) -> object:
+    return Annotated[float, Field(ge=low, le=high, allow_inf_nan=False, description=description)]
+
+
+class ProbeEntry(FileModel):
+    """One transducer of the inventory (units in the names)."""
+
+    id: Text = Field(description="Probe id, unique in the inventory.")
+    label: Text = Field(description="Generic description shown in plans.")
+    type: ProbeType = Field(description="Probe family.")
+    band_mhz: Annotated[list[Positive], Field(min_length=2, max_length=2)] = Field(
+        description="Usable band [low, high]. [MHz]")
+    aperture_mm: _bounded(1, 200, "Active aperture in the scan plane. [mm]")  # type: ignore
+    elevation_aperture_mm: _bounded(0.5, 50, "Elevation aperture. [mm]")  # type: ignore
+    elevation_focus_cm: _bounded(0.2, 30, "Fixed elevation (lens) focus. [cm]")  # type: ignore
+    footprint_mm: Annotated[list[Positive], Field(min_length=2, max_length=2)] = Field(
+        description="Footprint [length, width]. [mm]")
+    receive_f_number: _bounded(0.5, 10, "Receive F-number. [-]")  # type: ignore
+    pulse_cycles: _bounded(0.5, 20, "Cycles in the transmitted pulse. [-]")  # type: ignore
+    harmonic: bool = Field(description="Can receive the second harmonic.")
+
+    @field_validator("band_mhz")
+    @classmethod
+    def _increasing(cls, band: list[float]) -> list[float]:
+        if not band[0] < band[1]:
+            raise ValueError(f"band_mhz must be increasing, got [{band[0]:g}, {band[1]:g}]")
+        return band
+
+
+class InventorySource(FileModel):
+    """Where the inventory's values come from."""
+
+    source: SourceKey
+    status: Status
+    note: OptText = ""
+
+
+class InventoryFile(FileModel):
+    """A probe inventory file."""
+
+    schema_version: Literal[1] = Field(description="File format version; must be 1.")
+    probes: Annotated[list[ProbeEntry], Field(min_length=1)] = Field(
+        description="The probes, in order of preference.")
+    department: Text | None = None
+    title: Text | None = None
+    source: InventorySource | None = None
+
+    def duplicate_ids(self) -> list[tuple[int, str]]:
+        """``(index, id)`` of every probe whose id was already used earlier in the list."""
+        seen: set[str] = set()
+        out = []
+        for index, probe in enumerate(self.probes):
+            if probe.id in seen:
+                out.append((index, probe.id))
+            seen.add(probe.id)
+        return out

@@ -1,0 +1,36 @@
+"""JSON Schemas (draft 2020-12) of the user file kinds, generated from their models.
+
+Editors with a YAML language server check a file as it is typed when it starts with
+``# yaml-language-server: $schema=<path to the schema file>``.
+"""
+
+from __future__ import annotations
+
+from typing import Any
+
+from planner.files.base import json_schema_of
+
+__all__ = ["inventory_schema", "policy_schema", "plan_schema"]
+
+_ID = "https://scanplan.invalid/schemas/{}-v1.json"
+
+
+def inventory_schema() -> dict[str, Any]:
+    """Schema of a probe inventory file."""
+    from planner.files.probes import InventoryFile
+    return json_schema_of(InventoryFile, title="scanplan probe inventory (schema_version 1)",
+                          schema_id=_ID.format("probes"))
+
+
+def policy_schema() -> dict[str, Any]:
+    """Schema of a local safety policy file."""
+    from planner.files.policy import PolicyFile
+    return json_schema_of(PolicyFile, title="scanplan local safety policy (schema_version 1)",
+                          schema_id=_ID.format("policy"))
+
+
+def plan_schema() -> dict[str, Any]:
+    """Schema of a saved plan file (the plan's inputs)."""
+    from planner.files.plan import PlanFile
+    return json_schema_of(PlanFile, title="scanplan plan inputs (schema_version 1)",
+                          schema_id=_ID.format("plan"))
