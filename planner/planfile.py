@@ -13,6 +13,7 @@ always reflects the current engine and data. The format (``schema_version: 1``):
       weight_kg: null
       sex: null               # female, male or null (unknown)
       wall_mm: null           # measured body-wall thickness [mm]
+      fat_mm: null            # measured subcutaneous fat thickness [mm]
       depth_cm: null          # measured skin-to-target depth [cm]
       gestation_weeks: null
       conditions: {steatosis: 2}
@@ -24,6 +25,11 @@ always reflects the current engine and data. The format (``schema_version: 1``):
       pregnancy_possible: false
       expected_ti: null
       planned_minutes: null
+      expected_mi: null
+      lung_in_beam: false
+      doppler: false          # Doppler planning (also when a Doppler mode is planned)
+      probes: null            # a department probe inventory file (null: the shipped catalogue)
+      local_policy: null      # a department local policy file (null: none)
     supervision:
       draft: false
       student: ''
@@ -98,6 +104,12 @@ class PlanInputs:
     pregnancy_possible: bool = False
     expected_ti: float | None = None
     planned_minutes: float | None = None
+    fat_mm: float | None = None
+    expected_mi: float | None = None
+    lung_in_beam: bool = False
+    probes_path: str | None = None
+    local_policy_path: str | None = None
+    doppler: bool = False
     draft: bool = False
     signoff: SignOff = field(default_factory=SignOff)
 
@@ -111,14 +123,15 @@ def _patient(inputs: PlanInputs, **only):
                                weight_kg=inputs.weight_kg, sex=inputs.sex,
                                conditions=dict(inputs.conditions),
                                gestation_weeks=inputs.gestation_weeks, wall_mm=inputs.wall_mm,
-                               depth_cm=inputs.depth_cm)
+                               fat_mm=inputs.fat_mm, depth_cm=inputs.depth_cm)
 
 
 def custom_context(inputs: PlanInputs) -> bool:
     """True when the user set any exam-context field (otherwise the engine decides)."""
     return (inputs.exam_type is not None or tuple(inputs.modes) != ("b_mode",)
             or inputs.contrast_agent or inputs.febrile or inputs.pregnancy_possible
-            or inputs.expected_ti is not None or inputs.planned_minutes is not None)
+            or inputs.expected_ti is not None or inputs.planned_minutes is not None
+            or inputs.expected_mi is not None or inputs.lung_in_beam)
 
 
 def exam_context(inputs: PlanInputs, target) -> dict | None:
@@ -135,10 +148,10 @@ def exam_context(inputs: PlanInputs, target) -> dict | None:
     if not custom_context(inputs):
         return None
     fields = {"exam_type": inputs.exam_type, "expected_ti": inputs.expected_ti,
-              "planned_minutes": inputs.planned_minutes}
+              "planned_minutes": inputs.planned_minutes, "expected_mi": inputs.expected_mi}
     overrides = {name: value for name, value in fields.items() if value is not None}
-    overrides.update({name: True for name in ("contrast_agent", "febrile", "pregnancy_possible")
-                      if getattr(inputs, name)})
+    overrides.update({name: True for name in ("contrast_agent", "febrile", "pregnancy_possible",
+                                              "lung_in_beam") if getattr(inputs, name)})
     if tuple(inputs.modes) != ("b_mode",):
         overrides["modes"] = tuple(inputs.modes)
     return overrides
@@ -147,7 +160,7 @@ def exam_context(inputs: PlanInputs, target) -> dict | None:
 def to_request(inputs: PlanInputs):
     """Turn the inputs into a :class:`planner.engine.PlanRequest` (InputError if impossible).
 
-    Doppler planning is asked for when a Doppler mode is planned.
+    Doppler planning is asked for with ``doppler`` or when a Doppler mode is planned.
     """
     from planner.engine.request import PlanRequest
     from planner.library.targets import load_library
@@ -157,7 +170,9 @@ def to_request(inputs: PlanInputs):
         target.window(inputs.window_id)
     return PlanRequest(target_id=target.id, patient=_patient(inputs), window_id=inputs.window_id,
                        context_overrides=exam_context(inputs, target),
-                       doppler=any(m in DOPPLER_MODES for m in inputs.modes), draft=inputs.draft)
+                       probes_path=inputs.probes_path, local_policy_path=inputs.local_policy_path,
+                       doppler=inputs.doppler or any(m in DOPPLER_MODES for m in inputs.modes),
+                       draft=inputs.draft)
 
 
 def make_plan_for(inputs: PlanInputs):
@@ -241,11 +256,13 @@ def check_inputs(inputs: PlanInputs) -> dict[str, str]:
 
 
 # -- YAML -----------------------------------------------------------------------------------
-_PATIENT_KEYS = ("bmi", "height_cm", "weight_kg", "sex", "wall_mm", "depth_cm", "gestation_weeks",
-                 "conditions")
+_PATIENT_KEYS = ("bmi", "height_cm", "weight_kg", "sex", "wall_mm", "fat_mm", "depth_cm",
+                 "gestation_weeks", "conditions")
 _EXAM_KEYS = {"type": "exam_type", "modes": "modes", "contrast_agent": "contrast_agent",
               "febrile": "febrile", "pregnancy_possible": "pregnancy_possible",
-              "expected_ti": "expected_ti", "planned_minutes": "planned_minutes"}
+              "expected_ti": "expected_ti", "planned_minutes": "planned_minutes",
+              "expected_mi": "expected_mi", "lung_in_beam": "lung_in_beam", "doppler": "doppler",
+              "probes": "probes_path", "local_policy": "local_policy_path"}
 _SIGNOFF_KEYS = tuple(f.name for f in fields(SignOff))
 _TOP_KEYS = ("schema_version", "target", "window", "patient", "exam", "supervision")
 _FIELD_PATHS = {"target_id": ("target",), "window_id": ("window",),
@@ -381,7 +398,7 @@ def inputs_from_data(data: dict[str, Any], collector) -> PlanInputs | None:
     inputs = PlanInputs(
         target_id=target or "", window_id=r.text(data, "window", (), nullable=True),
         **{k: r.number(patient, k, ("patient",)) for k in
-           ("bmi", "height_cm", "weight_kg", "wall_mm", "depth_cm", "gestation_weeks")},
+           ("bmi", "height_cm", "weight_kg", "wall_mm", "fat_mm", "depth_cm", "gestation_weeks")},
         sex=r.text(patient, "sex", ("patient",), nullable=True),
         conditions=_conditions(r, patient.get("conditions")),
         exam_type=r.text(exam, "type", ("exam",), nullable=True), modes=tuple(modes),
@@ -390,6 +407,11 @@ def inputs_from_data(data: dict[str, Any], collector) -> PlanInputs | None:
         pregnancy_possible=r.flag(exam, "pregnancy_possible", ("exam",)),
         expected_ti=r.number(exam, "expected_ti", ("exam",)),
         planned_minutes=r.number(exam, "planned_minutes", ("exam",)),
+        expected_mi=r.number(exam, "expected_mi", ("exam",)),
+        lung_in_beam=r.flag(exam, "lung_in_beam", ("exam",)),
+        doppler=r.flag(exam, "doppler", ("exam",)),
+        probes_path=r.text(exam, "probes", ("exam",), nullable=True),
+        local_policy_path=r.text(exam, "local_policy", ("exam",), nullable=True),
         draft=r.flag(sup, "draft", ("supervision",)),
         signoff=SignOff(**{k: r.text(sup, k, ("supervision",), nullable=False)
                            for k in _SIGNOFF_KEYS}))
