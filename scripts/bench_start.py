@@ -18,6 +18,12 @@ Prints one JSON object (medians over alternating launches, milliseconds)::
   ``python -c "import numpy, yaml"`` (target: at most 1.8x), plus ``scanplan --version`` and
   ``python -c pass`` for scale.
 
+Every process runs with compiled bytecode allowed (``PYTHONDONTWRITEBYTECODE`` removed from
+its environment; the warm-up launches write the caches), as in an installed package: with
+that variable set, each start re-compiles every planner module (about 50 of them), which no
+installed user pays and which numpy, installed by pip with its bytecode, never pays either.
+``--as-is`` keeps the environment unchanged.
+
 ``--root DIR`` runs the planner found in ``DIR`` (with a launcher that bypasses the editable
 install) instead of the installed ``scanplan`` command, to compare two versions of the code
 with the same launcher. Usage: ``python scripts/bench_start.py [--repeats N] [--root DIR]``.
@@ -65,9 +71,13 @@ def scanplan_command(root: str | None) -> list[str]:
     return [str(script)] if script.exists() else [shutil.which("scanplan") or "scanplan"]
 
 
+ENV = {k: v for k, v in os.environ.items() if k != "PYTHONDONTWRITEBYTECODE"}
+"""The environment of every measured process (see the module docstring)."""
+
+
 def _tmux(*args: str) -> str:
     return subprocess.run(["tmux", "-L", SOCKET, *args], capture_output=True, text=True,
-                          check=False).stdout
+                          check=False, env=ENV).stdout
 
 
 def _terminal_launch(command: list[str], want_plan: bool, timeout_s: float = 30.0):
@@ -89,7 +99,7 @@ def _terminal_launch(command: list[str], want_plan: bool, timeout_s: float = 30.
                 plan = now
                 paint = now if paint is None else paint
                 break
-            time.sleep(0.003)
+            time.sleep(0.010)
     finally:
         _tmux("kill-window", "-t", "keep:run")
     if paint is None or (want_plan and plan is None):
@@ -127,7 +137,7 @@ def terminal(repeats: int, root: str | None) -> dict:
 
 def _wall_ms(command: list[str]) -> float:
     start = time.perf_counter()
-    subprocess.run(command, check=True, stdout=subprocess.DEVNULL)
+    subprocess.run(command, check=True, stdout=subprocess.DEVNULL, env=ENV)
     return (time.perf_counter() - start) * 1000.0
 
 
@@ -154,10 +164,16 @@ def main(argv: list[str] | None = None) -> int:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--repeats", type=int, default=9, help="launches of each (default 9)")
     parser.add_argument("--root", help="run the planner in this source folder")
+    parser.add_argument("--as-is", action="store_true",
+                        help="keep PYTHONDONTWRITEBYTECODE if it is set (no bytecode caches)")
     args = parser.parse_args(argv)
+    if args.as_is:
+        ENV.clear()
+        ENV.update(os.environ)
     if args.repeats < 1:
         parser.error("--repeats must be at least 1")
-    result = {"terminal": terminal(args.repeats, args.root), "cli": cli(args.repeats, args.root)}
+    result = {"terminal": terminal(args.repeats, args.root), "cli": cli(args.repeats, args.root),
+              "bytecode_caches": "PYTHONDONTWRITEBYTECODE" not in ENV}
     print(json.dumps(result, sort_keys=True))
     return 0
 

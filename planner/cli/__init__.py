@@ -17,14 +17,14 @@ plan engine. Subcommand modules import :mod:`planner.cli.common`, never this mod
 
 from __future__ import annotations
 
-import argparse
-import importlib
 import sys
 from collections.abc import Iterable, Sequence
+from typing import TYPE_CHECKING
 
-from planner import __version__
-from planner.cli.common import Parser, UsageError, os_error_message
 from planner.errors import DataError, ExitCode, PlannerError
+
+if TYPE_CHECKING:
+    import argparse
 
 __all__ = ["COMMANDS", "build_parser", "main", "run_ui"]
 
@@ -48,6 +48,10 @@ def build_parser(commands: Iterable[str] | None = None) -> argparse.ArgumentPars
         The subcommands to build in full (their modules are imported); the others are
         stand-ins that only carry their name and help. None builds every subcommand.
     """
+    import importlib
+
+    from planner import __version__
+    from planner.cli.common import Parser
     wanted = set(COMMANDS if commands is None else commands)
     parser = Parser(prog="scanplan", description="Ultrasound scan-planning assistant "
                     "(decision support; defers to local protocols and licensed practice).")
@@ -78,6 +82,8 @@ def main(argv: Sequence[str] | None = None) -> int:
     """Entry point of ``scanplan`` and ``python -m planner``; returns the exit code."""
     argv = list(sys.argv[1:] if argv is None else argv)
     try:
+        if not argv:        # the terminal UI: no parser, nothing more to import before it
+            return run_ui()
         command = _command(argv)
         if command is None:
             return run_ui()
@@ -85,9 +91,6 @@ def main(argv: Sequence[str] | None = None) -> int:
         if getattr(args, "func", None) is None:
             return run_ui(args)
         return int(args.func(args))
-    except UsageError as exc:
-        print(f"scanplan: error: {exc}", file=sys.stderr)
-        return ExitCode.USAGE
     except DataError as exc:
         for problem in exc.problems:
             print(problem, file=sys.stderr)
@@ -102,6 +105,7 @@ def main(argv: Sequence[str] | None = None) -> int:
     except BrokenPipeError:  # pragma: no cover - e.g. piped into head
         return ExitCode.OK
     except OSError as exc:   # a file the system refused, named in one line
+        from planner.cli.common import os_error_message
         where = exc.filename if exc.filename is not None else "a file"
         print(f"scanplan: error: {os_error_message(exc, where, 'use')}", file=sys.stderr)
         return ExitCode.USAGE

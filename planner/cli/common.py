@@ -19,8 +19,11 @@ from planner.numbers import NumberError, parse_number
 __all__ = ["Parser", "UsageError", "emit_json", "finite_float", "write_output"]
 
 
-class UsageError(Exception):
-    """Raised instead of argparse's exit, so that every usage error is one line."""
+class UsageError(InputError):
+    """Raised instead of argparse's exit, so that every usage error is one line (exit 2)."""
+
+    def __init__(self, message: str) -> None:
+        super().__init__(message, title="Invalid command line")
 
 
 class Parser(argparse.ArgumentParser):
