@@ -121,7 +121,8 @@ def test_python_dash_m_planner_works():
 def test_import_hygiene_no_textual():
     """`import planner` and every non-UI module load without Textual."""
     code = ("import sys, planner, planner.cli, planner.engine, planner.safety, planner.report, "
-            "planner.library.targets, planner.engine.sweep, planner.cli_calc, planner.cli_plan; "
+            "planner.library.targets, planner.engine.sweep, planner.cli.calc, planner.cli.plan, "
+            "planner.cli.protocol, planner.cli.targets, planner.cli.ui, planner.numbers; "
             "from planner.cli import build_parser; build_parser(); "
             "assert not any(m == 'textual' or m.startswith('textual.') for m in sys.modules), "
             "[m for m in sys.modules if m.startswith('textual')]")

@@ -77,7 +77,9 @@ junk_token = st.one_of(
     junk_text,
     st.sampled_from(["--", "-", "-x", "--nope", "--json", "--force", "-o", "nan", "inf",
                      "-1", "1e999", "0", "", " ", "--target=", "--bmi=30", "plan", "calc",
-                     "protocol", "check", "schema", "targets", "ui", "\x00", "é", "../x"]))
+                     "protocol", "check", "schema", "targets", "ui", "\x00", "é", "../x",
+                     "--target=--", "--window=--", "--exam=--", "--mode=--", "--output=--",
+                     "1_0", "٣٥", "-o", "x" * 300, "--save", "--from"]))
 
 
 def float_text() -> st.SearchStrategy[str]:
@@ -140,9 +142,10 @@ def value_strategy(action: argparse.Action, files: dict[str, list[str]]):
         plausible = layers_text()
     elif dest == "habitus":
         plausible = st.lists(st.sampled_from(HABITUS_CLASSES), min_size=1, max_size=3).map(",".join)
-    elif dest in ("probes", "local", "files", "protocol", "protocols", "file", "path", "input"):
+    elif dest in ("probes", "local", "files", "protocol", "protocols", "file", "path", "input",
+                  "from_file"):
         plausible = st.sampled_from(files["inputs"])
-    elif dest == "output":
+    elif dest in ("output", "save"):
         plausible = st.sampled_from(files["outputs"])
     else:
         plausible = junk_text
@@ -202,7 +205,7 @@ def files(tmp_path_factory) -> dict[str, list[str]]:
     out.mkdir()
     (out / "existing.txt").write_text("keep me\n", encoding="utf-8")
     outputs = [str(out / "plan.txt"), str(out / "existing.txt"), str(out / "no-folder" / "x.txt"),
-               str(out), "relative-output.txt"]
+               str(out), "relative-output.txt", str(out / ("n" * 300))]
     return {"root": [str(root)], "inputs": inputs, "outputs": outputs}
 
 

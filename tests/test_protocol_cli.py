@@ -10,7 +10,7 @@ from pathlib import Path
 import pytest
 
 from planner.errors import ExitCode, InputError
-from planner.protocol.cli import register
+from planner.cli.protocol import register
 from planner.protocol.jsonschema import protocol_json_schema
 
 ROOT = Path(__file__).parents[1]

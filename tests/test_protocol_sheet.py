@@ -324,7 +324,7 @@ def test_cli_formats_match_the_renderers_and_the_cli_loads_no_engine():
     import subprocess
     import sys
 
-    from planner.protocol.cli import SHEET_FORMATS
+    from planner.cli.protocol import SHEET_FORMATS
     from planner.protocol.sheet import FORMATS
     assert SHEET_FORMATS == FORMATS
     code = ("import sys, planner.cli as c; c.build_parser(); "

@@ -1,15 +1,19 @@
-"""``scanplan calc``: quick calculations for practitioners and scripts."""
+"""``scanplan calc``: quick calculations for practitioners and scripts.
+
+numpy and the physics load only when a calculation runs, not when the parser is built.
+"""
 
 from __future__ import annotations
 
+import argparse
 import math
 
-import numpy as np
-
-from planner.cli import emit_json, finite_float
+from planner.cli.common import emit_json, finite_float
 from planner.errors import InputError
-from planner.physics import attenuation, doppler, interfaces, sound_speed
-from planner.physics.tissues import get_tissue, load_tissues
+from planner.numbers import NumberError, parse_number
+
+__all__ = ["LIMITS", "doppler_result", "interface_result", "parse_layers", "path_result",
+           "register"]
 
 ANGLE_ERROR_DEG = 5.0
 """Angle uncertainty used for the velocity-error figures. [deg]"""
@@ -29,7 +33,8 @@ def _in_range(option: str, value: float | None) -> None:
         raise InputError(f"{option} must be between {low:g} and {high:g}, got {value:g}")
 
 
-def register(sub) -> None:
+def register(sub: argparse._SubParsersAction) -> None:
+    """Add ``calc interface``, ``calc path`` and ``calc doppler`` to ``sub``."""
     calc = sub.add_parser("calc", help="quick physics calculations")
     calc_sub = calc.add_subparsers(dest="calc_command", required=True)
 
@@ -62,6 +67,7 @@ def register(sub) -> None:
 
 
 def _tissue(name: str):
+    from planner.physics.tissues import get_tissue
     try:
         return get_tissue(name)
     except ValueError as exc:
@@ -81,6 +87,7 @@ def _nullable(x) -> float | None:
 
 def interface_result(z1, z2, c1, c2, angle_deg) -> dict:
     """The quick interface calculation as a JSON-ready dict."""
+    from planner.physics import interfaces
     if c1 is None or c2 is None:
         r = float(interfaces.intensity_reflection_normal(z1, z2)) if angle_deg == 0 else None
         if r is None:
@@ -136,9 +143,10 @@ def parse_layers(text: str) -> list[tuple[str, float]]:
             raise InputError(f"layer {item.strip()!r} must be TISSUE:CM, e.g. fat:3")
         _tissue(name)
         try:
-            value = float(thick)
-        except ValueError:
-            raise InputError(f"layer {item.strip()!r}: thickness must be a number of cm") from None
+            value = parse_number(thick)
+        except NumberError as exc:
+            raise InputError(f"layer {item.strip()!r}: thickness must be a number of cm "
+                             f"({exc.message})") from None
         low, high = LIMITS["thickness"]
         if not math.isfinite(value) or not low <= value <= high:
             raise InputError(f"layer {item.strip()!r} in --layers: thickness must be between "
@@ -149,6 +157,10 @@ def parse_layers(text: str) -> list[tuple[str, float]]:
 
 def path_result(layers: list[tuple[str, float]], frequency_mhz: float) -> dict:
     """The quick path calculation as a JSON-ready dict."""
+    import numpy as np
+
+    from planner.physics import attenuation, sound_speed
+    from planner.physics.tissues import get_tissue
     _in_range("--frequency-mhz", frequency_mhz)
     tissues = [get_tissue(name) for name, _ in layers]
     d = np.array([t for _, t in layers])
@@ -190,6 +202,7 @@ def run_path(args) -> int:
 def doppler_result(depth_cm: float, frequency_mhz: float, angle_deg: float,
                    velocity_cm_s: float | None) -> dict:
     """The quick Doppler calculation as a JSON-ready dict."""
+    from planner.physics import doppler
     _in_range("--depth-cm", depth_cm)
     _in_range("--frequency-mhz", frequency_mhz)
     _in_range("--velocity-cm-s", velocity_cm_s)

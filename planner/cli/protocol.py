@@ -1,4 +1,4 @@
-"""Command-line subcommands for protocols: ``protocol check``, ``schema`` and ``sheet``.
+"""``scanplan protocol``: department protocols: ``protocol check``, ``schema`` and ``sheet``.
 
 ``scanplan protocol check FILE...`` prints every problem of every file on stdout,
 one per line (``file:line:col: key.path: message``), then one summary line; it
@@ -11,7 +11,8 @@ protocol format to stdout or, atomically, to ``OUT``.
 ``scanplan protocol sheet FILE [--habitus CLASSES] [--probes FILE] [--local FILE]
 [--format md|html|json] [-o OUT] [--force]`` writes the protocol sheet (every view for
 every WHO habitus class, scan time against the TI limits, safety, the statement); see
-:mod:`planner.protocol.sheet`. An unknown habitus class is a usage error (exit 2); an
+:mod:`planner.protocol.sheet`. The protocol schema, loader and sheet load only when their
+command runs. An unknown habitus class is a usage error (exit 2); an
 invalid or missing protocol, inventory or policy file exits 1 listing every problem.
 """
 
@@ -23,12 +24,10 @@ import sys
 from typing import TextIO
 
 from planner.body.habitus import BMI_CLASSES
+from planner.cli.common import write_output
 from planner.errors import ExitCode
-from planner.protocol.jsonschema import protocol_json_schema
-from planner.protocol.loader import check_files
-from planner.yamlio import atomic_write_text
 
-__all__ = ["register", "run_check", "run_schema", "run_sheet"]
+__all__ = ["SHEET_FORMATS", "register", "run_check", "run_schema", "run_sheet"]
 
 SHEET_FORMATS: tuple[str, ...] = ("md", "html", "json")
 """Formats of ``protocol sheet`` (the same as :data:`planner.protocol.sheet.FORMATS`)."""
@@ -90,6 +89,8 @@ def register(subparsers: argparse._SubParsersAction) -> argparse._SubParsersActi
 
 def run_check(args: argparse.Namespace, out: TextIO | None = None) -> int:
     """Run ``protocol check``; return the exit code."""
+    from planner.protocol.loader import check_files
+
     out = out if out is not None else sys.stdout
     results = check_files(list(args.files))
     invalid = {path: problems for path, problems in results.items() if problems}
@@ -112,9 +113,11 @@ def run_check(args: argparse.Namespace, out: TextIO | None = None) -> int:
 
 def run_schema(args: argparse.Namespace, out: TextIO | None = None) -> int:
     """Run ``protocol schema``; return the exit code (``InputError`` if OUT exists)."""
+    from planner.protocol.jsonschema import protocol_json_schema
+
     text = json.dumps(protocol_json_schema(), indent=2) + "\n"
     if getattr(args, "output", None):
-        atomic_write_text(args.output, text, overwrite=bool(getattr(args, "force", False)))
+        write_output(args.output, text, force=bool(getattr(args, "force", False)))
     else:
         (out if out is not None else sys.stdout).write(text)
     return int(ExitCode.OK)
@@ -133,7 +136,7 @@ def run_sheet(args: argparse.Namespace, out: TextIO | None = None) -> int:
                             local_path=getattr(args, "local", None))
     text = render_sheet(sheet, getattr(args, "format", None) or "md")
     if getattr(args, "output", None):
-        atomic_write_text(args.output, text, overwrite=bool(getattr(args, "force", False)))
+        write_output(args.output, text, force=bool(getattr(args, "force", False)))
     else:
         (out if out is not None else sys.stdout).write(text)
     return int(ExitCode.OK)
