@@ -12,6 +12,7 @@ import numpy as np
 
 from planner.body.stack import LayerStack
 from planner.library.probes import Probe, ProbeInventory
+from planner.library.targets import Target, Window
 from planner.physics import attenuation, beam, sound_speed
 from planner.physics.constants import (HARMONIC_CONVERSION_LOSS_DB, SIGNAL_BUDGET_DIFFUSE_DB,
                                        SPECULAR_ALLOWANCE_DB)
@@ -45,7 +46,7 @@ class ProbeOption:
 class WindowAssessment:
     """Everything the rules need about one window."""
 
-    window: object
+    window: Window
     stack: LayerStack
     budget_db: float
     interface_loss_db: float

@@ -89,7 +89,8 @@ class TimeTable:
         """
         best: float | None = None
         for row in self.rows:
-            if row.kind == "unlimited" or (row.kind == "limited" and row.max_minutes >= minutes):
+            if row.kind == "unlimited" or (row.kind == "limited" and row.max_minutes is not None
+                                          and row.max_minutes >= minutes):
                 best = row.ti_up_to if row.ti_up_to is not None else math.inf
             else:
                 break

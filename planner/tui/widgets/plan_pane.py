@@ -7,6 +7,7 @@ from textual.containers import Vertical
 from textual.markup import escape
 from textual.widgets import Static, TabbedContent, TabPane
 
+from planner.engine.model import Plan
 from planner.tui.widgets.doppler_view import DopplerView
 from planner.tui.widgets.findings_view import FindingList
 from planner.tui.widgets.profile_plot import DepthProfile
@@ -23,7 +24,7 @@ class PlanPane(Vertical):
 
     def __init__(self) -> None:
         super().__init__(id="plan-pane")
-        self.plan: dict | None = None
+        self.plan: Plan | None = None
         self._stale: set[str] = set()
         self._status = ""
 
@@ -42,7 +43,7 @@ class PlanPane(Vertical):
             with TabPane(VIEWS["doppler"], id="doppler"):
                 yield DopplerView(id="doppler-view")
 
-    def show_plan(self, plan: dict) -> None:
+    def show_plan(self, plan: Plan) -> None:
         """Show a freshly computed plan: now in the visible view, the others when shown."""
         self.plan = plan
         self._stale = set(VIEWS)
@@ -58,7 +59,7 @@ class PlanPane(Vertical):
         if view == "plan":
             self.query_one(PlanSummary).show_plan(plan)
         elif view == "findings":
-            self.query_one("#findings-list", FindingList).set_findings(plan.get("findings") or [])
+            self.query_one("#findings-list", FindingList).set_findings(plan.findings)
         elif view == "safety":
             self.query_one(SafetyView).show_plan(plan)
         elif view == "depth":
