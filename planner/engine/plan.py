@@ -136,8 +136,9 @@ def make_plan(request: PlanRequest) -> Plan:
     band, band_findings = decisions.band_decision(ctx)
     harmonic, harmonic_findings = decisions.harmonic_decision(ctx)
     tilt, tilt_findings = decisions.tilt_decision(ctx)
-    ctx = replace(ctx, decisions=Decisions(band, tuple(band_findings), harmonic,
-                                           tuple(harmonic_findings), tilt, tuple(tilt_findings)))
+    ctx = RuleContext(patient, target, ctx.assessments, chosen, inventory,
+                      Decisions(band, tuple(band_findings), harmonic, tuple(harmonic_findings),
+                                tilt, tuple(tilt_findings)))
     findings = ENGINE_RULES.run(ctx)
     doppler = None
     if request.doppler:

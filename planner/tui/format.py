@@ -6,12 +6,14 @@ Severity is always written as a word, so it reads the same without colour (NO_CO
 
 from __future__ import annotations
 
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 from textual.markup import escape
 
-from planner.engine.model import HarmonicDecision, Plan
 from planner.findings import Finding
+
+if TYPE_CHECKING:  # the engine loads after the first paint
+    from planner.engine.model import HarmonicDecision, Plan
 
 SEVERITY_STYLE: dict[str, str] = {
     "warning": "bold $error",

@@ -3,15 +3,18 @@
 from __future__ import annotations
 
 from collections.abc import Sequence
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 from textual.app import ComposeResult
 from textual.containers import VerticalScroll
 from textual.markup import escape
 from textual.widgets import Static
 
-from planner.engine.doppler_model import DopplerPlan, NyquistCell, SourcedValue, Threshold, VesselSummary
-from planner.engine.model import Plan
+if TYPE_CHECKING:  # the engine loads after the first paint
+    from planner.engine.doppler_model import (DopplerPlan, NyquistCell, SourcedValue, Threshold,
+                                              VesselSummary)
+    from planner.engine.model import Plan
+
 
 NO_DOPPLER = ("No Doppler section. Tick a Doppler mode (colour, power or pulsed) under "
               "Exam → Modes; vessel targets then get the Nyquist limit at their depth, the "

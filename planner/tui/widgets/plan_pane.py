@@ -2,17 +2,21 @@
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
 from textual.app import ComposeResult
 from textual.containers import Vertical
 from textual.markup import escape
 from textual.widgets import Static, TabbedContent, TabPane
 
-from planner.engine.model import Plan
 from planner.tui.widgets.doppler_view import DopplerView
 from planner.tui.widgets.findings_view import FindingList
 from planner.tui.widgets.profile_plot import DepthProfile
 from planner.tui.widgets.safety_view import SafetyView
 from planner.tui.widgets.summary_view import PlanSummary
+
+if TYPE_CHECKING:  # the engine loads after the first paint
+    from planner.engine.model import Plan
 
 VIEWS: dict[str, str] = {"plan": "Plan", "findings": "Findings", "safety": "Safety",
                          "depth": "Depth", "doppler": "Doppler"}

@@ -13,11 +13,10 @@ from textual.containers import Vertical
 from textual.markup import escape
 from textual.widgets import Static
 
-from planner.engine.model import Plan
-
 if TYPE_CHECKING:
     from textual_plotext import PlotextPlot
 
+    from planner.engine.model import Plan
     from planner.report.profile import LossProfile
 
 MARKERS: tuple[str, ...] = ("braille", "•", "x")

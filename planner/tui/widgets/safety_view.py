@@ -2,13 +2,17 @@
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
 from textual.app import ComposeResult
 from textual.containers import Vertical
 from textual.markup import escape
 from textual.widgets import Static
 
-from planner.engine.model import Plan
 from planner.tui.widgets.findings_view import FindingList
+
+if TYPE_CHECKING:  # the engine loads after the first paint
+    from planner.engine.model import Plan
 
 DEFERS = ("Decision support only: this plan defers to local protocols, licensed practice and "
           "the TI and MI the scanner displays.")

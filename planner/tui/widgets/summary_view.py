@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
 from textual.app import ComposeResult
 from textual.containers import Horizontal, Vertical, VerticalScroll
 from textual.content import Content
@@ -9,8 +11,10 @@ from textual.coordinate import Coordinate
 from textual.markup import escape
 from textual.widgets import DataTable, Label, Static
 
-from planner.engine.model import Plan
 from planner.tui.format import summary_rows
+
+if TYPE_CHECKING:  # the engine loads after the first paint
+    from planner.engine.model import Plan
 
 SUMMARY_LABELS: tuple[str, ...] = ("Target", "Patient", "Band", "Probe", "Harmonic", "Window",
                                    "Position", "Depth", "Tilt", "Watch")
