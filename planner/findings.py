@@ -10,7 +10,8 @@ for the explanation view and for student drafts.
 from __future__ import annotations
 
 from dataclasses import dataclass, field
-from typing import Any
+from collections.abc import Callable, Sequence
+from typing import Any, Generic, TypeVar
 
 SEVERITIES: tuple[str, ...] = ("info", "advice", "caution", "warning")
 """Severity levels, mildest first.
@@ -48,3 +49,63 @@ class Finding:
 def severity_rank(severity: str) -> int:
     """Return the position of ``severity`` in :data:`SEVERITIES` (0 = mildest)."""
     return SEVERITIES.index(severity)
+
+
+C = TypeVar("C")
+
+
+def always(ctx: object) -> bool:
+    """Scope of a rule that applies to every context."""
+    return True
+
+
+@dataclass(frozen=True, slots=True)
+class Rule(Generic[C]):
+    """One registered rule: ``run(ctx) -> findings`` when ``applies(ctx)``.
+
+    ``id`` is stable and unique (``area.name``); ``area`` groups rules (habitus, band,
+    harmonic, tilt, artefact, shadow, window, condition, plan, doppler, safety); ``scope`` says
+    in words what the rule applies to and ``applies`` decides it for a context.
+    """
+
+    id: str
+    area: str
+    scope: str
+    run: Callable[[C], Sequence[Finding]]
+    applies: Callable[[C], bool] = always
+
+
+class RuleRegistry(Generic[C]):
+    """An ordered set of rules sharing one context type; :meth:`run` returns their findings."""
+
+    def __init__(self, name: str) -> None:
+        self.name = name
+        self._rules: list[Rule[C]] = []
+
+    def register(self, rule_id: str, area: str, scope: str,
+                 applies: Callable[[C], bool] = always
+                 ) -> Callable[[Callable[[C], Sequence[Finding]]], Callable[[C], Sequence[Finding]]]:
+        """Decorator: register a rule function under ``rule_id`` (registration order is run order)."""
+        def add(fn: Callable[[C], Sequence[Finding]]) -> Callable[[C], Sequence[Finding]]:
+            self.add(Rule(rule_id, area, scope, fn, applies))
+            return fn
+        return add
+
+    def add(self, rule: Rule[C]) -> None:
+        """Append ``rule``; its id must be new."""
+        if any(r.id == rule.id for r in self._rules):
+            raise ValueError(f"rule id {rule.id!r} is already registered in {self.name}")
+        self._rules.append(rule)
+
+    @property
+    def rules(self) -> tuple[Rule[C], ...]:
+        """The registered rules in run order."""
+        return tuple(self._rules)
+
+    def run(self, ctx: C) -> list[Finding]:
+        """Findings of every rule that applies to ``ctx``, in registration order."""
+        out: list[Finding] = []
+        for rule in self._rules:
+            if rule.applies is always or rule.applies(ctx):
+                out.extend(rule.run(ctx))
+        return out

@@ -9,6 +9,7 @@ import pytest
 from hypothesis import given, settings, strategies as st
 
 from planner.body.patient import Patient
+from planner.engine.serialize import to_json_data
 from planner.engine.doppler_plan import (DOPPLER_PLAN_MODES, Vessel, _parse_vessel,
                                          doppler_frequencies_mhz, load_vessels, plan_doppler)
 from planner.engine.plan import assess_windows, rank_assessments
@@ -55,7 +56,7 @@ def real_plan(tid, bmi):
 
 
 def nyquist_cell(plan, f, a):
-    return next(r["v_max_cm_s"] for r in plan["nyquist"] if r["frequency_mhz"] == f and r["angle_deg"] == a)
+    return next(r.v_max_cm_s for r in plan.nyquist if r.frequency_mhz == f and r.angle_deg == a)
 
 
 # --- formulas against worked examples (derived; inputs stated) -----------------------------
@@ -64,7 +65,7 @@ def test_prf_and_nyquist_table_NyquistTeaching():
     """d = 10 cm: PRF_max = c/(2d) = 7700 Hz; v_max(0 deg) = c^2/(8 d f0): 2 MHz -> 148 cm/s,
     1 MHz -> 296 cm/s; at 60 deg twice as much (1/cos 60) (derived worked values)."""
     plan, _ = plan_doppler(target("renal-artery"), fake_window(10.0), INV.get("curved-1-6"), INV)
-    assert plan["prf_max_hz"] == pytest.approx(7700, abs=1)
+    assert plan.prf_max_hz == pytest.approx(7700, abs=1)
     assert nyquist_cell(plan, 2.0, 0.0) == pytest.approx(148.0, abs=1.0)
     assert nyquist_cell(plan, 1.0, 0.0) == pytest.approx(296.0, abs=1.0)
     assert nyquist_cell(plan, 2.0, 60.0) == pytest.approx(2 * 148.2, abs=1.0)
@@ -73,16 +74,16 @@ def test_prf_and_nyquist_table_NyquistTeaching():
 def test_velocity_error_at_60_deg_derived():
     """cos(60 +/- 5)/cos 60 - 1 = -15.5 / +14.7 % (derived worked value)."""
     plan, _ = plan_doppler(target("renal-artery"), fake_window(10.0), INV.get("curved-1-6"), INV)
-    assert plan["recommended"]["angle_deg"] == 60.0
-    assert plan["velocity_error_percent"] == {"plus_5_deg": -15.5, "minus_5_deg": 14.7}
+    assert plan.recommended.angle_deg == 60.0
+    assert (plan.velocity_error_percent.plus_5_deg, plan.velocity_error_percent.minus_5_deg) == (-15.5, 14.7)
 
 
 def test_zero_angle_policy_SMFM2015FetalAnemia():
     """Fetal MCA is read at 0 deg (SMFM 2015): a 5 deg error then costs only cos 5 - 1 = -0.4 %."""
     plan, _ = plan_doppler(target("fetal-mca"), fake_window(9.0, wall="pregnancy_lower"),
                            INV.get("curved-1-6"), INV)
-    assert plan["recommended"]["angle_deg"] == 0.0
-    assert plan["velocity_error_percent"]["plus_5_deg"] == pytest.approx(-0.4, abs=0.05)
+    assert plan.recommended.angle_deg == 0.0
+    assert plan.velocity_error_percent.plus_5_deg == pytest.approx(-0.4, abs=0.05)
 
 
 def test_doppler_frequencies_lower_half_of_band():
@@ -201,55 +202,55 @@ def test_deep_renal_artery_aliases_and_remedies_are_recomputed():
     aliases. Every remedy that claims to remove it is re-run here with the physics functions."""
     plan, findings = plan_doppler(target("renal-artery"), fake_window(15.0, alpha=0.55),
                                   INV.get("curved-1-6"), INV)
-    rec = plan["recommended"]
-    assert (rec["frequency_mhz"], rec["angle_deg"]) == (2.0, 60.0)
-    assert rec["v_max_cm_s"] == pytest.approx(C ** 2 / (8 * 0.15 * 2e6 * 0.5) * 100, abs=0.1)
-    assert plan["aliasing_expected"] and plan["margin"]["design_velocity_cm_s"] == 350
-    assert [c["aliases"] for c in plan["checks"]] == [False, True, True]   # 180 ok; 200, 350 alias
+    rec = plan.recommended
+    assert (rec.frequency_mhz, rec.angle_deg) == (2.0, 60.0)
+    assert rec.v_max_cm_s == pytest.approx(C ** 2 / (8 * 0.15 * 2e6 * 0.5) * 100, abs=0.1)
+    assert plan.aliasing_expected and plan.margin.design_velocity_cm_s == 350
+    assert [c.aliases for c in plan.checks] == [False, True, True]   # 180 ok; 200, 350 alias
     alias = next(f for f in findings if f.code == "doppler.aliasing")
     assert alias.severity == "caution" and "350" in alias.message and "198" in alias.message
-    by_action = {r["action"]: r for r in plan["remedies"]}
+    by_action = {r.action: r for r in plan.remedies}
     low = by_action["lower_frequency"]
-    assert low["changes"]["frequency_mhz"] == [2.0, 1.0]     # 1.5 MHz gives only 264 cm/s
+    assert low.changes["frequency_mhz"] == (2.0, 1.0)     # 1.5 MHz gives only 264 cm/s
     assert doppler.max_velocity_at_depth_cm_s(15.0, 1.0, 60.0) >= 350 > \
         doppler.max_velocity_at_depth_cm_s(15.0, 1.5, 60.0)
-    assert by_action["baseline_shift"]["v_max_cm_s"] == pytest.approx(2 * rec["v_max_cm_s"], abs=0.2)
+    assert by_action["baseline_shift"].v_max_cm_s == pytest.approx(2 * rec.v_max_cm_s, abs=0.2)
     hprf = by_action["high_prf"]
-    k = hprf["changes"]["prf_hz"][1] / hprf["changes"]["prf_hz"][0]
+    k = hprf.changes["prf_hz"][1] / hprf.changes["prf_hz"][0]
     assert doppler.nyquist_velocity_cm_s(k * doppler.prf_max_hz(15.0), 2.0, 60.0) >= 350
-    assert hprf["extra_gates_cm"] == [7.5]
-    new_depth = by_action["shallower_window"]["changes"]["depth_cm"][1]
+    assert hprf.extra_gates_cm == (7.5,)
+    new_depth = by_action["shallower_window"].changes["depth_cm"][1]
     assert doppler.max_velocity_at_depth_cm_s(new_depth, 2.0, 60.0) >= 350
-    assert by_action["continuous_wave"]["changes"]["probe"] == "phased-1-5"
-    for r in plan["remedies"]:
-        assert r["removes_aliasing"] == (r["v_max_cm_s"] is None or r["v_max_cm_s"] >= 350)
+    assert by_action["continuous_wave"].changes["probe"] == "phased-1-5"
+    for r in plan.remedies:
+        assert r.removes_aliasing == (r.v_max_cm_s is None or r.v_max_cm_s >= 350)
 
 
 def test_bmi45_renal_plan_names_aliasing_and_a_remedy_that_removes_it():
     """BMI 45 through the real target library and wall model: the aliasing finding states its
     numbers and the first effective remedy, re-applied here, keeps 350 cm/s below the limit."""
     plan, findings = real_plan("renal-artery", 45)
-    assert plan["aliasing_expected"]
-    rec, depth = plan["recommended"], plan["depth_cm"]
-    assert rec["v_max_cm_s"] == pytest.approx(
-        doppler.max_velocity_at_depth_cm_s(depth, rec["frequency_mhz"], rec["angle_deg"]), abs=0.1)
+    assert plan.aliasing_expected
+    rec, depth = plan.recommended, plan.depth_cm
+    assert rec.v_max_cm_s == pytest.approx(
+        doppler.max_velocity_at_depth_cm_s(depth, rec.frequency_mhz, rec.angle_deg), abs=0.1)
     alias = next(f for f in findings if f.code == "doppler.aliasing")
-    assert f"{rec['v_max_cm_s']:.0f} cm/s" in alias.message and "350" in alias.message
-    fix = next(r for r in plan["remedies"] if r["removes_aliasing"])
-    assert fix["action"] == "lower_frequency" and fix["text"] in alias.message
-    f_new = fix["changes"]["frequency_mhz"][1]
-    assert doppler.max_velocity_at_depth_cm_s(depth, f_new, rec["angle_deg"]) >= 350
+    assert f"{rec.v_max_cm_s:.0f} cm/s" in alias.message and "350" in alias.message
+    fix = next(r for r in plan.remedies if r.removes_aliasing)
+    assert fix.action == "lower_frequency" and fix.text in alias.message
+    f_new = fix.changes["frequency_mhz"][1]
+    assert doppler.max_velocity_at_depth_cm_s(depth, f_new, rec.angle_deg) >= 350
 
 
 def test_shallower_alternative_window_is_recomputed_at_its_depth():
     deep = fake_window(15.0, alpha=0.55)
     shallow = fake_window(8.0, alpha=0.55, wall="posterior_flank", wid="flank-coronal", name="flank")
     plan, _ = plan_doppler(target("renal-artery"), deep, INV.get("curved-1-6"), INV, alternatives=[shallow])
-    remedy = next(r for r in plan["remedies"] if r["action"] == "shallower_window")
-    assert remedy["changes"]["window"] == "flank-coronal"
-    a = remedy["changes"]["angle_deg"][1]
+    remedy = next(r for r in plan.remedies if r.action == "shallower_window")
+    assert remedy.changes["window"] == "flank-coronal"
+    a = remedy.changes["angle_deg"][1]
     assert a == 20.0          # the flank view runs along the artery (vessels.yaml)
-    assert remedy["v_max_cm_s"] == pytest.approx(doppler.max_velocity_at_depth_cm_s(8.0, 2.0, a), abs=0.1)
+    assert remedy.v_max_cm_s == pytest.approx(doppler.max_velocity_at_depth_cm_s(8.0, 2.0, a), abs=0.1)
 
 
 def test_carotid_angle_steer_and_heel_toe():
@@ -257,38 +258,38 @@ def test_carotid_angle_steer_and_heel_toe():
     to reach 60 deg; a curved array stops at 70 deg and the plan cautions."""
     plan, findings = plan_doppler(target("carotid-bifurcation", ("linear",)),
                                   fake_window(3.0, wall="neck_lateral"), INV.get("linear-4-12"), INV)
-    rec = plan["recommended"]
-    assert (rec["angle_deg"], rec["steer_deg"], rec["heel_toe_deg"]) == (60.0, 20.0, 10.0)
-    assert "steer" in rec["how"] and "heel-toe" in rec["how"]
+    rec = plan.recommended
+    assert (rec.angle_deg, rec.steer_deg, rec.heel_toe_deg) == (60.0, 20.0, 10.0)
+    assert "steer" in rec.how and "heel-toe" in rec.how
     assert not [f for f in findings if f.code == "doppler.angle"]
     plan, findings = plan_doppler(target("carotid-bifurcation"), fake_window(3.0, wall="neck_lateral"),
                                   INV.get("curved-1-6"), INV)
-    assert plan["recommended"]["angle_deg"] == 70.0
+    assert plan.recommended.angle_deg == 70.0
     assert any(f.code == "doppler.angle" and f.severity == "caution" for f in findings)
 
 
 def test_weak_signal_when_no_frequency_fits_the_budget():
     plan, findings = plan_doppler(target("aorta"), fake_window(20.0, alpha=1.2), INV.get("curved-1-6"), INV)
-    assert not any(row["within_budget"] for row in plan["frequencies"])
-    assert plan["recommended"]["frequency_mhz"] == 1.0
+    assert not any(row.within_budget for row in plan.frequencies)
+    assert plan.recommended.frequency_mhz == 1.0
     assert any(f.code == "doppler.signal" and f.severity == "warning" for f in findings)
 
 
 def test_missing_probe_falls_back_to_inventory_probe():
     plan, _ = plan_doppler(target("aorta"), fake_window(8.0), None, INV)
-    assert plan["probe"] == "curved-1-6"
+    assert plan.probe == "curved-1-6"
 
 
 @pytest.mark.parametrize("tid", sorted(REQUIRED))
 @pytest.mark.parametrize("bmi", [22, 45])
 def test_every_vessel_plan_is_json_ready(tid, bmi):
     plan, findings = real_plan(tid, bmi)
-    text = json.dumps(plan, allow_nan=False)
-    assert plan["vessel"]["id"] == tid and "NaN" not in text
+    text = json.dumps(to_json_data(plan), allow_nan=False)
+    assert plan.vessel.id == tid and "NaN" not in text
     assert findings[0].code == "doppler.settings"
-    assert all(s in REFERENCES for s in plan["sources"])
-    assert plan["aliasing_expected"] == any(c["aliases"] for c in plan["checks"])
-    assert bool(plan["remedies"]) == plan["aliasing_expected"]
+    assert all(s in REFERENCES for s in plan.sources)
+    assert plan.aliasing_expected == any(c.aliases for c in plan.checks)
+    assert bool(plan.remedies) == plan.aliasing_expected
 
 
 def test_early_pregnancy_doppler_comes_from_the_safety_rules_WFUMBISUOG2011():
@@ -303,7 +304,7 @@ def test_text_section_shows_numbers_and_remedies():
     plan, _ = plan_doppler(target("renal-artery"), fake_window(15.0, alpha=0.55), INV.get("curved-1-6"), INV)
     text = "\n".join(doppler_text(plan))
     assert "ALIASING expected: 350 cm/s" in text and "198 cm/s" in text
-    assert text.count("removes aliasing") == sum(r["removes_aliasing"] for r in plan["remedies"])
+    assert text.count("removes aliasing") == sum(r.removes_aliasing for r in plan.remedies)
     plan, _ = plan_doppler(target("portal-vein"), fake_window(9.0, wall="ruq_intercostal"),
                            INV.get("curved-1-6"), INV)
     assert "No aliasing expected" in "\n".join(doppler_text(plan))
@@ -318,11 +319,11 @@ def test_invariants_over_depths_and_probes(tid, depth, alpha, probe_id):
     when the design velocity exceeds it; a remedy removes aliasing exactly when its recomputed
     limit reaches the design velocity; the plan is JSON without NaN or infinity."""
     plan, _ = plan_doppler(target(tid), fake_window(depth, alpha), INV.get(probe_id), INV)
-    rec, vd = plan["recommended"], plan["margin"]["design_velocity_cm_s"]
-    cos_t = math.cos(math.radians(rec["angle_deg"]))
-    expected = C ** 2 / (8 * depth / 100 * rec["frequency_mhz"] * 1e6 * cos_t) * 100
-    assert rec["v_max_cm_s"] == pytest.approx(expected, abs=0.06)
-    assert plan["aliasing_expected"] == (vd > expected)
-    for r in plan["remedies"]:
-        assert r["removes_aliasing"] == (r["v_max_cm_s"] is None or r["v_max_cm_s"] >= vd)
-    json.dumps(plan, allow_nan=False)
+    rec, vd = plan.recommended, plan.margin.design_velocity_cm_s
+    cos_t = math.cos(math.radians(rec.angle_deg))
+    expected = C ** 2 / (8 * depth / 100 * rec.frequency_mhz * 1e6 * cos_t) * 100
+    assert rec.v_max_cm_s == pytest.approx(expected, abs=0.06)
+    assert plan.aliasing_expected == (vd > expected)
+    for r in plan.remedies:
+        assert r.removes_aliasing == (r.v_max_cm_s is None or r.v_max_cm_s >= vd)
+    json.dumps(to_json_data(plan), allow_nan=False)

@@ -18,27 +18,27 @@ def plan(target, window=None, **patient):
 def test_thyroid_slim_neck_linear_10_mhz_or_more():
     """Thyroid in a slim neck: linear array, 10 MHz or more (linear 7-15 MHz, common practice)."""
     p = plan("thyroid", bmi=21)
-    assert p.probe["type"] in ("linear", "linear_hf")
-    assert p.frequency_mhz["high"] >= 10.0
-    assert p.frequency_mhz["feasible"]
+    assert p.probe.type in ("linear", "linear_hf")
+    assert p.frequency_mhz.high >= 10.0
+    assert p.frequency_mhz.feasible
 
 
 def test_liver_upper_frequency_falls_with_bmi():
     """Liver: the highest usable frequency falls as BMI rises (attenuation through fat)."""
-    highs = [plan("liver", bmi=b).frequency_mhz["high"] for b in (20, 25, 30, 35, 45, 55)]
+    highs = [plan("liver", bmi=b).frequency_mhz.high for b in (20, 25, 30, 35, 45, 55)]
     assert all(a > b for a, b in zip(highs, highs[1:])), highs
 
 
 def test_liver_upper_frequency_falls_with_depth():
-    highs = [plan("liver", bmi=25, depth_cm=d).frequency_mhz["high"] for d in (10, 14, 18, 22)]
+    highs = [plan("liver", bmi=25, depth_cm=d).frequency_mhz.high for d in (10, 14, 18, 22)]
     assert all(a > b for a, b in zip(highs, highs[1:])), highs
 
 
 def test_steatosis_lowers_the_band_further():
     """Steatosis raises liver attenuation (AttenuationSteatosisReview2022), so reach falls."""
-    normal = plan("liver", bmi=35).frequency_mhz["high"]
-    fatty = plan("liver", bmi=35, conditions={"steatosis": 2}).frequency_mhz["high"]
-    severe = plan("liver", bmi=35, conditions={"steatosis": 3}).frequency_mhz["high"]
+    normal = plan("liver", bmi=35).frequency_mhz.high
+    fatty = plan("liver", bmi=35, conditions={"steatosis": 2}).frequency_mhz.high
+    severe = plan("liver", bmi=35, conditions={"steatosis": 3}).frequency_mhz.high
     assert normal > fatty > severe
 
 
@@ -47,8 +47,8 @@ def test_measured_thin_wall_overrides_high_bmi():
     estimated = plan("liver", bmi=45)
     measured = plan("liver", bmi=45, wall_mm=15)
     slim = plan("liver", bmi=22)
-    assert measured.frequency_mhz["high"] > estimated.frequency_mhz["high"]
-    assert measured.frequency_mhz["high"] == pytest.approx(slim.frequency_mhz["high"], abs=0.4)
+    assert measured.frequency_mhz.high > estimated.frequency_mhz.high
+    assert measured.frequency_mhz.high == pytest.approx(slim.frequency_mhz.high, abs=0.4)
     assert any("Measured wall" in a for a in measured.assumptions)
 
 
@@ -60,35 +60,35 @@ def test_measured_depth_is_honoured():
 def test_tendon_specular_tilt_inside_published_anisotropy_range_Crass1988():
     """Tendon: specular; tilt tolerance inside the published 2-7 deg anisotropy range (Crass 1988)."""
     p = plan("achilles-tendon", bmi=24)
-    assert p.target["reflector"] == "specular"
-    assert 2.0 <= p.tilt["max_deviation_deg"] <= 7.0
-    codes = [f["code"] for f in p.findings]
+    assert p.target.reflector == "specular"
+    assert 2.0 <= p.tilt.max_deviation_deg <= 7.0
+    codes = [f.code for f in p.findings]
     assert "tilt.anisotropy" in codes and "tilt.specular" in codes
 
 
 def test_liver_parenchyma_tilt_free():
     """Diffuse parenchyma: echo strength is angle independent (RCEMSpecular), so tilt is free."""
     p = plan("liver", bmi=24)
-    assert p.tilt["max_deviation_deg"] is None
-    assert "window" in p.tilt["advice"]
+    assert p.tilt.max_deviation_deg is None
+    assert "window" in p.tilt.advice
 
 
 def test_thick_walled_liver_bmi35_harmonic_advised():
     """BMI 35 liver: harmonic imaging advised while its budget still reaches (THIRadioGraphics)."""
     p = plan("liver", bmi=35)
-    assert p.harmonic["advised"] is True
-    assert p.harmonic["transmit_mhz"]["high"] >= p.probe["band_mhz"][0]
+    assert p.harmonic.advised is True
+    assert p.harmonic.transmit_mhz.high >= p.probe.band_mhz[0]
 
 
 def test_slim_liver_harmonic_optional():
-    assert plan("liver", bmi=21).harmonic["advised"] is False
+    assert plan("liver", bmi=21).harmonic.advised is False
 
 
 def test_lung_b_lines_never_harmonic():
     """Harmonic imaging suppresses B-lines, the signs of the exam (REFERENCES: THI trade-off)."""
     p = plan("pleura", bmi=40)
-    assert p.harmonic["advised"] is False
-    assert any(f["code"] == "harmonic.contraindicated" for f in p.findings)
+    assert p.harmonic.advised is False
+    assert any(f.code == "harmonic.contraindicated" for f in p.findings)
 
 
 def test_intercostal_window_needs_footprint_that_fits_rib_gap(tmp_path):
@@ -106,43 +106,43 @@ probes:
 """)
     p = make_plan(PlanRequest("liver", Patient.from_inputs(bmi=30), window_id="right-intercostal",
                               probes_path=str(inv)))
-    assert p.probe["id"] == "sector"
-    assert p.probe["fit"] in ("fits", "aligned")
-    rib = next(f for f in p.findings if f["code"] == "shadow.ribs")
-    assert rib["values"]["rib_gap_mm"] >= rib["values"]["footprint_width_mm"]
+    assert p.probe.id == "sector"
+    assert p.probe.fit in ("fits", "aligned")
+    rib = next(f for f in p.findings if f.code == "shadow.ribs")
+    assert rib.values["rib_gap_mm"] >= rib.values["footprint_width_mm"]
 
 
 def test_detail_unreachable_says_so_and_what_could_change():
     """When no window gives the needed detail the plan says so and lists alternatives."""
     p = plan("hepatic-veins", bmi=60, conditions={"steatosis": 3})
-    assert p.frequency_mhz["feasible"] is False
-    codes = [f["code"] for f in p.findings]
+    assert p.frequency_mhz.feasible is False
+    codes = [f.code for f in p.findings]
     assert "band.detail_unreachable" in codes and "plan.no_window" in codes
-    msg = next(f for f in p.findings if f["code"] == "plan.no_window")["message"]
+    msg = next(f for f in p.findings if f.code == "plan.no_window").message
     assert "accept less detail" in msg and "compression" in msg
 
 
 def test_midline_aorta_warns_of_refraction_duplication_DoubleAortaPhantom2009():
     p = plan("aorta", bmi=30, window="midline-transverse")
-    f = next(f for f in p.findings if f["code"] == "refraction.midline_prism")
-    assert f["values"]["separation_mm"] > 0
+    f = next(f for f in p.findings if f.code == "refraction.midline_prism")
+    assert f.values["separation_mm"] > 0
 
 
 def test_fat_layer_is_drawn_too_deep_SonographySpeedTutorial():
     """Fat (1450 m/s) is drawn about 6 % too thick by a 1540 m/s scanner."""
     p = plan("liver", bmi=45)
-    f = next(f for f in p.findings if f["code"] == "artefact.sound_speed")
-    fat_cm = sum(l["thickness_cm"] for l in p.layers if l["tissue"] == "fat")
-    assert f["values"]["fat_error_mm"] == pytest.approx(10 * fat_cm * (1540 / 1450 - 1), rel=0.02)
+    f = next(f for f in p.findings if f.code == "artefact.sound_speed")
+    fat_cm = sum(l.thickness_cm for l in p.layers if l.tissue == "fat")
+    assert f.values["fat_error_mm"] == pytest.approx(10 * fat_cm * (1540 / 1450 - 1), rel=0.02)
 
 
 def test_windows_ranked_feasible_first_then_by_loss():
     p = plan("kidney", bmi=35)
-    feasible = [w["feasible"] for w in p.windows]
+    feasible = [w.feasible for w in p.windows]
     assert feasible == sorted(feasible, reverse=True)
     for a, b in zip(p.windows, p.windows[1:]):
-        if a["feasible"] == b["feasible"]:
-            assert a["round_trip_loss_db"] <= b["round_trip_loss_db"]
+        if a.feasible == b.feasible:
+            assert a.round_trip_loss_db <= b.round_trip_loss_db
 
 
 def test_json_contract_keys():
@@ -192,7 +192,7 @@ def test_sweep_agrees_with_make_plan():
         p = make_plan(PlanRequest("liver", Patient.from_inputs(bmi=bmi), window_id="right-subcostal"))
         s = sweep("liver", [bmi], window_id="right-subcostal")
         assert s["depth_cm"][0] == pytest.approx(p.depth_cm, abs=0.01)
-        assert s["ceiling_mhz"][0] == pytest.approx(p.windows[0]["reach_ceiling_mhz"], abs=0.01)
+        assert s["ceiling_mhz"][0] == pytest.approx(p.windows[0].reach_ceiling_mhz, abs=0.01)
 
 
 def test_sweep_monotonic_and_finite():
@@ -214,9 +214,9 @@ def test_local_policy_tightens_a_limit_and_both_values_show():
                       bone_near_focus=True)
     p = make_plan(PlanRequest("fetal-head", Patient.from_inputs(bmi=38, gestation_weeks=22),
                               context=ctx, local_policy_path=str(policy)))
-    f = next(f for f in p.safety if f["values"].get("local_limit_min") is not None)
-    assert f["values"]["published_limit_min"] == 30
-    assert f["values"]["local_limit_min"] < 30
-    assert f["severity"] == "warning"
-    assert "exceeds" in f["message"] and "30 min" in f["message"]
+    f = next(f for f in p.safety if f.values.get("local_limit_min") is not None)
+    assert f.values["published_limit_min"] == 30
+    assert f.values["local_limit_min"] < 30
+    assert f.severity == "warning"
+    assert "exceeds" in f.message and "30 min" in f.message
     assert p.monitored_index == "TIB"

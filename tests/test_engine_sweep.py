@@ -31,8 +31,7 @@ CASES = [
 
 def _headline(plan):
     f = plan.frequency_mhz
-    return (plan.window["id"], plan.probe["id"] if plan.probe else None, f["high"], f["low"],
-            plan.harmonic["advised"])
+    return (plan.window.id, plan.probe.id if plan.probe else None, f.high, f.low, plan.harmonic.advised)
 
 
 @pytest.mark.parametrize("target,extra", CASES)
@@ -44,8 +43,8 @@ def test_sweep_rows_equal_single_plans(target, extra):
         single = make_plan(dataclasses.replace(
             request, patient=Patient.from_inputs(bmi=row.bmi, **extra)))
         assert (row.window, row.probe, row.high_mhz, row.low_mhz, row.harmonic) == _headline(single)
-        assert row.start_mhz == single.frequency_mhz["high"]
-        assert row.feasible == single.frequency_mhz["feasible"]
+        assert row.start_mhz == single.frequency_mhz.high
+        assert row.feasible == single.frequency_mhz.feasible
 
 
 def test_sweep_forced_window_and_probe_band_fall_with_habitus():
@@ -67,5 +66,5 @@ def test_window_sweep_arrays_match_make_plan():
         p = make_plan(PlanRequest("liver", Patient.from_inputs(bmi=bmi), window_id="right-subcostal"))
         s = sweep("liver", [bmi], window_id="right-subcostal")
         assert s["depth_cm"][0] == pytest.approx(p.depth_cm, abs=0.01)
-        assert s["ceiling_mhz"][0] == pytest.approx(p.windows[0]["reach_ceiling_mhz"], abs=0.01)
-        assert s["high_mhz"][0] == pytest.approx(p.frequency_mhz["high"], abs=0.051)
+        assert s["ceiling_mhz"][0] == pytest.approx(p.windows[0].reach_ceiling_mhz, abs=0.01)
+        assert s["high_mhz"][0] == pytest.approx(p.frequency_mhz.high, abs=0.051)

@@ -147,8 +147,8 @@ def plan_or_input_error(target, window, patient, context, doppler=False, draft=F
 
 def plan_high(target, window, **patient) -> float:
     plan = make_plan(PlanRequest(target, Patient.from_inputs(**patient), window_id=window))
-    assert plan.frequency_mhz["high"] is not None, plan.frequency_mhz
-    return plan.frequency_mhz["high"]
+    assert plan.frequency_mhz.high is not None, plan.frequency_mhz
+    return plan.frequency_mhz.high
 
 
 # -- any input: a finite plan or InputError -----------------------------------------------
@@ -210,9 +210,9 @@ def test_reach_falls_and_depth_grows_with_bmi_for_a_fixed_window(pair, sex, cond
     plans = [make_plan(PlanRequest(target, Patient.from_inputs(bmi=b, sex=sex,
                                                                conditions=conditions),
                                    window_id=window)) for b in bmis]
-    highs = [p.frequency_mhz["high"] for p in plans]
+    highs = [p.frequency_mhz.high for p in plans]
     depths = [p.depth_cm for p in plans]
-    ceilings = [p.window["reach_ceiling_mhz"] for p in plans]
+    ceilings = [p.window.reach_ceiling_mhz for p in plans]
     assert all(a >= b for a, b in zip(depths[1:], depths)), list(zip(bmis, depths))
     assert all(a <= b for a, b in zip(ceilings[1:], ceilings)), list(zip(bmis, ceilings))
     if None not in highs:
@@ -229,8 +229,8 @@ def test_no_step_in_reach_at_the_pannus_threshold():
         below, at = (make_plan(PlanRequest(target, Patient.from_inputs(bmi=b), window_id=window))
                      for b in (PANNUS_BMI - 0.1, PANNUS_BMI))
         if (at.depth_cm < below.depth_cm
-                or at.window["reach_ceiling_mhz"] > below.window["reach_ceiling_mhz"]):
-            reach = (below.window["reach_ceiling_mhz"], at.window["reach_ceiling_mhz"])
+                or at.window.reach_ceiling_mhz > below.window.reach_ceiling_mhz):
+            reach = (below.window.reach_ceiling_mhz, at.window.reach_ceiling_mhz)
             steps.append(f"{target}/{window}: depth {below.depth_cm} -> {at.depth_cm} cm, "
                          f"reach {reach[0]} -> {reach[1]} MHz")
     assert not steps, "BMI 39.9 -> 40:\n" + "\n".join(steps)
@@ -248,8 +248,8 @@ def test_reach_falls_with_measured_depth(pair, bmi, extra):
     for depth in depths:
         result = plan_or_input_error(target, window, {"bmi": bmi, "depth_cm": depth}, None)
         assume(isinstance(result, Plan))
-        highs.append(result.frequency_mhz["high"])
-        shown.append(result.window["reach_ceiling_mhz"])
+        highs.append(result.frequency_mhz.high)
+        shown.append(result.window.reach_ceiling_mhz)
         assert result.depth_cm == pytest.approx(depth, abs=0.01)
     assert all(a <= b for a, b in zip(shown[1:], shown)), list(zip(depths, shown))
     if None not in highs:
@@ -302,5 +302,5 @@ def test_reach_does_not_jump_up_when_no_probe_reaches():
     probe reaches, the plan must not switch to a probe whose lowest frequency is higher."""
     shallow = make_plan(PlanRequest("achilles-tendon", Patient.from_inputs(bmi=17, depth_cm=8)))
     deep = make_plan(PlanRequest("achilles-tendon", Patient.from_inputs(bmi=17, depth_cm=12)))
-    assert deep.frequency_mhz["high"] <= shallow.frequency_mhz["high"], (
-        shallow.probe["id"], shallow.frequency_mhz, deep.probe["id"], deep.frequency_mhz)
+    assert deep.frequency_mhz.high <= shallow.frequency_mhz.high, (
+        shallow.probe.id, shallow.frequency_mhz, deep.probe.id, deep.frequency_mhz)

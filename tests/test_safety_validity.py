@@ -33,12 +33,12 @@ def test_outside_the_validated_range_is_flagged(kwargs, parameter, valid_range):
     flags = validity_flags(**kwargs)
     assert len(flags) == 1
     flag = flags[0]
-    assert flag["parameter"] == parameter
-    assert flag["valid_range"] == pytest.approx(valid_range)
-    assert flag["value"] == pytest.approx(next(iter(kwargs.values())))
-    assert flag["source"] in REFERENCES
-    assert parameter.split("_")[0] in flag["message"].lower()
-    assert "validated" in flag["message"]
+    assert flag.parameter == parameter
+    assert flag.valid_range == pytest.approx(valid_range)
+    assert flag.value == pytest.approx(next(iter(kwargs.values())))
+    assert flag.source in REFERENCES
+    assert parameter.split("_")[0] in flag.message.lower()
+    assert "validated" in flag.message
 
 
 def test_edges_are_inside():
@@ -48,7 +48,7 @@ def test_edges_are_inside():
 
 def test_several_flags_at_once():
     flags = validity_flags(bmi=70, depth_cm=35, frequency_mhz=3)
-    assert [f["parameter"] for f in flags] == ["bmi", "depth_cm"]
+    assert [f.parameter for f in flags] == ["bmi", "depth_cm"]
 
 
 @pytest.mark.parametrize(("kwargs", "words"), [

@@ -57,7 +57,7 @@ async def test_first_screen_shows_a_plan_with_its_band_in_mhz():
         screen = await ready(app, pilot)
         band = screen.plan.frequency_mhz
         status = text_of(screen, "#plan-status")
-        assert f"{band['low']:.1f}–{band['high']:.1f} MHz" in status
+        assert f"{band.low:.1f}–{band.high:.1f} MHz" in status
         assert "MHz" in text_of(screen, "#summary-2")
         assert "DEMO DATA: invented patient" in text_of(screen, "#masthead")
 
@@ -70,7 +70,7 @@ async def test_typing_recomputes_on_every_key():
         before = screen.recomputes
         await retype(pilot, screen, "bmi", "45")
         assert screen.recomputes >= before + 3          # clear, '4', '5'
-        assert screen.plan.patient["bmi"] == 45.0
+        assert screen.plan.patient.bmi == 45.0
         assert screen.plan.depth_cm > depth_38          # thicker wall at a higher BMI
         assert "(edited)" in text_of(screen, "#masthead")
 
@@ -92,7 +92,7 @@ async def test_invalid_input_is_marked_inline_and_the_last_plan_stays():
         assert "not a number" in screen.query_one("#row-height_cm").error
         await retype(pilot, screen, "height_cm", "")
         await retype(pilot, screen, "bmi", "31")
-        assert not row.has_class("-invalid") and screen.plan.patient["bmi"] == 31.0
+        assert not row.has_class("-invalid") and screen.plan.patient.bmi == 31.0
         assert not screen.query_one("#plan-pane").has_class("-stale")
 
 
@@ -102,14 +102,14 @@ async def test_switching_targets_by_filter_and_list():
         screen = await ready(app, pilot)
         await pilot.press("ctrl+t", *list("thyroid"), "enter")
         await pilot.pause()
-        assert screen.plan.target["id"] == "thyroid"
+        assert screen.plan.target.id == "thyroid"
         windows = [w.id for w in screen.panel.library.get("thyroid").windows]
         options = [value for _, value in screen.query_one("#window_id")._options]
         assert options[1:] == windows
         assert "Thyroid" in text_of(screen, "#masthead")
         await pilot.press("ctrl+t", "ctrl+u", *list("kidney"), "down", "enter")
         await pilot.pause()
-        assert screen.plan.target["id"] == "kidney"
+        assert screen.plan.target.id == "kidney"
 
 
 async def test_choosing_a_window_and_a_doppler_mode():
@@ -124,10 +124,10 @@ async def test_choosing_a_window_and_a_doppler_mode():
         await pilot.press("f6")
         await pilot.pause()
         assert "Nyquist" in text_of(screen, "#doppler-text")
-        first = screen.plan.windows[-1]["id"]
+        first = screen.plan.windows[-1].id
         screen.query_one("#window_id").value = first
         await pilot.pause()
-        assert screen.plan.window["id"] == first and len(screen.plan.windows) == 1
+        assert screen.plan.window.id == first and len(screen.plan.windows) == 1
 
 
 async def test_explanation_view_has_numbers_formula_and_full_sources():
@@ -141,9 +141,9 @@ async def test_explanation_view_has_numbers_formula_and_full_sources():
         await pilot.pause()
         assert isinstance(app.screen, ExplainScreen)
         text = app.screen.query_one("#explain-text").render().plain
-        assert finding["title"] in text and "The numbers" in text
+        assert finding.title in text and "The numbers" in text
         assert "How it is worked out" in text
-        for key in finding["sources"]:
+        for key in finding.sources:
             assert citation(key)[:60] in text.replace("\n", " ")
         await pilot.press("escape")
         assert not isinstance(app.screen, ExplainScreen)
@@ -199,7 +199,7 @@ async def test_opening_a_broken_file_lists_every_problem(tmp_path):
         assert len(problems) == 2 and all(str(path) in p for p in problems)
         assert any(":4:" in p for p in problems) and any(":5:" in p for p in problems)
         await pilot.press("escape")
-        assert screen.plan.patient["bmi"] == 38.0          # the open plan is untouched
+        assert screen.plan.patient.bmi == 38.0          # the open plan is untouched
 
 
 async def test_supervised_draft_and_export(tmp_path):
@@ -218,7 +218,7 @@ async def test_supervised_draft_and_export(tmp_path):
             await answer_dialog(pilot, app, tmp_path / name)
             text = (tmp_path / name).read_text()
             assert "A. Learner" in text and "B. Mentor" in text and "sign-off" in text
-            assert screen.plan.target["name"] in text
+            assert screen.plan.target.name in text
         assert (tmp_path / "plan.html").read_text().lstrip().lower().startswith("<!doctype html")
         await pilot.press("ctrl+r")
         await answer_dialog(pilot, app, tmp_path / "plan.pdf")
@@ -309,6 +309,6 @@ async def test_new_plan_and_escape_back_to_the_inputs():
         await pilot.press("ctrl+n")
         await pilot.pause()
         assert screen.query_one("#bmi", Input).value == ""
-        assert screen.outcome.inputs.target_id == "liver" and screen.plan.patient["bmi_given"] is False
+        assert screen.outcome.inputs.target_id == "liver" and screen.plan.patient.bmi_given is False
         assert "new plan" in text_of(screen, "#masthead")
         assert "DEMO DATA" not in text_of(screen, "#masthead")

@@ -139,14 +139,14 @@ def test_user_context_keeps_the_engines_bone_and_index_choice():
     custom = make_plan_for(PlanInputs(target_id="fetal-head", gestation_weeks=22.0,
                                       expected_ti=0.7, planned_minutes=20.0))
     assert default.monitored_index == custom.monitored_index == "TIB"
-    codes = {f["code"] for f in custom.safety}
+    codes = {f.code for f in custom.safety}
     assert any("scan_time" in code for code in codes)
 
 
 def test_doppler_mode_asks_for_doppler_planning():
     plan = make_plan_for(PlanInputs(target_id="renal-artery", bmi=45.0,
                                     modes=("b_mode", "pulsed_doppler")))
-    assert plan.doppler is not None and plan.doppler["depth_cm"] > 0
+    assert plan.doppler is not None and plan.doppler.depth_cm > 0
 
 
 def test_inputs_to_data_writes_every_key():

@@ -92,11 +92,11 @@ def test_bad_inputs_raise_value_error(call):
         call()
 
 
-def _demo_plan() -> dict:
+def _demo_plan():
     from planner.body.patient import Patient
     from planner.engine import PlanRequest, make_plan
     patient = Patient.from_inputs(bmi=38, conditions={"steatosis": 2})
-    return make_plan(PlanRequest("liver", patient=patient)).to_dict()
+    return make_plan(PlanRequest("liver", patient=patient))
 
 
 def test_profile_agrees_with_the_engine():
@@ -104,21 +104,20 @@ def test_profile_agrees_with_the_engine():
     frequency the profile's loss at the target is the window's round-trip loss, and at the
     reach ceiling it equals the signal budget (that is how the ceiling is defined)."""
     plan = _demo_plan()
-    window = plan["window"]
-    profile = plan_loss_profile(plan, [window["reference_frequency_mhz"],
-                                       window["reach_ceiling_mhz"]])
-    assert profile.target_depth_cm == pytest.approx(plan["depth_cm"], abs=0.01)
-    assert profile.loss_at_target_db(0) == pytest.approx(window["round_trip_loss_db"], abs=0.1)
+    window = plan.window
+    profile = plan_loss_profile(plan, [window.reference_frequency_mhz, window.reach_ceiling_mhz])
+    assert profile.target_depth_cm == pytest.approx(plan.depth_cm, abs=0.01)
+    assert profile.loss_at_target_db(0) == pytest.approx(window.round_trip_loss_db, abs=0.1)
     assert profile.loss_at_target_db(1) == pytest.approx(plan_budget_db(plan), abs=0.5)
 
 
 def test_candidate_frequencies_bracket_the_band():
     plan = _demo_plan()
     freqs = candidate_frequencies_mhz(plan)
-    band = plan["frequency_mhz"]
+    band = plan.frequency_mhz
     assert 2 <= len(freqs) <= 3 and list(freqs) == sorted(freqs)
-    assert freqs[0] == pytest.approx(band["low"])
-    assert freqs[1] == pytest.approx(band["high"], abs=0.05)
+    assert freqs[0] == pytest.approx(band.low)
+    assert freqs[1] == pytest.approx(band.high, abs=0.05)
     profile = plan_loss_profile(plan)
     # the recommended band fits the budget (0.5 dB for the rounding of the printed ceiling);
     # the third curve, above the band, does not

@@ -148,7 +148,7 @@ async def test_escape_returns_to_the_plan_intact():
         await pilot.press("escape", "escape")                # a fast double Escape
         await pilot.pause()
         assert app.screen is app.planning
-        assert screen.plan is plan and screen.plan.patient["bmi"] == 45.0
+        assert screen.plan is plan and screen.plan.patient.bmi == 45.0
         assert screen.query_one("#bmi", Input).value == "45"
         assert "(edited)" in text_of(screen, "#masthead")
 

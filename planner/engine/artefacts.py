@@ -20,7 +20,7 @@ DEPTH_ERROR_CAUTION_MM: float = 5.0
 GAS_LEVEL = {"none": 0, "low": 1, "moderate": 2, "high": 3}
 
 
-def _r(x, nd=1):
+def _r(x: float, nd: int = 1) -> float:
     return round(float(x), nd)
 
 
@@ -51,7 +51,7 @@ def prism_findings(ctx: RuleContext) -> list[Finding]:
 def edge_shadow_findings(ctx: RuleContext) -> list[Finding]:
     """Edge shadows at the rims of curved fluid-filled targets."""
     target = ctx.target
-    radii = [s.radius_mm for s in target.surfaces if getattr(s, "radius_mm", None)]
+    radii = [s.radius_mm for s in target.surfaces if s.radius_mm is not None and s.radius_mm > 0]
     if not target.fluid_filled or not radii or not target.lumen_tissue:
         return []
     lumen = get_tissue(target.lumen_tissue)
@@ -94,43 +94,58 @@ def sound_speed_findings(ctx: RuleContext) -> list[Finding]:
         "so slow fat (1450 m/s) is drawn about 6 % thicker.")]
 
 
-def shadowing_findings(ctx: RuleContext) -> list[Finding]:
-    """Ribs, bowel gas, calcification and bone on the path."""
-    window, target, patient, out = ctx.window, ctx.target, ctx.patient, []
-    opt = ctx.option
-    if window.rib_gap_mm is not None and opt is not None:
-        gap = window.rib_gap_mm
-        fit = {"fits": "fits across the rib space",
-               "aligned": "fits only when aligned along the rib space",
-               "blocked": "is wider than the rib space: expect rib shadows"}[opt.fit]
-        out.append(Finding(
-            "shadow.ribs", "advice" if opt.fit != "blocked" else "caution", "Rib gap",
-            f"The rib space is about {gap:.0f} mm; the {opt.probe.label} footprint "
-            f"({opt.probe.footprint_length_mm:.0f} x {opt.probe.footprint_width_mm:.0f} mm) {fit}. Raise the "
-            "arm above the head and time the breath to open the space.",
-            {"rib_gap_mm": gap, "footprint_length_mm": opt.probe.footprint_length_mm,
-             "footprint_width_mm": opt.probe.footprint_width_mm, "fit": opt.fit},
-            ("PositioningTeaching", "CommonPractice")))
-    gas = GAS_LEVEL.get(window.gas_risk, 0) + patient.conditions.get("bowel_gas", 0)
-    if gas >= 2:
-        out.append(Finding(
-            "shadow.gas", "caution" if gas >= 3 else "advice", "Bowel gas on the path",
-            "Gas reflects almost all the sound (soft tissue to air R > 0.99). Use graded compression, "
-            "change position (decubitus, upright), fast the patient, or fill the stomach with water.",
-            {"gas_level": gas}, ("GasShadowTeaching", "ALevelPhysics")))
-    if target.calcification_risk in ("moderate", "high"):
-        out.append(Finding(
-            "shadow.calcification", "info", "Calcification shadows",
-            "Calcified foci (stones, plaque, ossification) shadow only when they fill the beam width: put "
-            "the focal zone at them and use the highest frequency that reaches.",
-            {"risk": target.calcification_risk}, ("StoneShadowTeaching",)))
-    if getattr(window, "bone_in_path", False):
-        out.append(Finding(
-            "shadow.bone", "caution", "Bone on the path",
-            "The beam crosses bone: most energy is reflected or absorbed (soft tissue to bone R about 0.4). "
-            "Use the thinnest part of the bone and the lowest frequency.",
-            {}, ("Diagnostics2023", "ALevelPhysics")))
-    return out
+def rib_findings(ctx: RuleContext) -> list[Finding]:
+    """Whether the probe footprint fits the rib space of an intercostal window."""
+    window, opt = ctx.window, ctx.option
+    if window.rib_gap_mm is None or opt is None:
+        return []
+    gap = window.rib_gap_mm
+    fit = {"fits": "fits across the rib space",
+           "aligned": "fits only when aligned along the rib space",
+           "blocked": "is wider than the rib space: expect rib shadows"}[opt.fit]
+    return [Finding(
+        "shadow.ribs", "advice" if opt.fit != "blocked" else "caution", "Rib gap",
+        f"The rib space is about {gap:.0f} mm; the {opt.probe.label} footprint "
+        f"({opt.probe.footprint_length_mm:.0f} x {opt.probe.footprint_width_mm:.0f} mm) {fit}. Raise the "
+        "arm above the head and time the breath to open the space.",
+        {"rib_gap_mm": gap, "footprint_length_mm": opt.probe.footprint_length_mm,
+         "footprint_width_mm": opt.probe.footprint_width_mm, "fit": opt.fit},
+        ("PositioningTeaching", "CommonPractice"))]
+
+
+def gas_findings(ctx: RuleContext) -> list[Finding]:
+    """Bowel gas on the path: the window's gas risk plus the patient's stated bowel gas."""
+    gas = GAS_LEVEL.get(ctx.window.gas_risk, 0) + ctx.patient.conditions.get("bowel_gas", 0)
+    if gas < 2:
+        return []
+    return [Finding(
+        "shadow.gas", "caution" if gas >= 3 else "advice", "Bowel gas on the path",
+        "Gas reflects almost all the sound (soft tissue to air R > 0.99). Use graded compression, "
+        "change position (decubitus, upright), fast the patient, or fill the stomach with water.",
+        {"gas_level": gas}, ("GasShadowTeaching", "ALevelPhysics"))]
+
+
+def calcification_findings(ctx: RuleContext) -> list[Finding]:
+    """Calcification shadows for targets at moderate or high risk."""
+    risk = ctx.target.calcification_risk
+    if risk not in ("moderate", "high"):
+        return []
+    return [Finding(
+        "shadow.calcification", "info", "Calcification shadows",
+        "Calcified foci (stones, plaque, ossification) shadow only when they fill the beam width: put "
+        "the focal zone at them and use the highest frequency that reaches.",
+        {"risk": risk}, ("StoneShadowTeaching",))]
+
+
+def bone_path_findings(ctx: RuleContext) -> list[Finding]:
+    """Bone on the window's path."""
+    if not getattr(ctx.window, "bone_in_path", False):
+        return []
+    return [Finding(
+        "shadow.bone", "caution", "Bone on the path",
+        "The beam crosses bone: most energy is reflected or absorbed (soft tissue to bone R about 0.4). "
+        "Use the thinnest part of the bone and the lowest frequency.",
+        {}, ("Diagnostics2023", "ALevelPhysics"))]
 
 
 def fluid_findings(ctx: RuleContext) -> list[Finding]:

@@ -14,6 +14,7 @@ from planner.body.stack import LayerStack, StackBatch
 from planner.engine.batch import (FIT_CODES, STRONG_TISSUES, WindowBatch, assess_batch,  # noqa: F401
                                   probe_fit, signal_budget_db)
 from planner.library.probes import Probe, ProbeInventory
+from planner.library.targets import Target, Window
 from planner.physics import attenuation, beam
 
 
@@ -41,7 +42,7 @@ class ProbeOption:
 class WindowAssessment:
     """Everything the rules need about one window."""
 
-    window: object
+    window: Window
     stack: LayerStack
     budget_db: float
     interface_loss_db: float

@@ -1,6 +1,7 @@
 """The plan's main decisions: band, harmonic imaging, tilt, depth and focus.
 
-Each function returns a JSON-ready summary and the findings that explain it.
+Each decider returns a typed decision and the findings that explain it; the findings reach the
+plan through the rule registry (:mod:`planner.engine.registry`).
 """
 
 from __future__ import annotations
@@ -9,6 +10,8 @@ import math
 
 from planner.engine.assess import finest_detail_mm
 from planner.engine.context import RuleContext
+from planner.engine.model import (DisplayDecision, FrequencyBand, HarmonicDecision, TiltDecision,
+                                  TransmitBand)
 from planner.findings import Finding
 from planner.physics import beam
 from planner.physics.constants import HARMONIC_CONVERSION_LOSS_DB, SIGNAL_BUDGET_DIFFUSE_DB, \
@@ -27,16 +30,16 @@ def _r(x: float, nd: int = 1) -> float:
     return round(float(x), nd)
 
 
-def band_decision(ctx: RuleContext) -> tuple[dict, list[Finding]]:
+def band_decision(ctx: RuleContext) -> tuple[FrequencyBand, list[Finding]]:
     """Recommended band [detail floor, reach ceiling] within the chosen probe's band."""
     a, opt, target = ctx.chosen, ctx.option, ctx.target
     if opt is None:
-        return {"low": None, "high": None, "feasible": False}, [Finding(
+        return FrequencyBand(None, None, False), [Finding(
             "band.no_probe", "warning", "No probe fits this window",
             f"No probe of the inventory ({ctx.inventory.origin}) can be used through "
             f"{ctx.window.name}.", {}, ("CommonPractice",))]
     reach_high = min(opt.probe.high_mhz, a.ceiling_mhz)
-    values = {"detail_mm": target.detail_mm, "detail_floor_mhz": _r(opt.floor_mhz, 2),
+    values: dict[str, float | None] = {"detail_mm": target.detail_mm, "detail_floor_mhz": _r(opt.floor_mhz, 2),
               "reach_ceiling_mhz": _r(a.ceiling_mhz, 2), "budget_db": a.budget_db,
               "depth_cm": _r(a.stack.depth_cm), "probe_low_mhz": opt.probe.low_mhz,
               "probe_high_mhz": opt.probe.high_mhz, "f_number": _r(opt.f_number, 2)}
@@ -50,7 +53,7 @@ def band_decision(ctx: RuleContext) -> tuple[dict, list[Finding]]:
         "wavelength / 2) and the lateral resolution at focus (wavelength x F-number) are as fine "
         "as the detail the exam must resolve.")
     if opt.feasible:
-        summary = {"low": _r(opt.low_mhz), "high": _r(opt.high_mhz), "feasible": True}
+        summary = FrequencyBand(_r(opt.low_mhz), _r(opt.high_mhz), True)
         return summary, [Finding(
             "band.recommended", "info", "Frequency band",
             f"Use {opt.low_mhz:.1f}-{opt.high_mhz:.1f} MHz on the {opt.probe.label}: "
@@ -61,7 +64,7 @@ def band_decision(ctx: RuleContext) -> tuple[dict, list[Finding]]:
     values["finest_detail_mm"] = _r(best_detail, 2) if math.isfinite(best_detail) else None
     low = opt.probe.low_mhz
     high = max(low, reach_high)
-    summary = {"low": _r(low), "high": _r(high), "feasible": False}
+    summary = FrequencyBand(_r(low), _r(high), False)
     if reach_high < opt.probe.low_mhz:
         msg = (f"Even {opt.probe.low_mhz:g} MHz loses more than the {a.budget_db:g} dB budget over "
                f"{a.stack.depth_cm:.1f} cm (reach ceiling {a.ceiling_mhz:.1f} MHz): expect a weak, noisy "
@@ -75,7 +78,7 @@ def band_decision(ctx: RuleContext) -> tuple[dict, list[Finding]]:
                              explanation)]
 
 
-def harmonic_decision(ctx: RuleContext) -> tuple[dict, list[Finding]]:
+def harmonic_decision(ctx: RuleContext) -> tuple[HarmonicDecision, list[Finding]]:
     """Advise harmonic imaging when clutter is likely and the harmonic echo still reaches."""
     a, opt, target, patient = ctx.chosen, ctx.option, ctx.target, ctx.patient
     fat_mm = a.stack.subcutaneous_fat_cm * 10.0
@@ -88,13 +91,14 @@ def harmonic_decision(ctx: RuleContext) -> tuple[dict, list[Finding]]:
                    f"({HARMONIC_CONVERSION_LOSS_DB.value:g} dB). It suppresses near-field clutter "
                    "and reverberation from a thick wall but penetrates less.")
     if target.harmonic_contraindicated:
-        return {"advised": False, "reason": "Not for this exam: its diagnostic signs are artefacts that "
-                "harmonic imaging suppresses."}, [Finding(
+        return HarmonicDecision(False, "Not for this exam: its diagnostic signs are artefacts that "
+                                "harmonic imaging suppresses.", "contraindicated"), [Finding(
                     "harmonic.contraindicated", "advice", "Keep harmonic imaging off",
                     "Harmonic imaging (and compounding) suppress the reverberation artefacts this exam "
                     "reads, such as B-lines; use the fundamental.", values, sources, explanation)]
     if opt is None or not opt.probe.harmonic:
-        return {"advised": False, "reason": "The chosen probe has no harmonic receive mode."}, []
+        return HarmonicDecision(False, "The chosen probe has no harmonic receive mode.",
+                                "no_harmonic_mode"), []
     top_f0 = min(a.harmonic_ceiling_mhz, opt.probe.high_mhz / 2.0)
     reaches = top_f0 >= opt.probe.low_mhz
     clutter = fat_mm >= CLUTTER_FAT_MM or patient.bmi >= CLUTTER_BMI
@@ -103,30 +107,30 @@ def harmonic_decision(ctx: RuleContext) -> tuple[dict, list[Finding]]:
         reason = (f"Subcutaneous fat {fat_mm:.0f} mm (BMI {patient.bmi:.0f}) makes near-field clutter likely; "
                   f"the harmonic echo still reaches {a.stack.depth_cm:.1f} cm with transmit "
                   f"{opt.probe.low_mhz:g}-{top_f0:.1f} MHz.")
-        return {"advised": True, "reason": reason, "transmit_mhz": {"low": opt.probe.low_mhz,
-                                                                    "high": _r(top_f0)}}, [Finding(
+        return HarmonicDecision(True, reason, "advised",
+                                TransmitBand(opt.probe.low_mhz, _r(top_f0))), [Finding(
             "harmonic.advised", "advice", "Harmonic imaging advised", reason, values, sources, explanation)]
     if clutter:
         reason = (f"Clutter is likely (fat {fat_mm:.0f} mm), but the harmonic echo would need transmit "
                   f"{top_f0:.1f} MHz or less, below the probe's {opt.probe.low_mhz:g} MHz: use the "
                   "fundamental, and try harmonic imaging only for the near field.")
-        return {"advised": False, "reason": reason}, [Finding(
+        return HarmonicDecision(False, reason, "out_of_reach"), [Finding(
             "harmonic.out_of_reach", "caution", "Harmonic echo will not reach the target", reason,
             values, sources, explanation)]
     reason = (f"Thin wall (fat {fat_mm:.0f} mm): clutter is unlikely, so harmonic imaging is optional"
               + (f"; it reaches with transmit up to {top_f0:.1f} MHz." if reaches else
                  "; it would not reach this depth."))
-    return {"advised": False, "reason": reason}, []
+    return HarmonicDecision(False, reason, "optional"), []
 
 
-def tilt_decision(ctx: RuleContext) -> tuple[dict, list[Finding]]:
+def tilt_decision(ctx: RuleContext) -> tuple[TiltDecision, list[Finding]]:
     """Specular tilt tolerance in the scan and elevation planes, turned into handling advice."""
     target, opt, depth = ctx.target, ctx.option, ctx.chosen.stack.depth_cm
     surfaces = [s for s in target.surfaces if s.reflector == "specular"]
     if target.reflector == "diffuse" or not surfaces or opt is None:
-        return {"max_deviation_deg": None, "scan_plane_deg": None, "elevation_plane_deg": None,
-                "advice": "Diffuse echoes do not depend on the beam angle: choose the tilt for the "
-                          "window (shortest path, fewest shadows), not for the target."}, []
+        return TiltDecision(None, None, None,
+                            "Diffuse echoes do not depend on the beam angle: choose the tilt for the "
+                            "window (shortest path, fewest shadows), not for the target."), []
     probe = opt.probe
     half_scan = min(probe.aperture_mm / 2.0, depth * 10.0 / (2.0 * probe.receive_f_number))
     scan = float(beam.specular_tolerance_deg(half_scan, depth))
@@ -156,14 +160,13 @@ def tilt_decision(ctx: RuleContext) -> tuple[dict, list[Finding]]:
             f"here the echo halves beyond {tol:.1f} deg. Confirm any dark area square on before calling it "
             "a tear.", {"tolerance_deg": _r(tol), "published_range_deg": [2, 7]},
             ("Crass1988", "AnisotropyTeaching")))
-    return {"max_deviation_deg": _r(tol), "scan_plane_deg": _r(scan), "elevation_plane_deg": _r(elev),
-            "advice": advice}, findings
+    return TiltDecision(_r(tol), _r(scan), _r(elev), advice), findings
 
 
-def display_decision(ctx: RuleContext) -> dict:
+def display_decision(ctx: RuleContext) -> DisplayDecision:
     """Suggested display depth and focal depth (on the scanner's 1540 m/s scale). [cm]"""
     shown = ctx.chosen.displayed_depth_cm
     display = math.ceil(shown + max(1.0, 0.1 * shown))
-    return {"display_depth_cm": float(display), "focus_cm": _r(shown),
-            "note": "Depth so the target fills most of the image; focal zone at or just below the "
-                    "target (common practice)."}
+    return DisplayDecision(float(display), _r(shown),
+                           "Depth so the target fills most of the image; focal zone at or just below "
+                           "the target (common practice).")

@@ -27,7 +27,7 @@ LIMITED_EXAM_BMI: float = 30.0
 
 
 def habitus_findings(ctx: RuleContext) -> list[Finding]:
-    """WHO class, wall estimate with its band, and the limited-exam advice."""
+    """WHO class and the wall estimate with its band."""
     p, s = ctx.patient, ctx.stack
     class_id, label = p.habitus
     measured = p.wall_mm is not None or p.fat_mm is not None
@@ -44,18 +44,24 @@ def habitus_findings(ctx: RuleContext) -> list[Finding]:
         ("WHO2000Obesity", "HabitusPracticeModel"),
         "Each wall layer has a median a + b (BMI - 25) fitted to published thickness data for this "
         "window, and a log-normal spread; a measured thickness replaces the estimate.")]
-    if p.bmi >= LIMITED_EXAM_BMI:
-        out.append(Finding(
+    return out
+
+
+def limited_exam_findings(ctx: RuleContext) -> list[Finding]:
+    """Advice to plan for a limited exam from BMI 30."""
+    p = ctx.patient
+    if p.bmi < LIMITED_EXAM_BMI:
+        return []
+    return [Finding(
             "habitus.limited_exam", "caution", "Large habitus: plan for a limited exam",
             "Image quality falls with BMI. Start from high-BMI settings (lower band, harmonic imaging), "
             "use positioning and a helper for the pannus, do not prolong the exam when gain is unlikely, "
             "and document any limitation 'due to body habitus'; offer another route or appointment.",
-            {"bmi": round(p.bmi, 1)}, ("Heinitz2023", "NHSGGC468", "SoRHighBMI")))
-    return out
+            {"bmi": round(p.bmi, 1)}, ("Heinitz2023", "NHSGGC468", "SoRHighBMI"))]
 
 
-def condition_findings(ctx: RuleContext) -> list[Finding]:
-    """Advice for stated conditions."""
+def steatosis_findings(ctx: RuleContext) -> list[Finding]:
+    """A steatotic liver on the path attenuates more and is slower."""
     c, out = ctx.patient.conditions, []
     if "steatosis" in c and any(lay.tissue.id.startswith("liver_steatosis") for lay in ctx.stack.layers):
         liver = next(lay.tissue for lay in ctx.stack.layers if lay.tissue.id.startswith("liver_steatosis"))
@@ -68,11 +74,23 @@ def condition_findings(ctx: RuleContext) -> list[Finding]:
              "speed_m_per_s": liver.speed_m_per_s, "grade": c["steatosis"]},
             (liver.provenance["attenuation_db_per_cm_mhz"].source,
              liver.provenance["speed_m_per_s"].source)))
+    return out
+
+
+def ascites_findings(ctx: RuleContext) -> list[Finding]:
+    """Ascites on the path used as a window."""
+    c, out = ctx.patient.conditions, []
     if "ascites" in c and any(lay.role == "ascites" for lay in ctx.stack.layers):
         out.append(Finding(
             "condition.ascites", "info", "Ascites as a window",
             "Free fluid between wall and organs carries sound with little loss; use it as a window, "
             "but it pushes the target deeper.", {"grade": c["ascites"]}, ("EnhancementTeaching",)))
+    return out
+
+
+def approach_findings(ctx: RuleContext) -> list[Finding]:
+    """Advice for conditions that change the approach (breath hold, mobility, fasting, oedema)."""
+    c, out = ctx.patient.conditions, []
     for name, (severity, title, message, sources) in ADVICE_BY_CONDITION.items():
         if name in c:
             grade = {"grade": c[name]} if len(CONDITIONS[name].grades) > 1 else {}

@@ -1,31 +1,37 @@
-"""make_plan: turn a PlanRequest into a Plan (a plain, JSON-serialisable record)."""
+"""make_plan: turn a PlanRequest into a typed Plan (:mod:`planner.engine.model`)."""
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import replace
 from typing import Any
 
 from planner.body.patient import Patient
 from planner.body.stack import build_stack_batch, measured_wall_ratio
 from planner.body.walls import load_wall_models
-from planner.engine import artefacts, decisions, habitus_rules
+from planner.engine import decisions
 from planner.engine.assess import WindowAssessment, assessment_at
 from planner.engine.batch import assess_batches
-from planner.engine.context import RuleContext
+from planner.engine.context import Decisions, RuleContext
+from planner.engine.doppler_model import DopplerPlan
 from planner.engine.doppler_plan import DOPPLER_PLAN_MODES, plan_doppler
+from planner.engine.model import (SCHEMA_VERSION, ChosenWindow, InputsSummary, PatientSummary, Plan,
+                                  PlanLayer, ProbeSummary, TargetSummary, WindowBand, WindowSummary)
+from planner.engine.registry import ENGINE_RULES
 from planner.engine.request import PlanRequest
 from planner.errors import InputError
-from planner.findings import Finding, severity_rank
+from planner.findings import severity_rank
 from planner.library.probes import ProbeInventory, load_inventory
 from planner.library.targets import load_library
 from planner.safety import DISCLAIMER, ExamContext, load_local_policy, monitored_index, \
     safety_findings, validity_flags
 
-SCHEMA_VERSION = 1
+__all__ = ["SCHEMA_VERSION", "Plan", "assess_windows", "bone_near_focus", "default_exam_context",
+           "make_plan", "rank_assessments"]
+
 BONE_TARGET_TISSUES = frozenset({"cortical_bone", "cartilage"})
 
 
-def bone_near_focus(target, window=None) -> bool:
+def bone_near_focus(target: Any, window: Any = None) -> bool:
     """True when bone lies at or near the focus: bone or cartilage targets, targets marked
     ``bone_near_focus`` in the library (fetal head and spine, infant hip), or bone on the
     window's path (the safety rules then use TIB)."""
@@ -33,42 +39,7 @@ def bone_near_focus(target, window=None) -> bool:
             or bool(getattr(window, "bone_in_path", False)))
 
 
-@dataclass(frozen=True)
-class Plan:
-    """A complete plan: every field is JSON-ready (see :meth:`to_dict`)."""
-
-    target: dict
-    patient: dict
-    depth_cm: float
-    displayed_depth_cm: float
-    frequency_mhz: dict
-    harmonic: dict
-    probe: dict | None
-    window: dict
-    windows: list[dict]
-    tilt: dict
-    display: dict
-    depth_error_mm: float
-    findings: list[dict]
-    safety: list[dict]
-    monitored_index: str
-    pitfalls: list[str]
-    assumptions: list[str]
-    validity: list[dict]
-    disclaimer: str
-    layers: list[dict]
-    budget_db: float = 60.0
-    doppler: dict | None = None
-    draft: bool = False
-    inputs: dict = field(default_factory=dict)
-
-    def to_dict(self) -> dict[str, Any]:
-        out = {name: getattr(self, name) for name in self.__dataclass_fields__}
-        out["schema_version"] = SCHEMA_VERSION
-        return out
-
-
-def _window_by_id(target, window_id: str):
+def _window_by_id(target: Any, window_id: str) -> Any:
     for window in target.windows:
         if window.id == window_id:
             return window
@@ -76,8 +47,8 @@ def _window_by_id(target, window_id: str):
                      f"{', '.join(w.id for w in target.windows)}")
 
 
-def assess_windows(patient: Patient, target, windows, inventory: ProbeInventory,
-                   reference) -> list[WindowAssessment]:
+def assess_windows(patient: Patient, target: Any, windows: list[Any], inventory: ProbeInventory,
+                   reference: Any) -> list[WindowAssessment]:
     """Build and assess the stack of every window, measured values applied.
 
     A measured wall or fat is scaled at the reference window and applied to every window
@@ -85,7 +56,7 @@ def assess_windows(patient: Patient, target, windows, inventory: ProbeInventory,
     (for the reference window that is an input error).
     """
     ratio = measured_wall_ratio(load_wall_models()[reference.wall], patient, reference.wall_factor)
-    candidates = []
+    candidates: list[tuple[Any, Any]] = []
     for w in windows:
         batch = build_stack_batch(patient, w, wall_ratio=ratio)
         if not batch.valid[0]:
@@ -100,14 +71,14 @@ def assess_windows(patient: Patient, target, windows, inventory: ProbeInventory,
 
 def rank_assessments(assessments: list[WindowAssessment]) -> tuple[list[WindowAssessment], float]:
     """Feasible windows first, then by round-trip loss at a common reference frequency."""
-    feasible_highs = [a.best.high_mhz for a in assessments if a.feasible]
+    feasible_highs = [a.best.high_mhz for a in assessments if a.best is not None and a.feasible]
     reference = max(feasible_highs) if feasible_highs else 3.5
     ranked = sorted(assessments, key=lambda a: (not a.feasible, a.loss_db(reference)))
     return ranked, reference
 
 
-def default_exam_context(request: PlanRequest, target, window,
-                         doppler: dict | None = None) -> ExamContext:
+def default_exam_context(request: PlanRequest, target: Any, window: Any,
+                         doppler: DopplerPlan | None = None) -> ExamContext:
     """The exam context of a plan: the request's complete context when it gives one; otherwise
     the target's exam type (or the user's), the patient's gestation, Doppler modes when Doppler
     is planned, bone near the focus (target, window, Doppler gate) and lung in the beam,
@@ -118,8 +89,8 @@ def default_exam_context(request: PlanRequest, target, window,
     exam_type = overrides.pop("exam_type", None) or target.exam_type
     weeks = request.patient.gestation_weeks
     bone = bone_near_focus(target, window) \
-        or bool(doppler and doppler.get("safety", {}).get("bone_near_gate"))
-    fields: dict = {"exam_type": exam_type, "bone_near_focus": bone,
+        or bool(doppler and doppler.safety.bone_near_gate)
+    fields: dict[str, Any] = {"exam_type": exam_type, "bone_near_focus": bone,
                     "modes": DOPPLER_PLAN_MODES if request.doppler else ("b_mode",)}
     if exam_type in ("obstetric", "gynaecological"):
         fields.update(gestation_weeks=weeks,
@@ -131,32 +102,15 @@ def default_exam_context(request: PlanRequest, target, window,
     return ExamContext(**fields)
 
 
-def _window_summary(a: WindowAssessment, reference_mhz: float) -> dict:
+def _window_summary(a: WindowAssessment, reference_mhz: float, cls: type = WindowSummary,
+                    **extra: Any) -> Any:
     opt = a.best
-    return {"id": a.window.id, "name": a.window.name, "feasible": a.feasible,
-            "round_trip_loss_db": round(a.loss_db(reference_mhz), 1),
-            "reference_frequency_mhz": round(reference_mhz, 2),
-            "depth_cm": round(a.stack.depth_cm, 2), "wall_mm": round(a.stack.wall_cm * 10, 1),
-            "reach_ceiling_mhz": round(a.ceiling_mhz, 2),
-            "band_mhz": None if opt is None else {"low": round(opt.shown_band[0], 1),
-                                                  "high": round(opt.shown_band[1], 1)},
-            "probe": None if opt is None else opt.probe.id,
-            "position": a.window.position, "breathing": a.window.breathing}
-
-
-def _no_window_findings(target, ranked: list[WindowAssessment]) -> list[Finding]:
-    """When no window gives the needed detail: say so and what could change."""
-    if any(a.feasible for a in ranked):
-        return []
-    ideas = ["accept less detail (see the band finding)", "firm graded compression to thin the wall",
-             "harmonic imaging for the near field"]
-    if any(w.endocavitary for w in target.windows):
-        ideas.insert(0, "the endocavitary route")
-    ideas.append("another imaging method if the question needs finer detail")
-    return [Finding("plan.no_window", "warning", "No window gives the needed detail",
-                    f"No candidate window of the {target.name.lower()} shows {target.detail_mm:g} mm detail "
-                    f"for this patient. Options: {'; '.join(ideas)}.",
-                    {"windows_tried": [a.window.id for a in ranked]}, ("CommonPractice", "NHSGGC468"))]
+    return cls(a.window.id, a.window.name, a.feasible, round(a.loss_db(reference_mhz), 1),
+               round(reference_mhz, 2), round(a.stack.depth_cm, 2), round(a.stack.wall_cm * 10, 1),
+               round(a.ceiling_mhz, 2),
+               None if opt is None else WindowBand(round(opt.shown_band[0], 1),
+                                                   round(opt.shown_band[1], 1)),
+               None if opt is None else opt.probe.id, a.window.position, a.window.breathing, **extra)
 
 
 def make_plan(request: PlanRequest) -> Plan:
@@ -172,19 +126,18 @@ def make_plan(request: PlanRequest) -> Plan:
     band, band_findings = decisions.band_decision(ctx)
     harmonic, harmonic_findings = decisions.harmonic_decision(ctx)
     tilt, tilt_findings = decisions.tilt_decision(ctx)
-    findings = (habitus_rules.habitus_findings(ctx) + band_findings + _no_window_findings(target, ranked)
-                + harmonic_findings + tilt_findings + artefacts.prism_findings(ctx)
-                + artefacts.edge_shadow_findings(ctx) + artefacts.sound_speed_findings(ctx)
-                + artefacts.shadowing_findings(ctx) + artefacts.fluid_findings(ctx)
-                + habitus_rules.condition_findings(ctx))
+    ctx = RuleContext(patient, target, ctx.assessments, chosen, inventory,
+                      Decisions(band, tuple(band_findings), harmonic, tuple(harmonic_findings),
+                                tilt, tuple(tilt_findings)))
+    findings = ENGINE_RULES.run(ctx)
     doppler = None
     if request.doppler:
         doppler, doppler_findings = plan_doppler(target, chosen, chosen.best.probe if chosen.best else None,
                                                  inventory, alternatives=ranked[1:])
         findings += doppler_findings
-        if tilt["max_deviation_deg"] is not None:
-            tilt = dict(tilt, advice=tilt["advice"] + " For Doppler do the opposite: keep the "
-                        "beam-to-flow angle at 60 deg or less, not perpendicular (see Doppler).")
+        if tilt.max_deviation_deg is not None:
+            tilt = replace(tilt, advice=tilt.advice + " For Doppler do the opposite: keep the "
+                           "beam-to-flow angle at 60 deg or less, not perpendicular (see Doppler).")
     findings.sort(key=lambda f: -severity_rank(f.severity))
     exam = default_exam_context(request, target, chosen.window, doppler)
     policy = load_local_policy(request.local_policy_path) if request.local_policy_path else None
@@ -192,42 +145,37 @@ def make_plan(request: PlanRequest) -> Plan:
     opt = chosen.best
     validity = validity_flags(bmi=patient.bmi if patient.bmi_given else None, wall_mm=patient.wall_mm,
                               depth_cm=chosen.stack.depth_cm,
-                              frequency_mhz=band["high"] if band["high"] else None,
+                              frequency_mhz=band.high if band.high else None,
                               gestation_weeks=patient.gestation_weeks, expected_ti=exam.expected_ti)
     return Plan(
-        target={"id": target.id, "name": target.name, "reflector": target.reflector,
-                "region": target.region, "detail_mm": target.detail_mm},
-        patient={"bmi": round(patient.bmi, 1), "bmi_given": patient.bmi_given,
-                 "who_class": patient.habitus[0], "who_class_label": patient.habitus[1],
-                 "sex": patient.sex, "conditions": dict(patient.conditions),
-                 "gestation_weeks": patient.gestation_weeks},
+        target=TargetSummary(target.id, target.name, target.reflector, target.region, target.detail_mm),
+        patient=PatientSummary(round(patient.bmi, 1), patient.bmi_given, patient.habitus[0],
+                               patient.habitus[1], patient.sex, dict(patient.conditions),
+                               patient.gestation_weeks),
         depth_cm=round(chosen.stack.depth_cm, 2),
         displayed_depth_cm=round(chosen.displayed_depth_cm, 2),
         frequency_mhz=band, harmonic=harmonic,
-        probe=None if opt is None else {"id": opt.probe.id, "label": opt.probe.label,
-                                        "type": opt.probe.type, "fit": opt.fit,
-                                        "band_mhz": [opt.probe.low_mhz, opt.probe.high_mhz]},
-        window=_window_summary(chosen, reference) | {"notes": getattr(chosen.window, "notes", "") or ""},
-        windows=[_window_summary(a, reference) for a in ranked],
+        probe=None if opt is None else ProbeSummary(opt.probe.id, opt.probe.label, opt.probe.type,
+                                                    opt.fit, (opt.probe.low_mhz, opt.probe.high_mhz)),
+        window=_window_summary(chosen, reference, ChosenWindow,
+                               notes=getattr(chosen.window, "notes", "") or ""),
+        windows=tuple(_window_summary(a, reference) for a in ranked),
         tilt=tilt, display=decisions.display_decision(ctx),
         depth_error_mm=round(chosen.depth_error_mm, 2),
-        findings=[f.to_dict() for f in findings],
-        safety=[f.to_dict() for f in safety],
+        findings=tuple(findings),
+        safety=tuple(safety),
         monitored_index=monitored_index(exam),
-        pitfalls=list(target.pitfalls),
-        assumptions=_assumptions(patient, chosen, inventory, exam),
-        validity=validity, disclaimer=DISCLAIMER,
-        layers=[{"tissue": lay.tissue.id, "label": lay.label, "role": lay.role,
-                 "thickness_cm": round(lay.thickness_cm, 3),
-                 "speed_m_per_s": lay.tissue.speed_m_per_s,
-                 "attenuation_db_per_cm_mhz": lay.tissue.attenuation_db_per_cm_mhz,
-                 "attenuation_exponent": lay.tissue.attenuation_exponent,
-                 "impedance_mrayl": round(lay.tissue.impedance_mrayl, 4)}
-                for lay in chosen.stack.layers],
+        pitfalls=tuple(target.pitfalls),
+        assumptions=tuple(_assumptions(patient, chosen, inventory, exam)),
+        validity=tuple(validity), disclaimer=DISCLAIMER,
+        layers=tuple(PlanLayer(lay.tissue.id, lay.label, lay.role, round(lay.thickness_cm, 3),
+                               lay.tissue.speed_m_per_s, lay.tissue.attenuation_db_per_cm_mhz,
+                               lay.tissue.attenuation_exponent, round(lay.tissue.impedance_mrayl, 4))
+                     for lay in chosen.stack.layers),
         budget_db=chosen.budget_db, doppler=doppler,
         draft=request.draft,
-        inputs={"target": target.id, "window": request.window_id, "exam_type": exam.exam_type,
-                "probes": inventory.origin, "local_policy": request.local_policy_path},
+        inputs=InputsSummary(target.id, request.window_id, exam.exam_type, inventory.origin,
+                             request.local_policy_path),
     )
 
 

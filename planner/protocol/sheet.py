@@ -164,35 +164,37 @@ def _view_context(protocol: Protocol, view: View, target, window, patient: Patie
     return default_exam_context(request, target, window)
 
 
+HARMONIC_SHORT: dict[str, str] = {
+    "contraindicated": "keep off: the exam reads artefacts it suppresses",
+    "advised": "clutter likely; the harmonic echo reaches",
+    "out_of_reach": "clutter likely, but the harmonic echo does not reach",
+    "no_harmonic_mode": "the probe has no harmonic mode",
+    "optional": "thin wall, little clutter (optional)",
+}
+"""Short table text for each typed harmonic basis (:attr:`HarmonicDecision.basis`)."""
+
+
 def _harmonic(plan: Plan) -> dict[str, Any]:
     """Harmonic advice with a short reason for the table (the full reason kept for JSON)."""
-    codes = {f["code"] for f in plan.findings}
     h = plan.harmonic
-    if "harmonic.contraindicated" in codes:
-        short = "keep off: the exam reads artefacts it suppresses"
-    elif "harmonic.advised" in codes:
-        short = "clutter likely; the harmonic echo reaches"
-    elif "harmonic.out_of_reach" in codes:
-        short = "clutter likely, but the harmonic echo does not reach"
-    elif plan.probe is None or "no harmonic" in h["reason"]:
-        short = "the probe has no harmonic mode"
-    else:
-        short = "thin wall, little clutter (optional)"
-    return {"advised": bool(h["advised"]), "short": short, "reason": h["reason"]}
+    return {"advised": h.advised, "short": HARMONIC_SHORT[h.basis], "reason": h.reason}
 
 
 def _row(class_id: str, bmi: float, plan: Plan) -> dict[str, Any]:
     """One habitus class of one view: probe, band, harmonic, tilt, depth, main cautions."""
-    main = [f for f in plan.findings if f["severity"] in LISTED_SEVERITIES]
-    main.sort(key=lambda f: LISTED_SEVERITIES.index(f["severity"]))
+    main = [f for f in plan.findings if f.severity in LISTED_SEVERITIES]
+    main.sort(key=lambda f: LISTED_SEVERITIES.index(f.severity))
     probe = plan.probe
+    band = plan.frequency_mhz
     return {
         "class": class_id, "label": CLASS_LABELS[class_id], "bmi": bmi,
-        "probe": None if probe is None else {k: probe[k] for k in ("id", "label", "type", "fit")},
-        "band_mhz": dict(plan.frequency_mhz), "harmonic": _harmonic(plan),
-        "tilt_deg": plan.tilt.get("max_deviation_deg"), "depth_cm": plan.depth_cm,
+        "probe": None if probe is None else {"id": probe.id, "label": probe.label, "type": probe.type,
+                                             "fit": probe.fit},
+        "band_mhz": {"low": band.low, "high": band.high, "feasible": band.feasible},
+        "harmonic": _harmonic(plan),
+        "tilt_deg": plan.tilt.max_deviation_deg, "depth_cm": plan.depth_cm,
         "displayed_depth_cm": plan.displayed_depth_cm,
-        "warnings": [{k: f[k] for k in ("code", "severity", "title")}
+        "warnings": [{"code": f.code, "severity": f.severity, "title": f.title}
                      for f in main[:MAIN_FINDINGS]],
     }
 

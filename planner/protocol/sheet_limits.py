@@ -35,7 +35,8 @@ def protocol_policy(protocol: Protocol, protocol_path: Any) -> LocalPolicy | Non
 def _limit_row(kind: str, label: str, band: str | None, limit_kind: str,
                minutes: float | None, max_ti: float | None, source: str, status: str,
                planned: float) -> dict[str, Any]:
-    if limit_kind == "limited":
+    within: bool | None
+    if limit_kind == "limited" and minutes is not None:
         within = planned <= minutes
     else:
         within = None if limit_kind == "none" else limit_kind == "unlimited"
@@ -52,7 +53,7 @@ def time_section(protocol: Protocol, ctx: ExamContext, finding, basis: str,
     ``safety.scan_time`` finding, ``local`` the policy given as a file (``None`` when the
     protocol's own limits act as local policy: they get their own row anyway).
     """
-    planned = float(ctx.planned_minutes)
+    planned = float(ctx.planned_minutes or 0.0)
     values = finding.values
     limits = []
     for t in values.get("tables", []):
@@ -66,7 +67,8 @@ def time_section(protocol: Protocol, ctx: ExamContext, finding, basis: str,
                                  "local", planned))
     s = protocol.safety
     if s.max_scan_minutes is not None or s.max_ti is not None:
-        ref = s.max_scan_minutes or s.max_ti
+        ref = s.max_scan_minutes if s.max_scan_minutes is not None else s.max_ti
+        assert ref is not None
         limits.append(_limit_row(
             "protocol", f"protocol {protocol.id}", None,
             "limited" if s.max_scan_minutes is not None else "none",
@@ -95,7 +97,8 @@ def expected_ti_for(protocol: Protocol, local: LocalPolicy | None) -> tuple[floa
         ti = protocol.safety.max_ti
         return float(ti.value), (f"the protocol's highest accepted TI ({ti.source}, {ti.status}): "
                                  "limits are read at the worst case the protocol allows")
-    if local is not None and local.limits_for(protocol.exam_type).max_ti is not None:
-        return (float(local.limits_for(protocol.exam_type).max_ti),
+    local_ti = None if local is None else local.limits_for(protocol.exam_type).max_ti
+    if local is not None and local_ti is not None:
+        return (float(local_ti),
                 f"the highest TI of the {local.label}")
     return None, "none given: the published tables are listed band by band"

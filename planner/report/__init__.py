@@ -4,13 +4,16 @@ from __future__ import annotations
 
 import json
 
+from planner.engine.model import Plan
+
 from planner.report.text import plan_text
 
 
-def render_plan(plan, fmt: str = "text", signoff: dict | None = None) -> str:
+def render_plan(plan: Plan, fmt: str = "text", signoff: dict[str, str] | None = None) -> str:
     """Render a Plan as ``text``, ``json``, ``md`` or ``html`` (sign-off fields for drafts)."""
     if fmt == "json":
-        return json.dumps(plan.to_dict(), sort_keys=True, indent=2, allow_nan=False) + "\n"
+        from planner.engine.serialize import plan_to_json_data
+        return json.dumps(plan_to_json_data(plan), sort_keys=True, indent=2, allow_nan=False) + "\n"
     if fmt == "text":
         return plan_text(plan)
     if fmt in ("md", "html"):

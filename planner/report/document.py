@@ -4,6 +4,7 @@ from __future__ import annotations
 
 from html import escape
 
+from planner.engine.model import Plan
 from planner.references import REFERENCES
 
 DRAFT_BANNER = ("Draft for supervised practice: a student's plan for review and sign-off by a "
@@ -16,68 +17,68 @@ def _cite(key: str) -> str:
     return REFERENCES.get(key, key)
 
 
-def _band(plan) -> str:
+def _band(plan: Plan) -> str:
     f = plan.frequency_mhz
-    if f.get("low") is None:
+    if f.low is None or f.high is None:
         return "no usable band"
-    return f"{f['low']:.1f}-{f['high']:.1f} MHz" + ("" if f.get("feasible") else " (needed detail not reached)")
+    return f"{f.low:.1f}-{f.high:.1f} MHz" + ("" if f.feasible else " (needed detail not reached)")
 
 
-def _summary_rows(plan) -> list[tuple[str, str]]:
+def _summary_rows(plan: Plan) -> list[tuple[str, str]]:
     w = plan.window
-    tilt = (f"within {plan.tilt['max_deviation_deg']:.1f} deg of perpendicular"
-            if plan.tilt.get("max_deviation_deg") is not None else "free (diffuse target)")
+    tilt = (f"within {plan.tilt.max_deviation_deg:.1f} deg of perpendicular"
+            if plan.tilt.max_deviation_deg is not None else "free (diffuse target)")
     return [
-        ("Target", f"{plan.target['name']} ({plan.target['reflector']})"),
-        ("Patient", f"BMI {plan.patient['bmi']:g}, {plan.patient['who_class_label']}"),
-        ("Probe", plan.probe["label"] if plan.probe else "none fits"),
+        ("Target", f"{plan.target.name} ({plan.target.reflector})"),
+        ("Patient", f"BMI {plan.patient.bmi:g}, {plan.patient.who_class_label}"),
+        ("Probe", plan.probe.label if plan.probe else "none fits"),
         ("Band", _band(plan)),
-        ("Harmonic imaging", ("advised: " if plan.harmonic["advised"] else "not advised: ")
-         + plan.harmonic["reason"]),
-        ("Window", f"{w['name']}; {w['position']}; {w['breathing']}"),
+        ("Harmonic imaging", ("advised: " if plan.harmonic.advised else "not advised: ")
+         + plan.harmonic.reason),
+        ("Window", f"{w.name}; {w.position}; {w.breathing}"),
         ("Depth and focus", f"target {plan.depth_cm:.1f} cm (drawn at {plan.displayed_depth_cm:.1f} cm); "
-                            f"display depth {plan.display['display_depth_cm']:.0f} cm, focus "
-                            f"{plan.display['focus_cm']:.1f} cm"),
+                            f"display depth {plan.display.display_depth_cm:.0f} cm, focus "
+                            f"{plan.display.focus_cm:.1f} cm"),
         ("Tilt", tilt),
         ("Index to watch", plan.monitored_index),
     ]
 
 
-def _sources(plan) -> list[str]:
+def _sources(plan: Plan) -> list[str]:
     keys: list[str] = []
     for f in plan.findings + plan.safety:
-        for k in f["sources"]:
+        for k in f.sources:
             if k not in keys:
                 keys.append(k)
     return keys
 
 
-def plan_markdown(plan, signoff: dict | None = None) -> str:
+def plan_markdown(plan: Plan, signoff: dict[str, str] | None = None) -> str:
     """Render a Plan as Markdown (a draft carries the banner and the sign-off block)."""
-    out = [f"# Scan plan: {plan.target['name']}", ""]
+    out = [f"# Scan plan: {plan.target.name}", ""]
     if plan.draft:
         out += [f"> **{DRAFT_BANNER}**", ""]
     out += ["| | |", "|---|---|"] + [f"| {k} | {v} |" for k, v in _summary_rows(plan)] + [""]
     out += ["## Windows, best first", "", "| # | window | usable | loss (dB) | depth (cm) | band (MHz) |",
             "|---|---|---|---|---|---|"]
     for i, win in enumerate(plan.windows, 1):
-        band = win["band_mhz"]
-        band_txt = "-" if not band else f"{band['low']:.1f}-{band['high']:.1f}"
-        out.append(f"| {i} | {win['name']} | {'yes' if win['feasible'] else 'no'} | "
-                   f"{win['round_trip_loss_db']:.1f} | {win['depth_cm']:.1f} | {band_txt} |")
+        band = win.band_mhz
+        band_txt = "-" if not band else f"{band.low:.1f}-{band.high:.1f}"
+        out.append(f"| {i} | {win.name} | {'yes' if win.feasible else 'no'} | "
+                   f"{win.round_trip_loss_db:.1f} | {win.depth_cm:.1f} | {band_txt} |")
     out += ["", "## Findings and the reasons behind them", ""]
     for f in plan.findings:
-        out += [f"### {f['title']} ({f['severity']})", "", f["message"], ""]
-        if f.get("explanation"):
-            out += [f"*Why:* {f['explanation']}", ""]
-        if f.get("sources"):
-            out += ["*Sources:* " + "; ".join(f["sources"]), ""]
+        out += [f"### {f.title} ({f.severity})", "", f.message, ""]
+        if f.explanation:
+            out += [f"*Why:* {f.explanation}", ""]
+        if f.sources:
+            out += ["*Sources:* " + "; ".join(f.sources), ""]
     if plan.doppler:
         from planner.report.doppler_text import doppler_text
         out += ["## Doppler", "", "```", *doppler_text(plan.doppler), "```", ""]
-    out += ["## Safety", ""] + [f"- **{f['title']}**: {f['message']}" for f in plan.safety] + [""]
+    out += ["## Safety", ""] + [f"- **{f.title}**: {f.message}" for f in plan.safety] + [""]
     if plan.validity:
-        out += ["## Outside the validated range", ""] + [f"- {v['message']}" for v in plan.validity] + [""]
+        out += ["## Outside the validated range", ""] + [f"- {v.message}" for v in plan.validity] + [""]
     if plan.pitfalls:
         out += ["## Pitfalls", ""] + [f"- {p}" for p in plan.pitfalls] + [""]
     out += ["## Assumptions", ""] + [f"- {a}" for a in plan.assumptions] + [""]
@@ -97,25 +98,25 @@ table{border-collapse:collapse;margin:.5rem 0}td,th{border:1px solid #bbb;paddin
 .signoff td{height:2rem;min-width:20rem}@media print{body{margin:0}}"""
 
 
-def plan_html(plan, signoff: dict | None = None) -> str:
+def plan_html(plan: Plan, signoff: dict[str, str] | None = None) -> str:
     """Render a Plan as a self-contained, printable HTML page with an inline depth plot."""
     from planner.report.svg import depth_plot_svg
 
     e = escape
     rows = "".join(f"<tr><th>{e(k)}</th><td>{e(v)}</td></tr>" for k, v in _summary_rows(plan))
     wins = "".join(
-        f"<tr><td>{i}</td><td>{e(w['name'])}</td><td>{'yes' if w['feasible'] else 'no'}</td>"
-        f"<td>{w['round_trip_loss_db']:.1f}</td><td>{w['depth_cm']:.1f}</td></tr>"
+        f"<tr><td>{i}</td><td>{e(w.name)}</td><td>{'yes' if w.feasible else 'no'}</td>"
+        f"<td>{w.round_trip_loss_db:.1f}</td><td>{w.depth_cm:.1f}</td></tr>"
         for i, w in enumerate(plan.windows, 1))
     finds = "".join(
-        f"<li class='sev-{f['severity']}'><b>{e(f['title'])}</b> ({f['severity']}): {e(f['message'])}"
-        + (f"<br><small>Why: {e(f['explanation'])}</small>" if f.get("explanation") else "")
-        + (f"<br><small>Sources: {e('; '.join(f['sources']))}</small>" if f.get("sources") else "")
+        f"<li class='sev-{f.severity}'><b>{e(f.title)}</b> ({f.severity}): {e(f.message)}"
+        + (f"<br><small>Why: {e(f.explanation)}</small>" if f.explanation else "")
+        + (f"<br><small>Sources: {e('; '.join(f.sources))}</small>" if f.sources else "")
         + "</li>" for f in plan.findings)
-    safety = "".join(f"<li class='sev-{f['severity']}'><b>{e(f['title'])}</b>: {e(f['message'])}</li>"
+    safety = "".join(f"<li class='sev-{f.severity}'><b>{e(f.title)}</b>: {e(f.message)}</li>"
                      for f in plan.safety)
     refs = "".join(f"<li><b>{e(k)}</b>: {e(_cite(k))}</li>" for k in _sources(plan))
-    body = [f"<h1>Scan plan: {e(plan.target['name'])}</h1>"]
+    body = [f"<h1>Scan plan: {e(plan.target.name)}</h1>"]
     if plan.draft:
         body.append(f"<p class='draft'>{e(DRAFT_BANNER)}</p>")
     body += [f"<table>{rows}</table>", "<h2>Round-trip loss against depth</h2>", depth_plot_svg(plan),
@@ -128,7 +129,7 @@ def plan_html(plan, signoff: dict | None = None) -> str:
     body.append(f"<h2>Safety</h2><ul>{safety}</ul>")
     if plan.validity:
         body.append("<h2>Outside the validated range</h2><ul>"
-                    + "".join(f"<li>{e(v['message'])}</li>" for v in plan.validity) + "</ul>")
+                    + "".join(f"<li>{e(v.message)}</li>" for v in plan.validity) + "</ul>")
     if plan.pitfalls:
         body.append("<h2>Pitfalls</h2><ul>" + "".join(f"<li>{e(p)}</li>" for p in plan.pitfalls) + "</ul>")
     body.append("<h2>Assumptions</h2><ul>" + "".join(f"<li>{e(a)}</li>" for a in plan.assumptions) + "</ul>")
@@ -140,5 +141,5 @@ def plan_html(plan, signoff: dict | None = None) -> str:
             + "</table>")
     body.append(f"<p class='statement'>{e(plan.disclaimer)}</p>")
     return ("<!DOCTYPE html><html lang='en'><head><meta charset='utf-8'>"
-            f"<title>Scan plan: {e(plan.target['name'])}</title><style>{_CSS}</style></head><body>"
+            f"<title>Scan plan: {e(plan.target.name)}</title><style>{_CSS}</style></head><body>"
             + "".join(body) + "</body></html>\n")

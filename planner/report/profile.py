@@ -27,6 +27,7 @@ from typing import Any, Mapping, Sequence
 
 import numpy as np
 
+from planner.engine.model import Plan, PlanLayer
 from planner.physics import attenuation
 from planner.physics.interfaces import intensity_transmission_normal
 
@@ -111,7 +112,7 @@ class LossProfile:
         return float(depth[j - 1] + (self.budget_db - l0) * (depth[j] - depth[j - 1]) / (l1 - l0))
 
 
-def layer_acoustics(layer: Mapping[str, Any]) -> LayerAcoustics:
+def layer_acoustics(layer: Mapping[str, Any] | PlanLayer) -> LayerAcoustics:
     """Acoustic properties of one layer of ``plan.layers``.
 
     A layer that carries ``attenuation_db_per_cm_mhz`` (and optionally
@@ -124,6 +125,10 @@ def layer_acoustics(layer: Mapping[str, Any]) -> LayerAcoustics:
     ValueError
         When the layer has no usable thickness or its tissue is unknown.
     """
+    if isinstance(layer, PlanLayer):
+        return LayerAcoustics(layer.label or layer.tissue, float(layer.thickness_cm),
+                              float(layer.attenuation_db_per_cm_mhz),
+                              float(layer.attenuation_exponent), float(layer.impedance_mrayl))
     thickness = layer.get("thickness_cm")
     if isinstance(thickness, bool) or not isinstance(thickness, (int, float)) \
             or not np.isfinite(thickness) or thickness < 0:
@@ -226,32 +231,12 @@ def _interface_steps_db(layers: Sequence[LayerAcoustics], tops: np.ndarray,
     return steps
 
 
-def plan_budget_db(plan: Mapping[str, Any]) -> float | None:
-    """The signal budget a plan used. [dB]
-
-    Read from the plan's ``budget_db``, else from its findings (``values.budget_db``);
-    when none states it, the engine's budget for the plan's target is used; None if
-    neither is available.
-    """
-    value = plan.get("budget_db")
-    if isinstance(value, (int, float)) and not isinstance(value, bool):
-        return float(value)
-    for finding in plan.get("findings", []) or []:
-        value = (finding.get("values") or {}).get("budget_db")
-        if isinstance(value, (int, float)) and not isinstance(value, bool):
-            return float(value)
-    target_id = (plan.get("target") or {}).get("id")
-    if not target_id:
-        return None
-    try:
-        from planner.engine.assess import signal_budget_db
-        from planner.library.targets import load_library
-        return float(signal_budget_db(load_library().get(target_id)))
-    except Exception:  # noqa: BLE001 - the budget line is optional on the plot
-        return None
+def plan_budget_db(plan: Plan) -> float:
+    """The signal budget the plan used. [dB]"""
+    return float(plan.budget_db)
 
 
-def candidate_frequencies_mhz(plan: Mapping[str, Any]) -> tuple[float, ...]:
+def candidate_frequencies_mhz(plan: Plan) -> tuple[float, ...]:
     """Two or three frequencies worth comparing on the plot. [MHz]
 
     The low and high ends of the recommended band (the high end no higher than the exact
@@ -259,13 +244,11 @@ def candidate_frequencies_mhz(plan: Mapping[str, Any]) -> tuple[float, ...]:
     what the budget forbids). Without a band, the
     window's reach ceiling and the probe's band ends are used.
     """
-    band = plan.get("frequency_mhz") or {}
-    probe = plan.get("probe") or {}
-    probe_band = probe.get("band_mhz") or []
-    window = plan.get("window") or {}
+    band = plan.frequency_mhz
+    probe_band: tuple[float, ...] = plan.probe.band_mhz if plan.probe else ()
     picks: list[float] = []
-    low, high = band.get("low"), band.get("high")
-    ceiling = window.get("reach_ceiling_mhz")
+    low, high = band.low, band.high
+    ceiling = plan.window.reach_ceiling_mhz
     if low and high:
         top = float(high)
         if ceiling and float(ceiling) < top:
@@ -275,9 +258,10 @@ def candidate_frequencies_mhz(plan: Mapping[str, Any]) -> tuple[float, ...]:
         if ceiling:
             picks.append(float(ceiling))
         picks += [float(f) for f in probe_band[:1]]
-    top = float(probe_band[1]) if len(probe_band) > 1 else None
+    top_probe = float(probe_band[1]) if len(probe_band) > 1 else None
     highest = max(picks) if picks else 3.0
-    above = min(top, highest * 1.6) if top is not None and top > highest * 1.1 else highest * 1.6
+    above = min(top_probe, highest * 1.6) if top_probe is not None and top_probe > highest * 1.1 \
+        else highest * 1.6
     picks.append(above)
     out: list[float] = []
     for f in sorted(picks):
@@ -287,21 +271,20 @@ def candidate_frequencies_mhz(plan: Mapping[str, Any]) -> tuple[float, ...]:
     return tuple(out[:3])
 
 
-def plan_loss_profile(plan: Mapping[str, Any], frequencies_mhz: Sequence[float] | None = None,
+def plan_loss_profile(plan: Plan, frequencies_mhz: Sequence[float] | None = None,
                       points: int = 121) -> LossProfile:
-    """The loss profile along a plan's chosen window (``plan.to_dict()`` as input).
+    """The loss profile along a plan's chosen window.
 
     Parameters
     ----------
-    plan : mapping
-        A plan as a dict (needs ``layers``; uses ``frequency_mhz``, ``probe``, ``window``
-        and ``findings`` when present).
+    plan : Plan
+        A typed plan (its ``layers``, band, probe, window and budget are used).
     frequencies_mhz : sequence of float, optional
         Defaults to :func:`candidate_frequencies_mhz`. [MHz]
     points : int
         Number of evenly spaced sample depths.
     """
-    layers = [layer_acoustics(layer) for layer in plan.get("layers") or []]
+    layers = [layer_acoustics(layer) for layer in plan.layers]
     freqs = list(frequencies_mhz) if frequencies_mhz is not None else \
         list(candidate_frequencies_mhz(plan))
     return loss_profile(layers, freqs, budget_db=plan_budget_db(plan), points=points)

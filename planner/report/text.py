@@ -4,6 +4,8 @@ from __future__ import annotations
 
 import textwrap
 
+from planner.engine.model import Plan
+
 SEVERITY_MARK = {"warning": "!!", "caution": "! ", "advice": "> ", "info": "- "}
 
 
@@ -12,62 +14,62 @@ def _wrap(text: str, indent: str = "    ", width: int = 96) -> str:
                          subsequent_indent=" " * len(indent))
 
 
-def _band(plan) -> str:
+def _band(plan: Plan) -> str:
     f = plan.frequency_mhz
-    if f.get("low") is None:
+    if f.low is None or f.high is None:
         return "no usable band"
-    tag = (f"; start at {f['high']:.1f} MHz, the highest that reaches" if f.get("feasible")
+    tag = (f"; start at {f.high:.1f} MHz, the highest that reaches" if f.feasible
            else "  (needed detail NOT reached)")
-    return f"{f['low']:.1f}-{f['high']:.1f} MHz{tag}"
+    return f"{f.low:.1f}-{f.high:.1f} MHz{tag}"
 
 
-def plan_text(plan) -> str:
+def plan_text(plan: Plan) -> str:
     """Render a Plan as plain text."""
     t, p = plan.target, plan.patient
-    lines = []
+    lines: list[str] = []
     if plan.draft:
         lines.append("DRAFT FOR SUPERVISED PRACTICE - to be reviewed and signed off by a supervisor")
-    lines.append(f"{t['name']}  [{t['id']}, {t['reflector']}]")
-    conds = ", ".join(f"{k}:{v}" for k, v in p["conditions"].items()) or "none"
-    lines.append(f"Patient: BMI {p['bmi']:g} ({p['who_class_label']}), conditions: {conds}"
-                 + (f", {p['gestation_weeks']:g} weeks" if p.get("gestation_weeks") else ""))
-    probe = plan.probe["label"] if plan.probe else "none fits"
-    harm = "advised" if plan.harmonic["advised"] else "not advised"
+    lines.append(f"{t.name}  [{t.id}, {t.reflector}]")
+    conds = ", ".join(f"{k}:{v}" for k, v in p.conditions.items()) or "none"
+    lines.append(f"Patient: BMI {p.bmi:g} ({p.who_class_label}), conditions: {conds}"
+                 + (f", {p.gestation_weeks:g} weeks" if p.gestation_weeks else ""))
+    probe = plan.probe.label if plan.probe else "none fits"
+    harm = "advised" if plan.harmonic.advised else "not advised"
     w = plan.window
     lines += [
         "",
         f"  Probe      {probe}",
         f"  Band       {_band(plan)}",
-        f"  Harmonic   {harm}: {plan.harmonic['reason']}",
-        f"  Window     {w['name']} - {w['position']}; {w['breathing']}",
+        f"  Harmonic   {harm}: {plan.harmonic.reason}",
+        f"  Window     {w.name} - {w.position}; {w.breathing}",
         f"  Depth      target {plan.depth_cm:.1f} cm (shown at {plan.displayed_depth_cm:.1f} cm); "
-        f"set depth {plan.display['display_depth_cm']:.0f} cm, focus {plan.display['focus_cm']:.1f} cm",
-        f"  Tilt       " + (f"within {plan.tilt['max_deviation_deg']:.1f} deg of perpendicular"
-                            if plan.tilt["max_deviation_deg"] is not None else "free (diffuse target)"),
+        f"set depth {plan.display.display_depth_cm:.0f} cm, focus {plan.display.focus_cm:.1f} cm",
+        f"  Tilt       " + (f"within {plan.tilt.max_deviation_deg:.1f} deg of perpendicular"
+                            if plan.tilt.max_deviation_deg is not None else "free (diffuse target)"),
         f"  Watch      {plan.monitored_index}",
         "",
         "Windows (best first; loss at "
-        f"{plan.windows[0]['reference_frequency_mhz']:g} MHz):",
+        f"{plan.windows[0].reference_frequency_mhz:g} MHz):",
     ]
     for i, win in enumerate(plan.windows, 1):
-        band = win["band_mhz"]
-        band_txt = f"{band['low']:.1f}-{band['high']:.1f} MHz" if band else "-"
-        lines.append(f"  {i}. {win['name']:<34} {'ok ' if win['feasible'] else 'NO '} "
-                     f"{win['round_trip_loss_db']:5.1f} dB  {win['depth_cm']:5.1f} cm  {band_txt}")
+        band = win.band_mhz
+        band_txt = f"{band.low:.1f}-{band.high:.1f} MHz" if band else "-"
+        lines.append(f"  {i}. {win.name:<34} {'ok ' if win.feasible else 'NO '} "
+                     f"{win.round_trip_loss_db:5.1f} dB  {win.depth_cm:5.1f} cm  {band_txt}")
     lines += ["", "Findings:"]
     for f in plan.findings:
-        lines.append(f"  {SEVERITY_MARK[f['severity']]} {f['title']}")
-        lines.append(_wrap(f["message"]))
+        lines.append(f"  {SEVERITY_MARK[f.severity]} {f.title}")
+        lines.append(_wrap(f.message))
     if plan.doppler:
         from planner.report.doppler_text import doppler_text
         lines += ["", *doppler_text(plan.doppler)]
     lines += ["", f"Safety (monitor {plan.monitored_index}):"]
     for f in plan.safety:
-        lines.append(f"  {SEVERITY_MARK[f['severity']]} {f['title']}")
-        lines.append(_wrap(f["message"]))
+        lines.append(f"  {SEVERITY_MARK[f.severity]} {f.title}")
+        lines.append(_wrap(f.message))
     if plan.validity:
         lines += ["", "Outside the validated range:"]
-        lines += [_wrap(v["message"], "  - ") for v in plan.validity]
+        lines += [_wrap(v.message, "  - ") for v in plan.validity]
     if plan.pitfalls:
         lines += ["", "Pitfalls:"]
         lines += [_wrap(x, "  - ") for x in plan.pitfalls]

@@ -12,7 +12,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 from typing import Any
 
-from planner.findings import Finding
+from planner.findings import Finding, Rule, RuleRegistry
 from planner.safety.context import ExamContext
 from planner.safety.mechanical import mi_findings, ophthalmic_finding, output_ceiling_finding
 from planner.safety.policy import LocalPolicy
@@ -60,15 +60,53 @@ def preferences_finding(ctx: ExamContext, policy: LocalPolicy | None) -> Finding
             text += f" (published: {published:g}, AIUM)"
         parts.append(text)
     parts += list(prefs.notes)
-    sources = (policy.source_key,)
+    sources: tuple[str, ...] = (policy.source_key,)
     if "published_start_ti" in values:
         sources += ("AIUMEarlyDoppler",)
     return Finding("safety.local.preferences", "advice", "Local preferred settings",
                    f"Local practice, {policy.label}: {'; '.join(parts)}.", values, sources)
 
 
+@dataclass(frozen=True, slots=True)
+class SafetyContext:
+    """Inputs of every safety rule: the exam context and the department's local policy."""
+
+    exam: ExamContext
+    policy: LocalPolicy | None = None
+
+
+def _listed(found: Finding | None) -> list[Finding]:
+    return [] if found is None else [found]
+
+
+SAFETY_RULES: RuleRegistry[SafetyContext] = RuleRegistry("safety")
+"""The safety rules in output order; each takes a :class:`SafetyContext`."""
+
+_rule: Rule[SafetyContext]
+for _rule in (
+    Rule("safety.alara", "safety", "every exam", lambda c: [alara_finding(c.exam)]),
+    Rule("safety.index", "safety", "every exam", lambda c: [index_finding(c.exam)]),
+    Rule("safety.scan_time", "safety", "every exam", lambda c: [scan_time_finding(c.exam, c.policy)]),
+    Rule("safety.doppler_near_bone", "safety", "Doppler with bone near the focus",
+         lambda c: _listed(doppler_bone_finding(c.exam))),
+    Rule("safety.early_pregnancy_doppler", "safety", "Doppler in early pregnancy (published or local)",
+         lambda c: doppler_findings(c.exam, c.policy)),
+    Rule("safety.febrile", "safety", "febrile patients", lambda c: _listed(febrile_finding(c.exam))),
+    Rule("safety.pregnancy_possible", "safety", "exams where a pregnancy is possible",
+         lambda c: _listed(pregnancy_possible_finding(c.exam))),
+    Rule("safety.mi", "safety", "gas in the beam, contrast agents or a stated MI",
+         lambda c: mi_findings(c.exam, c.policy)),
+    Rule("safety.ophthalmic", "safety", "ophthalmic exams",
+         lambda c: _listed(ophthalmic_finding(c.exam, c.policy))),
+    Rule("safety.local.preferences", "safety", "exams with local preferred settings",
+         lambda c: _listed(preferences_finding(c.exam, c.policy)), lambda c: c.policy is not None),
+    Rule("safety.output_ceiling", "safety", "every exam", lambda c: [output_ceiling_finding(c.exam)]),
+):
+    SAFETY_RULES.add(_rule)
+
+
 def safety_findings(ctx: ExamContext, policy: LocalPolicy | None = None) -> list[Finding]:
-    """Return every safety finding for ``ctx``: ALARA, the index to watch, then each rule.
+    """Return every safety finding for ``ctx``: the safety registry run in order.
 
     Parameters
     ----------
@@ -86,14 +124,7 @@ def safety_findings(ctx: ExamContext, policy: LocalPolicy | None = None) -> list
         ``safety.mi.*``, ``safety.ophthalmic``, ``safety.local.preferences``, and
         ``safety.output_ceiling`` last.
     """
-    found: list[Finding | None] = [
-        alara_finding(ctx), index_finding(ctx), scan_time_finding(ctx, policy),
-        doppler_bone_finding(ctx), *doppler_findings(ctx, policy), febrile_finding(ctx),
-        pregnancy_possible_finding(ctx), *mi_findings(ctx, policy),
-        ophthalmic_finding(ctx, policy), preferences_finding(ctx, policy),
-        output_ceiling_finding(ctx),
-    ]
-    return [f for f in found if f is not None]
+    return SAFETY_RULES.run(SafetyContext(ctx, policy))
 
 
 @dataclass(frozen=True)

@@ -14,7 +14,7 @@ AIUM2023Lung, TerHaar2009, FDA2019Track3, KingLiuHarris2017, Abramowicz2009, WFU
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from functools import lru_cache
 from typing import Any
 
@@ -89,7 +89,8 @@ class TimeTable:
         """
         best: float | None = None
         for row in self.rows:
-            if row.kind == "unlimited" or (row.kind == "limited" and row.max_minutes >= minutes):
+            if row.kind == "unlimited" or (row.kind == "limited" and row.max_minutes is not None
+                                          and row.max_minutes >= minutes):
                 best = row.ti_up_to if row.ti_up_to is not None else math.inf
             else:
                 break
@@ -162,13 +163,17 @@ class SafetyData:
     tables: dict[str, TimeTable]
     groups: dict[str, tuple[str, tuple[str, ...]]]
     validity: dict[str, ValidityRange]
+    _values: dict[str, Sourced] = field(default_factory=dict, repr=False, compare=False)
 
     def value(self, dotted: str) -> Sourced:
-        """Return the sourced value at a dotted path, e.g. ``"ophthalmic.max_mi"``."""
-        node: Any = self.raw
-        for part in dotted.split("."):
-            node = node[part]
-        return sourced_from_mapping(node, dotted)
+        """Return the sourced value at a dotted path, e.g. ``"ophthalmic.max_mi"`` (parsed once)."""
+        found = self._values.get(dotted)
+        if found is None:
+            node: Any = self.raw
+            for part in dotted.split("."):
+                node = node[part]
+            found = self._values[dotted] = sourced_from_mapping(node, dotted)
+        return found
 
     def group_tables(self, group: str) -> tuple[TimeTable, ...]:
         """Return the published tables of a scan-time group (BMUS first, then AIUM)."""

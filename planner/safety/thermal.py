@@ -185,12 +185,12 @@ def _without_ti(ctx: ExamContext, tables: tuple[TimeTable, ...], label: str, ind
     return message
 
 
-def _with_ti(ctx: ExamContext, tables: tuple[TimeTable, ...], label: str, index: str,
+def _with_ti(ctx: ExamContext, ti: float, tables: tuple[TimeTable, ...], label: str, index: str,
              reduction: float, approaching: float,
              values: dict[str, Any]) -> tuple[str, str, float | None]:
     """Compare the planned time with the stricter published limit; return (message, severity,
     published limit [min])."""
-    entries = [_table_limit(t, ctx.expected_ti, reduction) for t in tables]
+    entries = [_table_limit(t, ti, reduction) for t in tables]
     blocked = [e for e in entries if e["kind"] == "not_recommended"]
     timed = [e for e in entries if e["kind"] == "limited"]
     if blocked:
@@ -201,7 +201,7 @@ def _with_ti(ctx: ExamContext, tables: tuple[TimeTable, ...], label: str, index:
     values.update(tables=entries, published_limit_min=published,
                   published_limit_kind=strict["kind"], published_source=strict["source"],
                   published_status=strict["status"])
-    message = (f"Expected {index} {number_text(ctx.expected_ti)}, limits for {label}: "
+    message = (f"Expected {index} {number_text(ti)}, limits for {label}: "
                f"{'; '.join(_limit_text(e) for e in entries)}.")
     if reduction:
         message += f" Times cut by {reduction:.0%} for pulsed Doppler with bone near the focus."
@@ -252,10 +252,10 @@ def scan_time_finding(ctx: ExamContext, policy: LocalPolicy | None = None) -> Fi
         if ctx.expected_ti is None:
             message = _without_ti(ctx, tables, label, index, reduction)
         else:
-            message, severity, published = _with_ti(ctx, tables, label, index, reduction,
-                                                    approaching, values)
+            message, severity, published = _with_ti(ctx, ctx.expected_ti, tables, label, index,
+                                                    reduction, approaching, values)
     local_text, local_severity = _local_part(ctx, policy, values, published, approaching)
-    if local_text:
+    if local_text and policy is not None:
         sources.append(policy.source_key)
     return Finding("safety.scan_time", _worst(severity, local_severity),
                    f"Scan time at the expected {index}", message + local_text, values,

@@ -15,6 +15,7 @@ source and status.
 from __future__ import annotations
 
 import math
+from dataclasses import dataclass
 from typing import Any
 
 from planner.errors import InputError
@@ -96,10 +97,22 @@ def check_inputs(*, bmi: float | None = None, wall_mm: float | None = None,
         _check_one(name, value)
 
 
+@dataclass(frozen=True, slots=True)
+class ValidityFlag:
+    """An input outside the model's validated range (``source`` a REFERENCES key)."""
+
+    parameter: str
+    value: float
+    valid_range: tuple[float, float]
+    message: str
+    source: str
+    status: str
+
+
 def validity_flags(*, bmi: float | None = None, wall_mm: float | None = None,
                    depth_cm: float | None = None, frequency_mhz: float | None = None,
                    gestation_weeks: float | None = None,
-                   expected_ti: float | None = None) -> list[dict[str, Any]]:
+                   expected_ti: float | None = None) -> list[ValidityFlag]:
     """Return one flag per input outside the model's validated range.
 
     Parameters are those of :func:`check_inputs`; impossible values raise
@@ -107,12 +120,12 @@ def validity_flags(*, bmi: float | None = None, wall_mm: float | None = None,
 
     Returns
     -------
-    list of dict
-        Each ``{"parameter", "value", "valid_range": [lo, hi], "message", "source",
-        "status"}``; empty when every given input lies inside its validated range.
+    list of ValidityFlag
+        Each with ``parameter``, ``value``, ``valid_range`` (lo, hi), ``message``, ``source``,
+        ``status``; empty when every given input lies inside its validated range.
         ``source`` is a key of :data:`planner.references.REFERENCES`.
     """
-    flags: list[dict[str, Any]] = []
+    flags: list[ValidityFlag] = []
     for name, value in _given(dict(bmi=bmi, wall_mm=wall_mm, depth_cm=depth_cm,
                                    frequency_mhz=frequency_mhz, gestation_weeks=gestation_weeks,
                                    expected_ti=expected_ti)).items():
@@ -122,14 +135,10 @@ def validity_flags(*, bmi: float | None = None, wall_mm: float | None = None,
         if lo <= number <= hi:
             continue
         side = "below" if number < lo else "above"
-        flags.append({
-            "parameter": name,
-            "value": number,
-            "valid_range": [lo, hi],
-            "message": (f"{PARAMETERS[name]} {number:g} is {side} the range the model is "
-                        f"validated for ({lo:g} to {hi:g}); results are extrapolated and "
-                        f"less reliable"),
-            "source": rng.valid.source,
-            "status": rng.valid.status,
-        })
+        flags.append(ValidityFlag(
+            parameter=name, value=number, valid_range=(lo, hi),
+            message=(f"{PARAMETERS[name]} {number:g} is {side} the range the model is "
+                     f"validated for ({lo:g} to {hi:g}); results are extrapolated and "
+                     f"less reliable"),
+            source=rng.valid.source, status=rng.valid.status))
     return flags

@@ -6,9 +6,14 @@ Severity is always written as a word, so it reads the same without colour (NO_CO
 
 from __future__ import annotations
 
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 from textual.markup import escape
+
+from planner.findings import Finding
+
+if TYPE_CHECKING:  # the engine loads after the first paint
+    from planner.engine.model import HarmonicDecision, Plan
 
 SEVERITY_STYLE: dict[str, str] = {
     "warning": "bold $error",
@@ -89,80 +94,74 @@ def value_rows(values: dict[str, Any]) -> list[tuple[str, str]]:
     return rows
 
 
-def band_text(plan: dict) -> str:
+def band_text(plan: Plan) -> str:
     """The recommended band, or what is wrong with it."""
-    band = plan.get("frequency_mhz") or {}
-    low, high = band.get("low"), band.get("high")
+    band = plan.frequency_mhz
+    low, high = band.low, band.high
     if low is None or high is None:
         return "[bold $error]no usable band[/]"
     text = f"[b]{low:.1f}–{high:.1f} MHz[/b]"
-    if not band.get("feasible", True):
+    if not band.feasible:
         text += "  [bold $error]needed detail NOT reached[/]"
     return text
 
 
-def patient_text(plan: dict) -> str:
+def patient_text(plan: Plan) -> str:
     """One line: BMI with its WHO class, conditions, gestation."""
-    p = plan.get("patient") or {}
-    bmi = p.get("bmi")
-    text = f"BMI {bmi:g} ({escape(str(p.get('who_class_label', '')))})" if bmi else "BMI not given"
-    if not p.get("bmi_given", True):
+    p = plan.patient
+    text = f"BMI {p.bmi:g} ({escape(p.who_class_label)})" if p.bmi else "BMI not given"
+    if not p.bmi_given:
         text += " [i]assumed[/i]"
-    conds = p.get("conditions") or {}
-    if conds:
-        text += " · " + ", ".join(f"{escape(k.replace('_', ' '))} {v}" for k, v in conds.items())
-    if p.get("gestation_weeks"):
-        text += f" · {p['gestation_weeks']:g} weeks"
+    if p.conditions:
+        text += " · " + ", ".join(f"{escape(k.replace('_', ' '))} {v}" for k, v in p.conditions.items())
+    if p.gestation_weeks:
+        text += f" · {p.gestation_weeks:g} weeks"
     return text
 
 
-def tilt_text(plan: dict) -> str:
+def tilt_text(plan: Plan) -> str:
     """The tilt tolerance in a few words."""
-    tilt = plan.get("tilt") or {}
-    deviation = tilt.get("max_deviation_deg")
-    if deviation is None:
+    tilt = plan.tilt
+    if tilt.max_deviation_deg is None:
         return "free (diffuse target: choose the tilt for the window)"
-    parts = [f"within {deviation:.1f}° of perpendicular"]
-    if tilt.get("scan_plane_deg") is not None and tilt.get("elevation_plane_deg") is not None:
-        parts.append(f"(scan plane {tilt['scan_plane_deg']:.1f}°, "
-                     f"elevation {tilt['elevation_plane_deg']:.1f}°)")
+    parts = [f"within {tilt.max_deviation_deg:.1f}° of perpendicular"]
+    if tilt.scan_plane_deg is not None and tilt.elevation_plane_deg is not None:
+        parts.append(f"(scan plane {tilt.scan_plane_deg:.1f}°, "
+                     f"elevation {tilt.elevation_plane_deg:.1f}°)")
     return " ".join(parts)
 
 
-def summary_rows(plan: dict) -> list[tuple[str, str]]:
+def summary_rows(plan: Plan) -> list[tuple[str, str]]:
     """The summary card as ``(label, markup)`` rows: what to pick up and how to set it."""
-    target, window = plan.get("target") or {}, plan.get("window") or {}
-    probe, harmonic = plan.get("probe"), plan.get("harmonic") or {}
-    display = plan.get("display") or {}
-    n = len(plan.get("windows") or [])
+    target, window, probe, display = plan.target, plan.window, plan.probe, plan.display
+    n = len(plan.windows)
     rows = [
-        ("Target", f"[b]{escape(target.get('name', '?'))}[/b] · {escape(str(target.get('reflector', '')))}"
-                   f" · detail {target.get('detail_mm', 0):g} mm"),
+        ("Target", f"[b]{escape(target.name)}[/b] · {escape(target.reflector)}"
+                   f" · detail {target.detail_mm:g} mm"),
         ("Patient", patient_text(plan)),
         ("Band", band_text(plan)),
-        ("Probe", escape(probe["label"]) + (f" ({escape(probe['fit'])})" if probe.get("fit") not in
-                                            (None, "fits") else "") if probe else
-         "[bold $error]no probe in the inventory fits[/]"),
-        ("Harmonic", ("[b]advised[/b]" if harmonic.get("advised") else "not advised")
-         + _harmonic_band(harmonic)),
-        ("Window", f"[b]{escape(window.get('name', '?'))}[/b]" + (f" (best of {n})" if n > 1 else "")),
-        ("Position", escape(f"{window.get('position', '')}; {window.get('breathing', '')}")),
-        ("Depth", f"target {plan.get('depth_cm', 0):.1f} cm (shown {plan.get('displayed_depth_cm', 0):.1f})"
-                  f" · set {display.get('display_depth_cm', 0):.0f} cm · focus {display.get('focus_cm', 0):.1f} cm"),
+        ("Probe", escape(probe.label) + (f" ({escape(probe.fit)})" if probe.fit != "fits" else "")
+         if probe else "[bold $error]no probe in the inventory fits[/]"),
+        ("Harmonic", ("[b]advised[/b]" if plan.harmonic.advised else "not advised")
+         + _harmonic_band(plan.harmonic)),
+        ("Window", f"[b]{escape(window.name)}[/b]" + (f" (best of {n})" if n > 1 else "")),
+        ("Position", escape(f"{window.position}; {window.breathing}")),
+        ("Depth", f"target {plan.depth_cm:.1f} cm (shown {plan.displayed_depth_cm:.1f})"
+                  f" · set {display.display_depth_cm:.0f} cm · focus {display.focus_cm:.1f} cm"),
         ("Tilt", escape(tilt_text(plan))),
-        ("Watch", f"[b]{escape(str(plan.get('monitored_index', '')))}[/b] on the display · ALARA"),
+        ("Watch", f"[b]{escape(plan.monitored_index)}[/b] on the display · ALARA"),
     ]
     return rows
 
 
-def _harmonic_band(harmonic: dict) -> str:
-    band = harmonic.get("transmit_mhz") or {}
-    if harmonic.get("advised") and band.get("low") is not None:
-        return f": transmit {band['low']:.1f}–{band['high']:.1f} MHz"
+def _harmonic_band(harmonic: HarmonicDecision) -> str:
+    band = harmonic.transmit_mhz
+    if harmonic.advised and band is not None:
+        return f": transmit {band.low:.1f}–{band.high:.1f} MHz"
     return ""
 
 
-def finding_markup(finding: dict) -> str:
+def finding_markup(finding: Finding) -> str:
     """A finding as an option: tag and title, then the message."""
-    return (f"{severity_tag(finding.get('severity', 'info'))} [b]{escape(finding.get('title', ''))}[/b]\n"
-            f"{escape(finding.get('message', ''))}")
+    return (f"{severity_tag(finding.severity)} [b]{escape(finding.title)}[/b]\n"
+            f"{escape(finding.message)}")

@@ -6,6 +6,8 @@ from typing import Any
 
 from textual.message import Message
 
+from planner.findings import Finding
+
 
 class InputsEdited(Message):
     """Any input of the plan changed (the screen reads the whole form and recomputes)."""
@@ -22,7 +24,7 @@ class TargetPicked(Message):
 class FindingOpened(Message):
     """The user asked for the explanation of a finding."""
 
-    def __init__(self, finding: dict[str, Any]) -> None:
+    def __init__(self, finding: Finding) -> None:
         super().__init__()
         self.finding = finding
 

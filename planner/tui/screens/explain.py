@@ -2,17 +2,15 @@
 
 from __future__ import annotations
 
-from typing import Any
-
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Vertical, VerticalScroll
 from textual.markup import escape
 from textual.widgets import Static
 
-from planner.tui.screens.closing import OnceModal
-
+from planner.findings import Finding
 from planner.tui.format import severity_tag, value_rows
+from planner.tui.screens.closing import OnceModal
 
 NO_FORMULA = ("No formula: this item states published guidance or common practice; the "
               "sources below say where it comes from.")
@@ -29,12 +27,12 @@ def source_lines(keys: list[str]) -> list[str]:
     return lines
 
 
-def explanation_markup(finding: dict[str, Any]) -> str:
+def explanation_markup(finding: Finding) -> str:
     """Everything a student and a supervisor need to check one finding."""
-    parts = [f"{severity_tag(finding.get('severity', 'info'))} [b]{escape(finding.get('title', ''))}[/b]"
-             f"  [$text-muted]{escape(finding.get('code', ''))}[/]",
-             "", escape(finding.get("message", "")), ""]
-    rows = value_rows(finding.get("values") or {})
+    parts = [f"{severity_tag(finding.severity)} [b]{escape(finding.title)}[/b]"
+             f"  [$text-muted]{escape(finding.code)}[/]",
+             "", escape(finding.message), ""]
+    rows = value_rows(dict(finding.values))
     parts.append("[b]The numbers[/b]")
     if rows:
         width = min(max(len(label) for label, _ in rows), 28)
@@ -42,8 +40,8 @@ def explanation_markup(finding: dict[str, Any]) -> str:
     else:
         parts.append("  (none: this item has no computed values)")
     parts += ["", "[b]How it is worked out[/b]",
-              "  " + escape(finding.get("explanation") or NO_FORMULA), "", "[b]Sources[/b]"]
-    parts += source_lines(list(finding.get("sources") or [])) or ["  (none given)"]
+              "  " + escape(finding.explanation or NO_FORMULA), "", "[b]Sources[/b]"]
+    parts += source_lines(list(finding.sources)) or ["  (none given)"]
     parts += ["", "[$text-muted]Decision support: defers to local protocols and licensed "
                   "practice.[/]"]
     return "\n".join(parts)
@@ -54,7 +52,7 @@ class ExplainScreen(OnceModal[None]):
 
     BINDINGS = [Binding("escape,enter", "close", "Close", show=True)]
 
-    def __init__(self, finding: dict[str, Any]) -> None:
+    def __init__(self, finding: Finding) -> None:
         super().__init__()
         self.finding = finding
 

@@ -140,7 +140,7 @@ class PlanningScreen(Screen):
         self.outcome = outcome
         unplaced = panel.show_problems(outcome.problems)
         if outcome.plan is not None:
-            plan = outcome.plan.to_dict()
+            plan = outcome.plan
             try:
                 pane.show_plan(plan)
             except Exception as exc:  # noqa: BLE001 - a display bug must not end the session
@@ -148,11 +148,11 @@ class PlanningScreen(Screen):
                 outcome.plan = None
         if outcome.plan is not None:
             self.plan = outcome.plan
-            band = plan["frequency_mhz"]
-            band_text = (f"{band['low']:.1f}–{band['high']:.1f} MHz" if band.get("low") is not None
-                         else "no usable band")
+            band = plan.frequency_mhz
+            band_text = (f"{band.low:.1f}–{band.high:.1f} MHz"
+                         if band.low is not None and band.high is not None else "no usable band")
             pane.show_status(f"[$success]✓[/] [b]{band_text}[/b] · "
-                             f"{escape(plan['window']['name'])}")
+                             f"{escape(plan.window.name)}")
         else:
             names = ", ".join(FIELD_LABELS.get(k, k) for k in outcome.problems)
             detail = outcome.message or "; ".join(f"{k}: {v}" for k, v in unplaced.items())

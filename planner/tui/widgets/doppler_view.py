@@ -2,11 +2,19 @@
 
 from __future__ import annotations
 
-from typing import Any
+from collections.abc import Sequence
+from typing import TYPE_CHECKING, Any
 
+from textual.app import ComposeResult
 from textual.containers import VerticalScroll
 from textual.markup import escape
 from textual.widgets import Static
+
+if TYPE_CHECKING:  # the engine loads after the first paint
+    from planner.engine.doppler_model import (DopplerPlan, NyquistCell, SourcedValue, Threshold,
+                                              VesselSummary)
+    from planner.engine.model import Plan
+
 
 NO_DOPPLER = ("No Doppler section. Tick a Doppler mode (colour, power or pulsed) under "
               "Exam → Modes; vessel targets then get the Nyquist limit at their depth, the "
@@ -19,35 +27,27 @@ def _num(value: Any, digits: int = 0) -> str:
     return f"{value:.{digits}f}" if digits else f"{value:g}" if abs(value) < 10 else f"{value:.0f}"
 
 
-def _sourced(record: Any) -> tuple[str, str]:
-    """``(value, 'Source, status')`` of a ``{value, source, status}`` record."""
-    if isinstance(record, dict):
-        status = str(record.get("status", "")).replace("_", " ")
-        return _num(record.get("value")), f"{record.get('source', '?')}, {status}"
-    return _num(record), ""
+def _sourced(record: SourcedValue | Threshold) -> tuple[str, str]:
+    """``(value, 'Source, status')`` of a sourced record."""
+    return _num(record.value), f"{record.source}, {record.status.replace('_', ' ')}"
 
 
-def _expected_lines(vessel: dict) -> list[str]:
-    lines = []
-    expected = vessel.get("expected_cm_s") or {}
-    if expected:
-        (low, low_src), (high, high_src) = _sourced(expected.get("low")), \
-            _sourced(expected.get("high"))
-        lines.append(f"Expected [b]{low}–{high} cm/s[/b] [$text-muted]({escape(low_src)}; "
-                     f"{escape(high_src)})[/]")
-    for threshold in vessel.get("thresholds") or []:
+def _expected_lines(vessel: VesselSummary) -> list[str]:
+    (low, low_src), (high, high_src) = _sourced(vessel.expected_cm_s.low), \
+        _sourced(vessel.expected_cm_s.high)
+    lines = [f"Expected [b]{low}–{high} cm/s[/b] [$text-muted]({escape(low_src)}; "
+             f"{escape(high_src)})[/]"]
+    for threshold in vessel.thresholds:
         value, source = _sourced(threshold)
-        lines.append(f"  {escape(str(threshold.get('label', '')))}: {value} cm/s "
+        lines.append(f"  {escape(threshold.label)}: {value} cm/s "
                      f"[$text-muted]({escape(source)})[/]")
     return lines
 
 
-def _nyquist_lines(table: list[dict]) -> list[str]:
+def _nyquist_lines(table: Sequence[NyquistCell]) -> list[str]:
     by_freq: dict[float, list[tuple[float, float]]] = {}
     for row in table:
-        if isinstance(row, dict):
-            by_freq.setdefault(row.get("frequency_mhz"), []).append(
-                (row.get("angle_deg"), row.get("v_max_cm_s")))
+        by_freq.setdefault(row.frequency_mhz, []).append((row.angle_deg, row.v_max_cm_s))
     lines = []
     for freq, cells in by_freq.items():
         angles = "/".join(_num(a) for a, _ in cells)
@@ -56,50 +56,44 @@ def _nyquist_lines(table: list[dict]) -> list[str]:
     return lines
 
 
-def doppler_markup(doppler: dict[str, Any] | None) -> str:
+def doppler_markup(doppler: DopplerPlan | None) -> str:
     """The Doppler section of a plan as markup (a note when there is none)."""
-    if not doppler:
+    if doppler is None:
         return escape(NO_DOPPLER)
-    vessel = doppler.get("vessel") or {}
-    kind = ", ".join(str(vessel[k]) for k in ("flow", "quantity") if vessel.get(k))
-    lines = [f"[b]{escape(str(vessel.get('name', 'Vessel')))}[/b]"
-             + (f" [$text-muted]({escape(kind)})[/]" if kind else "")]
+    vessel = doppler.vessel
+    kind = ", ".join(v for v in (vessel.flow, vessel.quantity) if v)
+    lines = [f"[b]{escape(vessel.name)}[/b]" + (f" [$text-muted]({escape(kind)})[/]" if kind else "")]
     lines += _expected_lines(vessel)
-    lines.append(f"Depth {_num(doppler.get('depth_cm'), 1)} cm · range-limited PRF up to "
-                 f"{_num(doppler.get('prf_max_hz'))} Hz")
-    rec = doppler.get("recommended") or {}
-    if rec:
-        lines.append(f"[b]Set {_num(rec.get('frequency_mhz'))} MHz at {_num(rec.get('angle_deg'))}°"
-                     f"[/b]: no aliasing up to {_num(rec.get('v_max_cm_s'))} cm/s")
-        if rec.get("how"):
-            lines.append(f"  {escape(str(rec['how']))}")
-    error = doppler.get("velocity_error_percent") or {}
-    if error:
-        plus, minus = error.get("plus_5_deg"), error.get("minus_5_deg")
-        if isinstance(plus, (int, float)) and isinstance(minus, (int, float)):
-            lines.append(f"Velocity error if the angle is off by +5°: {plus:+.1f} %, "
-                         f"by −5°: {minus:+.1f} %")
-    if doppler.get("aliasing_expected"):
-        margin = doppler.get("margin") or {}
-        lines.append(f"[bold $error]ALIASING EXPECTED[/]: {_num(margin.get('design_velocity_cm_s'))}"
-                     f" cm/s against a limit of {_num(margin.get('v_max_cm_s'))} cm/s")
-    elif "aliasing_expected" in doppler:
+    lines.append(f"Depth {_num(doppler.depth_cm, 1)} cm · range-limited PRF up to "
+                 f"{_num(doppler.prf_max_hz)} Hz")
+    rec = doppler.recommended
+    lines.append(f"[b]Set {_num(rec.frequency_mhz)} MHz at {_num(rec.angle_deg)}°"
+                 f"[/b]: no aliasing up to {_num(rec.v_max_cm_s)} cm/s")
+    if rec.how:
+        lines.append(f"  {escape(rec.how)}")
+    plus, minus = doppler.velocity_error_percent.plus_5_deg, doppler.velocity_error_percent.minus_5_deg
+    if plus is not None and minus is not None:
+        lines.append(f"Velocity error if the angle is off by +5°: {plus:+.1f} %, "
+                     f"by −5°: {minus:+.1f} %")
+    if doppler.aliasing_expected:
+        margin = doppler.margin
+        lines.append(f"[bold $error]ALIASING EXPECTED[/]: {_num(margin.design_velocity_cm_s)}"
+                     f" cm/s against a limit of {_num(margin.v_max_cm_s)} cm/s")
+    else:
         lines.append("[bold $success]No aliasing expected[/] at the recommended setting")
-    remedies = [r for r in doppler.get("remedies") or [] if isinstance(r, dict)]
-    if remedies:
+    if doppler.remedies:
         lines.append("[b]Remedies[/b] (each recomputed with the change applied)")
-        for index, remedy in enumerate(remedies, 1):
-            verdict = ("removes aliasing" if remedy.get("removes_aliasing")
+        for index, remedy in enumerate(doppler.remedies, 1):
+            verdict = ("removes aliasing" if remedy.removes_aliasing
                        else "[$warning]not enough alone[/]")
-            lines.append(f"  {index}. {escape(str(remedy.get('text') or remedy.get('action', '')))}"
-                         f": {verdict}" + (f" [$text-muted]({escape(str(remedy['cost']))})[/]"
-                                           if remedy.get("cost") else ""))
-    table = doppler.get("nyquist") or []
-    if table:
+            lines.append(f"  {index}. {escape(remedy.text or remedy.action)}"
+                         f": {verdict}" + (f" [$text-muted]({escape(remedy.cost)})[/]"
+                                           if remedy.cost else ""))
+    if doppler.nyquist:
         lines.append("[b]Nyquist limit at this depth[/b]")
-        lines += _nyquist_lines(table)
-    if doppler.get("sources"):
-        lines.append(f"[$text-muted]Sources: {escape(', '.join(map(str, doppler['sources'])))}"
+        lines += _nyquist_lines(doppler.nyquist)
+    if doppler.sources:
+        lines.append(f"[$text-muted]Sources: {escape(', '.join(doppler.sources))}"
                      " (full citations: F3, Enter on a Doppler finding)[/]")
     return "\n".join(lines)
 
@@ -107,9 +101,9 @@ def doppler_markup(doppler: dict[str, Any] | None) -> str:
 class DopplerView(VerticalScroll):
     """Shows :func:`doppler_markup` of the plan."""
 
-    def compose(self):
+    def compose(self) -> ComposeResult:
         yield Static(escape(NO_DOPPLER), id="doppler-text")
 
-    def show_plan(self, plan: dict) -> None:
-        """Show the Doppler part of ``plan`` (a plan as a dict)."""
-        self.query_one("#doppler-text", Static).update(doppler_markup(plan.get("doppler")))
+    def show_plan(self, plan: Plan) -> None:
+        """Show the Doppler part of ``plan``."""
+        self.query_one("#doppler-text", Static).update(doppler_markup(plan.doppler))

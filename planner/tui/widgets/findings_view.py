@@ -6,15 +6,17 @@ from textual.binding import Binding
 from textual.widgets import OptionList
 from textual.widgets.option_list import Option
 
-from planner.findings import SEVERITIES
+from collections.abc import Sequence
+
+from planner.findings import SEVERITIES, Finding
 from planner.tui.format import finding_markup
 from planner.tui.messages import FindingOpened
 
 
-def by_severity(findings: list[dict]) -> list[dict]:
+def by_severity(findings: Sequence[Finding]) -> list[Finding]:
     """Most severe first, keeping the engine's order within a severity."""
     rank = {s: i for i, s in enumerate(SEVERITIES)}
-    return sorted(findings, key=lambda f: -rank.get(f.get("severity", "info"), 0))
+    return sorted(findings, key=lambda f: -rank.get(f.severity, 0))
 
 
 class FindingList(OptionList):
@@ -24,10 +26,10 @@ class FindingList(OptionList):
 
     def __init__(self, *, id: str) -> None:
         super().__init__(id=id)
-        self.findings: list[dict] = []
+        self.findings: list[Finding] = []
 
-    def set_findings(self, findings: list[dict]) -> None:
-        """Show ``findings`` (dicts of a plan), keeping the highlighted one when it remains."""
+    def set_findings(self, findings: Sequence[Finding]) -> None:
+        """Show ``findings`` of a plan, keeping the highlighted one when it remains."""
         old = self.highlighted
         self.findings = by_severity(findings)
         self.clear_options()
@@ -40,7 +42,7 @@ class FindingList(OptionList):
         if self.findings:
             self.highlighted = min(old or 0, self.option_count - 1)
 
-    def highlighted_finding(self) -> dict | None:
+    def highlighted_finding(self) -> Finding | None:
         """The finding under the cursor, if any."""
         if self.highlighted is None:
             return None

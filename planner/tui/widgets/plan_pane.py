@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
 from textual.app import ComposeResult
 from textual.containers import Vertical
 from textual.markup import escape
@@ -13,6 +15,9 @@ from planner.tui.widgets.profile_plot import DepthProfile
 from planner.tui.widgets.safety_view import SafetyView
 from planner.tui.widgets.summary_view import PlanSummary
 
+if TYPE_CHECKING:  # the engine loads after the first paint
+    from planner.engine.model import Plan
+
 VIEWS: dict[str, str] = {"plan": "Plan", "findings": "Findings", "safety": "Safety",
                          "depth": "Depth", "doppler": "Doppler"}
 """View id -> tab label, in tab order (F2 to F6)."""
@@ -23,7 +28,7 @@ class PlanPane(Vertical):
 
     def __init__(self) -> None:
         super().__init__(id="plan-pane")
-        self.plan: dict | None = None
+        self.plan: Plan | None = None
         self._stale: set[str] = set()
         self._status = ""
 
@@ -42,7 +47,7 @@ class PlanPane(Vertical):
             with TabPane(VIEWS["doppler"], id="doppler"):
                 yield DopplerView(id="doppler-view")
 
-    def show_plan(self, plan: dict) -> None:
+    def show_plan(self, plan: Plan) -> None:
         """Show a freshly computed plan: now in the visible view, the others when shown."""
         self.plan = plan
         self._stale = set(VIEWS)
@@ -58,7 +63,7 @@ class PlanPane(Vertical):
         if view == "plan":
             self.query_one(PlanSummary).show_plan(plan)
         elif view == "findings":
-            self.query_one("#findings-list", FindingList).set_findings(plan.get("findings") or [])
+            self.query_one("#findings-list", FindingList).set_findings(plan.findings)
         elif view == "safety":
             self.query_one(SafetyView).show_plan(plan)
         elif view == "depth":

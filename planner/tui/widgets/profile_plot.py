@@ -6,10 +6,18 @@ shown, so that it costs nothing at start-up.
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING, Any
+
 from textual.app import ComposeResult
 from textual.containers import Vertical
 from textual.markup import escape
 from textual.widgets import Static
+
+if TYPE_CHECKING:
+    from textual_plotext import PlotextPlot
+
+    from planner.engine.model import Plan
+    from planner.report.profile import LossProfile
 
 MARKERS: tuple[str, ...] = ("braille", "•", "x")
 """One marker per curve, so the curves stay apart without colour (NO_COLOR)."""
@@ -47,15 +55,15 @@ class DepthProfile(Vertical):
 
     def __init__(self, *, id: str) -> None:
         super().__init__(id=id)
-        self.plan: dict | None = None
-        self.profile = None
-        self._plot = None
+        self.plan: Plan | None = None
+        self.profile: LossProfile | None = None
+        self._plot: PlotextPlot | None = None
         self._stale = True
 
     def compose(self) -> ComposeResult:
         yield Static("", id="profile-caption")
 
-    def show_plan(self, plan: dict) -> None:
+    def show_plan(self, plan: Plan) -> None:
         """Remember ``plan``; draw it now if the view is on screen."""
         self.plan = plan
         self._stale = True
@@ -82,12 +90,11 @@ class DepthProfile(Vertical):
             from textual_plotext import PlotextPlot
             self._plot = PlotextPlot(id="profile-plot")
             self.mount(self._plot, before=caption)
-        self._draw(self._plot.plt)
+        self._draw(self._plot.plt, self.profile)
         self._plot.refresh()
         self._stale = False
 
-    def _draw(self, plt) -> None:
-        p = self.profile
+    def _draw(self, plt: Any, p: LossProfile) -> None:
         plt.clear_figure()
         depth = list(p.depth_cm)
         highest = max(max(row) for row in p.loss_db)

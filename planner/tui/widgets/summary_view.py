@@ -2,27 +2,33 @@
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
 from textual.app import ComposeResult
 from textual.containers import Horizontal, Vertical, VerticalScroll
 from textual.content import Content
+from textual.coordinate import Coordinate
 from textual.markup import escape
 from textual.widgets import DataTable, Label, Static
 
 from planner.tui.format import summary_rows
+
+if TYPE_CHECKING:  # the engine loads after the first paint
+    from planner.engine.model import Plan
 
 SUMMARY_LABELS: tuple[str, ...] = ("Target", "Patient", "Band", "Probe", "Harmonic", "Window",
                                    "Position", "Depth", "Tilt", "Watch")
 """The rows of the summary card, in order (see :func:`planner.tui.format.summary_rows`)."""
 
 
-def windows_rows(plan: dict) -> list[tuple[str, ...]]:
+def windows_rows(plan: Plan) -> list[tuple[str, ...]]:
     """Rows of the ranked-window table: rank, name, usable, loss, depth, band."""
-    rows = []
-    for rank, w in enumerate(plan.get("windows") or [], 1):
-        band = w.get("band_mhz")
-        rows.append((str(rank), w.get("name", "?"), "yes" if w.get("feasible") else "NO",
-                     f"{w.get('round_trip_loss_db', 0):.0f}", f"{w.get('depth_cm', 0):.1f}",
-                     f"{band['low']:.1f}–{band['high']:.1f}" if band else "–"))
+    rows: list[tuple[str, ...]] = []
+    for rank, w in enumerate(plan.windows, 1):
+        band = w.band_mhz
+        rows.append((str(rank), w.name, "yes" if w.feasible else "NO",
+                     f"{w.round_trip_loss_db:.0f}", f"{w.depth_cm:.1f}",
+                     f"{band.low:.1f}–{band.high:.1f}" if band else "–"))
     return rows
 
 
@@ -36,21 +42,21 @@ def set_markup(static: Static, markup: str) -> None:
     old = getattr(static, "_markup_shown", None)
     if old == markup:
         return
-    static._markup_shown = markup
+    setattr(static, "_markup_shown", markup)
     width = static.content_region.width
     same_height = old is not None and width > 0 and \
         _line_count(old, width) == _line_count(markup, width)
     static.update(markup, layout=not same_height)
 
 
-def layers_markup(plan: dict) -> str:
+def layers_markup(plan: Plan) -> str:
     """The layer stack of the chosen window, skin first."""
     lines = []
     depth = 0.0
-    for layer in plan.get("layers") or []:
-        depth += layer.get("thickness_cm", 0.0)
-        lines.append(f"  {depth:5.1f} cm  {escape(str(layer.get('label', '')))} "
-                     f"[$text-muted]({layer.get('thickness_cm', 0):.2f} cm thick)[/]")
+    for layer in plan.layers:
+        depth += layer.thickness_cm
+        lines.append(f"  {depth:5.1f} cm  {escape(layer.label)} "
+                     f"[$text-muted]({layer.thickness_cm:.2f} cm thick)[/]")
     return "\n".join(lines)
 
 
@@ -65,7 +71,7 @@ class PlanSummary(VerticalScroll):
                     yield Label(label, classes="summary-label")
                     yield Static("", id=f"summary-{index}", classes="summary-value")
         yield Static("", id="windows-title", classes="subhead")
-        table = DataTable(id="windows-table", cursor_type="row", zebra_stripes=False,
+        table: DataTable[str] = DataTable(id="windows-table", cursor_type="row", zebra_stripes=False,
                           show_cursor=False)
         table.add_columns("#", "Window", "OK", "dB", "cm", "MHz")
         yield table
@@ -74,8 +80,8 @@ class PlanSummary(VerticalScroll):
         yield Static("", id="pitfalls")
         yield Static("", id="assumptions")
 
-    def show_plan(self, plan: dict) -> None:
-        """Show ``plan`` (a plan as a dict)."""
+    def show_plan(self, plan: Plan) -> None:
+        """Show ``plan``."""
         message, card = self.query_one("#summary-message"), self.query_one("#summary-card")
         if message.display:
             message.display = False
@@ -83,37 +89,37 @@ class PlanSummary(VerticalScroll):
             card.display = True
         for index, (_, value) in enumerate(summary_rows(plan)):
             set_markup(self.query_one(f"#summary-{index}", Static), value)
-        windows = plan.get("windows") or []
-        reference = windows[0].get("reference_frequency_mhz") if windows else None
+        windows = plan.windows
+        reference = windows[0].reference_frequency_mhz if windows else None
         set_markup(self.query_one("#windows-title", Static),
                    "Windows, best first" + (f" [$text-muted](dB = round-trip loss at "
                                             f"{reference:g} MHz)[/]" if reference else ""))
         rows = windows_rows(plan)
-        table = self.query_one("#windows-table", DataTable)
+        table: DataTable[str] = self.query_one("#windows-table", DataTable)
         shown = getattr(table, "_rows_shown", None)
         if rows != shown:
-            table._rows_shown = rows
+            setattr(table, "_rows_shown", rows)
             if shown is not None and len(shown) == len(rows) and \
                     all(len(a[1]) == len(b[1]) for a, b in zip(shown, rows)):
                 for y, (old_row, new_row) in enumerate(zip(shown, rows)):
                     for x, (old_cell, new_cell) in enumerate(zip(old_row, new_row)):
                         if old_cell != new_cell:
-                            table.update_cell_at((y, x), new_cell)
+                            table.update_cell_at(Coordinate(y, x), new_cell)
             else:
                 table.clear()
                 for row in rows:
                     table.add_row(*row)
-        advice = (plan.get("tilt") or {}).get("advice", "")
+        advice = plan.tilt.advice
         set_markup(self.query_one("#tilt-advice", Static),
                    f"[b]Tilt[/b]  {escape(advice)}" if advice else "")
         set_markup(self.query_one("#layers", Static),
                    "[b]Layers on the path[/b] [$text-muted](depth of each layer's bottom)[/]\n"
                    + layers_markup(plan))
-        assumptions = plan.get("assumptions") or []
+        assumptions = plan.assumptions
         set_markup(self.query_one("#assumptions", Static),
                    "[b]Assumptions[/b]\n" + "\n".join(f"  • {escape(a)}" for a in assumptions)
                    if assumptions else "")
-        pitfalls = plan.get("pitfalls") or []
+        pitfalls = plan.pitfalls
         set_markup(self.query_one("#pitfalls", Static),
                    "[b]Pitfalls[/b]\n" + "\n".join(f"  • {escape(p)}" for p in pitfalls)
                    if pitfalls else "")

@@ -1,0 +1,197 @@
+"""The typed plan: frozen records for every part of a :class:`Plan`.
+
+Every record is a frozen dataclass with slots. Renderers read attributes; JSON is produced at
+the edge by :func:`planner.engine.serialize.plan_to_json_data`. A field whose metadata carries
+``json=False`` is a typed decision for the code (never written to JSON); ``omit_none=True``
+leaves the key out of the JSON when the value is None. Units are in the field names.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Any
+
+from planner.engine.doppler_model import DopplerPlan
+from planner.findings import Finding
+from planner.safety.validity import ValidityFlag
+
+SCHEMA_VERSION = 1
+"""Version of the ``plan --json`` contract."""
+
+HARMONIC_BASES: tuple[str, ...] = ("advised", "contraindicated", "no_harmonic_mode",
+                                   "out_of_reach", "optional")
+"""Why harmonic imaging is or is not advised (:attr:`HarmonicDecision.basis`)."""
+
+
+@dataclass(frozen=True, slots=True)
+class TargetSummary:
+    """The target of the plan."""
+
+    id: str
+    name: str
+    reflector: str
+    region: str
+    detail_mm: float
+
+
+@dataclass(frozen=True, slots=True)
+class PatientSummary:
+    """The patient as the plan saw them (BMI rounded to 0.1 kg/m^2)."""
+
+    bmi: float
+    bmi_given: bool
+    who_class: str
+    who_class_label: str
+    sex: str | None
+    conditions: dict[str, int]
+    gestation_weeks: float | None
+
+
+@dataclass(frozen=True, slots=True)
+class FrequencyBand:
+    """Recommended band [detail floor, reach ceiling] on the chosen probe; None when no probe. [MHz]"""
+
+    low: float | None
+    high: float | None
+    feasible: bool
+
+
+@dataclass(frozen=True, slots=True)
+class TransmitBand:
+    """Transmit band of harmonic imaging. [MHz]"""
+
+    low: float
+    high: float
+
+
+@dataclass(frozen=True, slots=True)
+class HarmonicDecision:
+    """Whether harmonic imaging is advised, why in words, and why as a typed basis."""
+
+    advised: bool
+    reason: str
+    basis: str = field(default="optional", metadata={"json": False})
+    transmit_mhz: TransmitBand | None = field(default=None, metadata={"omit_none": True})
+
+
+@dataclass(frozen=True, slots=True)
+class ProbeSummary:
+    """The chosen probe: id, label, type, footprint fit and its band. [MHz]"""
+
+    id: str
+    label: str
+    type: str
+    fit: str
+    band_mhz: tuple[float, float]
+
+
+@dataclass(frozen=True, slots=True)
+class WindowBand:
+    """Band shown for one window. [MHz]"""
+
+    low: float
+    high: float
+
+
+@dataclass(frozen=True, slots=True)
+class WindowSummary:
+    """One assessed window, ranked (loss at a common reference frequency)."""
+
+    id: str
+    name: str
+    feasible: bool
+    round_trip_loss_db: float
+    reference_frequency_mhz: float
+    depth_cm: float
+    wall_mm: float
+    reach_ceiling_mhz: float
+    band_mhz: WindowBand | None
+    probe: str | None
+    position: str
+    breathing: str
+
+
+@dataclass(frozen=True, slots=True)
+class ChosenWindow(WindowSummary):
+    """The window the plan recommends, with its notes."""
+
+    notes: str = ""
+
+
+@dataclass(frozen=True, slots=True)
+class TiltDecision:
+    """Specular tilt tolerance (None for diffuse targets) and handling advice. [deg]"""
+
+    max_deviation_deg: float | None
+    scan_plane_deg: float | None
+    elevation_plane_deg: float | None
+    advice: str
+
+
+@dataclass(frozen=True, slots=True)
+class DisplayDecision:
+    """Display depth and focal depth on the scanner's 1540 m/s scale. [cm]"""
+
+    display_depth_cm: float
+    focus_cm: float
+    note: str
+
+
+@dataclass(frozen=True, slots=True)
+class PlanLayer:
+    """One layer of the chosen window's stack, skin first."""
+
+    tissue: str
+    label: str
+    role: str
+    thickness_cm: float
+    speed_m_per_s: float
+    attenuation_db_per_cm_mhz: float
+    attenuation_exponent: float
+    impedance_mrayl: float
+
+
+@dataclass(frozen=True, slots=True)
+class InputsSummary:
+    """What the plan was asked for: target, forced window, exam type, probe and policy files."""
+
+    target: str
+    window: str | None
+    exam_type: str
+    probes: str
+    local_policy: str | None
+
+
+@dataclass(frozen=True, slots=True)
+class Plan:
+    """A complete plan for one patient and one target (JSON: :mod:`planner.engine.serialize`)."""
+
+    target: TargetSummary
+    patient: PatientSummary
+    depth_cm: float
+    displayed_depth_cm: float
+    frequency_mhz: FrequencyBand
+    harmonic: HarmonicDecision
+    probe: ProbeSummary | None
+    window: ChosenWindow
+    windows: tuple[WindowSummary, ...]
+    tilt: TiltDecision
+    display: DisplayDecision
+    depth_error_mm: float
+    findings: tuple[Finding, ...]
+    safety: tuple[Finding, ...]
+    monitored_index: str
+    pitfalls: tuple[str, ...]
+    assumptions: tuple[str, ...]
+    validity: tuple[ValidityFlag, ...]
+    disclaimer: str
+    layers: tuple[PlanLayer, ...]
+    budget_db: float = 60.0
+    doppler: DopplerPlan | None = None
+    draft: bool = False
+    inputs: InputsSummary | None = None
+
+    def to_dict(self) -> dict[str, Any]:
+        """The JSON data of ``plan --json`` (see :func:`planner.engine.serialize.plan_to_json_data`)."""
+        from planner.engine.serialize import plan_to_json_data
+        return plan_to_json_data(self)
