@@ -39,12 +39,15 @@ always reflects the current engine and data. The format (``schema_version: 1``):
       supervisor_comments: ''
       student_reflection: ''
 
-Missing keys take these defaults. Unknown keys and wrong types are reported all at once
-with their line by the model :class:`planner.files.plan.PlanFile` (:class:`planner.errors.DataError`); impossible values (checked as the
-terminal UI checks them) are reported, again all at once, when the types are right. Files are
-written atomically. :func:`check_inputs` gives the per-field problems that the terminal
-UI shows next to each field. The engine and the YAML reader are imported only when
-needed, so that the terminal UI can paint before loading them.
+Missing keys take these defaults (older files without the newer keys still load). Paths
+under ``files`` are used as given, like the command line's ``--probes`` and
+``--local-policy``. Unknown keys and wrong types are reported all at once with their line by
+the model :class:`planner.files.plan.PlanFile` (:class:`planner.errors.DataError`);
+impossible values (checked as the terminal UI checks them) are reported, again all at once,
+when the types are right. Files are written atomically. :func:`check_inputs` gives the
+per-field problems that the terminal UI shows next to each field. The engine, the YAML
+reader and the file model are imported only when needed, so that the terminal UI can
+paint before loading them.
 """
 
 from __future__ import annotations

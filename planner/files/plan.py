@@ -10,7 +10,7 @@ from __future__ import annotations
 
 from typing import Annotated, Literal
 
-from pydantic import Field, field_validator
+from pydantic import Field
 
 from planner.datafiles import vocabulary
 from planner.files.base import FileModel, Finite, Text

@@ -27,6 +27,13 @@ def _bounded(low: float, high: float, description: str) -> object:
     return Annotated[float, Field(ge=low, le=high, allow_inf_nan=False, description=description)]
 
 
+ApertureMm = _bounded(1, 200, "Active aperture in the scan plane. [mm]")
+ElevationApertureMm = _bounded(0.5, 50, "Elevation aperture. [mm]")
+ElevationFocusCm = _bounded(0.2, 30, "Fixed elevation (lens) focus. [cm]")
+ReceiveFNumber = _bounded(0.5, 10, "Receive F-number. [-]")
+PulseCycles = _bounded(0.5, 20, "Cycles in the transmitted pulse. [-]")
+
+
 class ProbeEntry(FileModel):
     """One transducer of the inventory (units in the names)."""
 
@@ -35,13 +42,13 @@ class ProbeEntry(FileModel):
     type: ProbeType = Field(description="Probe family.")
     band_mhz: Annotated[list[Positive], Field(min_length=2, max_length=2)] = Field(
         description="Usable band [low, high]. [MHz]")
-    aperture_mm: _bounded(1, 200, "Active aperture in the scan plane. [mm]")  # type: ignore
-    elevation_aperture_mm: _bounded(0.5, 50, "Elevation aperture. [mm]")  # type: ignore
-    elevation_focus_cm: _bounded(0.2, 30, "Fixed elevation (lens) focus. [cm]")  # type: ignore
+    aperture_mm: ApertureMm
+    elevation_aperture_mm: ElevationApertureMm
+    elevation_focus_cm: ElevationFocusCm
     footprint_mm: Annotated[list[Positive], Field(min_length=2, max_length=2)] = Field(
         description="Footprint [length, width]. [mm]")
-    receive_f_number: _bounded(0.5, 10, "Receive F-number. [-]")  # type: ignore
-    pulse_cycles: _bounded(0.5, 20, "Cycles in the transmitted pulse. [-]")  # type: ignore
+    receive_f_number: ReceiveFNumber
+    pulse_cycles: PulseCycles
     harmonic: bool = Field(description="Can receive the second harmonic.")
 
     @field_validator("band_mhz")
