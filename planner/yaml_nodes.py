@@ -51,7 +51,7 @@ def where(label: str, line: int | None, column: int | None) -> str:
 
 
 def line_col_of_offset(text: str | bytes, offset: int) -> tuple[int, int]:
-    newline = b"\n" if isinstance(text, bytes) else "\n"
+    newline: Any = b"\n" if isinstance(text, bytes) else "\n"
     before = text[:offset]
     line = before.count(newline) + 1
     column = offset - (before.rfind(newline) + 1) + 1

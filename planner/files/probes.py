@@ -11,7 +11,7 @@ The ranges are plausibility bounds (common practice), not limits of any product.
 
 from __future__ import annotations
 
-from typing import Annotated, Literal
+from typing import TYPE_CHECKING, Annotated, Literal, TypeAlias
 
 from pydantic import Field, field_validator
 
@@ -20,18 +20,22 @@ from planner.files.base import FileModel, OptText, Positive, SourceKey, Status, 
 
 __all__ = ["ProbeEntry", "InventoryFile", "InventorySource"]
 
-ProbeType = Literal[vocabulary()["probe_types"]]  # type: ignore[valid-type]
+if TYPE_CHECKING:      # the ids come from planner/data/vocabulary.yaml at run time
+    ProbeType: TypeAlias = str
+else:
+    ProbeType = Literal[vocabulary()["probe_types"]]
 
 
-def _bounded(low: float, high: float, description: str) -> object:
-    return Annotated[float, Field(ge=low, le=high, allow_inf_nan=False, description=description)]
-
-
-ApertureMm = _bounded(1, 200, "Active aperture in the scan plane. [mm]")
-ElevationApertureMm = _bounded(0.5, 50, "Elevation aperture. [mm]")
-ElevationFocusCm = _bounded(0.2, 30, "Fixed elevation (lens) focus. [cm]")
-ReceiveFNumber = _bounded(0.5, 10, "Receive F-number. [-]")
-PulseCycles = _bounded(0.5, 20, "Cycles in the transmitted pulse. [-]")
+ApertureMm = Annotated[float, Field(ge=1, le=200, allow_inf_nan=False,
+                                    description="Active aperture in the scan plane. [mm]")]
+ElevationApertureMm = Annotated[float, Field(ge=0.5, le=50, allow_inf_nan=False,
+                                             description="Elevation aperture. [mm]")]
+ElevationFocusCm = Annotated[float, Field(ge=0.2, le=30, allow_inf_nan=False,
+                                          description="Fixed elevation (lens) focus. [cm]")]
+ReceiveFNumber = Annotated[float, Field(ge=0.5, le=10, allow_inf_nan=False,
+                                        description="Receive F-number. [-]")]
+PulseCycles = Annotated[float, Field(ge=0.5, le=20, allow_inf_nan=False,
+                                     description="Cycles in the transmitted pulse. [-]")]
 
 
 class ProbeEntry(FileModel):

@@ -13,7 +13,7 @@ from __future__ import annotations
 import difflib
 import re
 import typing
-from collections.abc import Iterable
+from collections.abc import Iterable, Mapping
 from typing import Any
 
 __all__ = ["NUMBER_TEXT_HINT", "BOOL_WORD_HINT", "describe", "expected_number", "add_errors",
@@ -90,7 +90,7 @@ def _unknown_key(key: Any, valid: list[str]) -> str:
     return f"unknown key {str(key)!r}"
 
 
-def message_for(error: dict[str, Any], valid_keys: list[str] | None = None) -> str:
+def message_for(error: Mapping[str, Any], valid_keys: list[str] | None = None) -> str:
     """The project's message for one pydantic error dictionary."""
     kind, raw, ctx = error["type"], error.get("input"), error.get("ctx") or {}
     if kind == "missing":
@@ -185,7 +185,7 @@ def _unwrap(hint: Any) -> Any:
         return hint
 
 
-def add_errors(errors: list[dict[str, Any]], add: Any, model: Any = None,
+def add_errors(errors: Iterable[Mapping[str, Any]], add: Any, model: Any = None,
                prefix: tuple[Any, ...] = ()) -> None:
     """Report every pydantic error through ``add(key_path, message)`` (a collector's add)."""
     seen: set[tuple[Any, str]] = set()

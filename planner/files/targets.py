@@ -10,13 +10,14 @@ Units: ``*_cm`` [cm], ``*_mm`` [mm], ``*_deg`` [deg], ``wall_factor`` [-].
 
 from __future__ import annotations
 
-from typing import Annotated, Any, Literal
+from typing import TYPE_CHECKING, Annotated, Any, Literal, TypeAlias
 
 from pydantic import Field, StringConstraints, create_model
 
 from planner.datafiles import package_data, vocabulary
 from planner.files.problems import check_provenance
-from planner.files.base import ID_PATTERN, FileModel, OptText, SourceKey, Status, Text
+from planner.files.base import (ID_PATTERN, FileModel, OptText, SourceKey, SourcedNumber,
+                                Status, Text)
 
 __all__ = ["TargetsFile", "cross_checks"]
 
@@ -29,17 +30,32 @@ def _one_of(values: Any) -> Any:
     return Literal[tuple(values)]
 
 
-Tissue = _one_of(_TISSUES)
-LayerRole = _one_of(_V["layer_roles"])
-SurfaceReflector = _one_of(_V["surface_reflectors"])
-Orientation = _one_of(_V["orientations"])
-Curvature = _one_of(_V["curvatures"])
-Risk = _one_of(_V["risk_levels"])
-Region = _one_of(_V["regions"])
-Reflector = _one_of(_V["reflectors"])
-ExamType = _one_of(_V["exam_types"])
-ProbeType = _one_of(_V["probe_types"])
-WallId = _one_of(_WALLS)
+if TYPE_CHECKING:      # the ids come from planner/data at run time
+    Tissue: TypeAlias = str
+    LayerRole: TypeAlias = str
+    SurfaceReflector: TypeAlias = str
+    Orientation: TypeAlias = str
+    Curvature: TypeAlias = str
+    Risk: TypeAlias = str
+    Region: TypeAlias = str
+    Reflector: TypeAlias = str
+    ExamType: TypeAlias = str
+    ProbeType: TypeAlias = str
+    WallId: TypeAlias = str
+else:
+    Tissue = _one_of(_TISSUES)
+    LayerRole = _one_of(_V["layer_roles"])
+    SurfaceReflector = _one_of(_V["surface_reflectors"])
+    Orientation = _one_of(_V["orientations"])
+    Curvature = _one_of(_V["curvatures"])
+    Risk = _one_of(_V["risk_levels"])
+    Region = _one_of(_V["regions"])
+    Reflector = _one_of(_V["reflectors"])
+    ExamType = _one_of(_V["exam_types"])
+    ProbeType = _one_of(_V["probe_types"])
+    WallId = _one_of(_WALLS)
+
+
 Id = Annotated[str, StringConstraints(pattern=ID_PATTERN)]
 
 
@@ -50,13 +66,22 @@ def _sourced(name: str, *, le: float, ge: float | None = None, gt: float | None 
                         status=(Status, ...), note=(OptText, ""))
 
 
-Thickness = _sourced("Thickness", gt=0, le=40)
-Tilt = _sourced("Tilt", ge=0, le=90)
-Radius = _sourced("Radius", gt=0, le=500)
-WallFactor = _sourced("WallFactor", gt=0, le=5)
-RibGap = _sourced("RibGap", gt=0, le=100)
-Depth = _sourced("Depth", gt=0, le=40)
-Detail = _sourced("Detail", gt=0, le=100)
+if TYPE_CHECKING:
+    Thickness: TypeAlias = SourcedNumber
+    Tilt: TypeAlias = SourcedNumber
+    Radius: TypeAlias = SourcedNumber
+    WallFactor: TypeAlias = SourcedNumber
+    RibGap: TypeAlias = SourcedNumber
+    Depth: TypeAlias = SourcedNumber
+    Detail: TypeAlias = SourcedNumber
+else:
+    Thickness = _sourced("Thickness", gt=0, le=40)
+    Tilt = _sourced("Tilt", ge=0, le=90)
+    Radius = _sourced("Radius", gt=0, le=500)
+    WallFactor = _sourced("WallFactor", gt=0, le=5)
+    RibGap = _sourced("RibGap", gt=0, le=100)
+    Depth = _sourced("Depth", gt=0, le=40)
+    Detail = _sourced("Detail", gt=0, le=100)
 
 
 class PathLayer(FileModel):
@@ -161,8 +186,9 @@ def _target_checks(target: dict[str, Any], where: tuple[Any, ...], add: Any) -> 
     for index, surface in _items(target.get("surfaces")):
         if surface.get("curvature") == "flat" and isinstance(surface.get("radius_mm"), dict):
             add(where + ("surfaces", index, "radius_mm"), "a flat surface has no radius; use null")
-    probes = target.get("probe_types")
-    for index, probe in enumerate(probes if isinstance(probes, list) else []):
+    raw_probes = target.get("probe_types")
+    probes: list[Any] = raw_probes if isinstance(raw_probes, list) else []
+    for index, probe in enumerate(probes):
         if isinstance(probe, str) and probe in probes[:index]:
             add(where + ("probe_types", index), f"probe type {probe!r} listed twice")
     seen: set[str] = set()
