@@ -11,6 +11,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from planner.body.stack import LayerStack
+from planner.body.walls import load_wall_models
 from planner.library.probes import Probe, ProbeInventory
 from planner.physics import attenuation, beam, sound_speed
 from planner.physics.constants import (HARMONIC_CONVERSION_LOSS_DB, SIGNAL_BUDGET_DIFFUSE_DB,
@@ -83,7 +84,7 @@ def signal_budget_db(target) -> float:
 
 def probe_fit(probe: Probe, window) -> str:
     """Whether a probe's footprint suits the window (rib gap, endocavitary route)."""
-    endo_window = bool(getattr(window, "endocavitary", False))
+    endo_window = load_wall_models()[window.wall].endocavitary
     if (probe.type == "endocavitary") != endo_window:
         return "n/a"
     gap = window.rib_gap_mm
