@@ -15,7 +15,7 @@ from typing import Any
 
 import yaml
 
-__all__ = ["PACKAGE_FILES", "load_package_yaml", "vocabulary"]
+__all__ = ["PACKAGE_FILES", "load_package_yaml", "package_data", "vocabulary"]
 
 _LOADER = getattr(yaml, "CSafeLoader", yaml.SafeLoader)
 
@@ -30,10 +30,20 @@ def load_package_yaml(name: str) -> Any:
     return yaml.load(text, Loader=_LOADER)
 
 
+@lru_cache(maxsize=None)
+def package_data(name: str) -> Any:
+    """``planner/data/<name>`` parsed once and shared; callers must not modify it."""
+    return load_package_yaml(name)
+
+
 @lru_cache(maxsize=1)
 def vocabulary() -> dict[str, Any]:
     """The shared ids of ``planner/data/vocabulary.yaml``: ``exam_types`` and ``modes``
-    (id -> label) and ``probe_types`` (a list)."""
-    data = load_package_yaml("vocabulary.yaml")
-    return {"exam_types": dict(data["exam_types"]), "modes": dict(data["modes"]),
-            "probe_types": tuple(data["probe_types"])}
+    (id -> label), ``layer_roles`` (role -> tissue) and tuples of ids for ``probe_types``,
+    ``regions``, ``reflectors``, ``surface_reflectors``, ``orientations``, ``curvatures``
+    and ``risk_levels``."""
+    data = package_data("vocabulary.yaml")
+    out: dict[str, Any] = {key: dict(data[key]) for key in ("exam_types", "modes",
+                                                            "layer_roles")}
+    out.update({key: tuple(value) for key, value in data.items() if isinstance(value, list)})
+    return out

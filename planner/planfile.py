@@ -39,12 +39,15 @@ always reflects the current engine and data. The format (``schema_version: 1``):
       supervisor_comments: ''
       student_reflection: ''
 
-Missing keys take these defaults. Unknown keys and wrong types are reported all at once
-with their line by the model :class:`planner.files.plan.PlanFile` (:class:`planner.errors.DataError`); impossible values (checked as the
-terminal UI checks them) are reported, again all at once, when the types are right. Files are
-written atomically. :func:`check_inputs` gives the per-field problems that the terminal
-UI shows next to each field. The engine and the YAML reader are imported only when
-needed, so that the terminal UI can paint before loading them.
+Missing keys take these defaults (older files without the newer keys still load). Paths
+under ``files`` are used as given, like the command line's ``--probes`` and
+``--local-policy``. Unknown keys and wrong types are reported all at once with their line by
+the model :class:`planner.files.plan.PlanFile` (:class:`planner.errors.DataError`);
+impossible values (checked as the terminal UI checks them) are reported, again all at once,
+when the types are right. Files are written atomically. :func:`check_inputs` gives the
+per-field problems that the terminal UI shows next to each field. The engine, the YAML
+reader and the file model are imported only when needed, so that the terminal UI can
+paint before loading them.
 """
 
 from __future__ import annotations
@@ -150,7 +153,8 @@ def exam_context(inputs: PlanInputs, target) -> dict | None:
         return None
     fields = {"exam_type": inputs.exam_type, "expected_ti": inputs.expected_ti,
               "expected_mi": inputs.expected_mi, "planned_minutes": inputs.planned_minutes}
-    overrides = {name: value for name, value in fields.items() if value is not None}
+    overrides: dict[str, Any] = {name: value for name, value in fields.items()
+                                 if value is not None}
     overrides.update({name: True for name in ("contrast_agent", "febrile", "pregnancy_possible",
                                               "lung_in_beam") if getattr(inputs, name)})
     if tuple(inputs.modes) != ("b_mode",):
@@ -303,16 +307,18 @@ def inputs_from_data(data: dict[str, Any], collector) -> PlanInputs | None:
         return None
     patient, exam = model.patient, model.exam
     files, sup = model.files, model.supervision
-    patient_values = {k: getattr(patient, k) if patient else None for k in _PATIENT_KEYS[:-1]}
+    patient_values: dict[str, Any] = {k: getattr(patient, k) if patient else None
+                                      for k in _PATIENT_KEYS[:-1]}
     conditions = tuple((patient.conditions or {}).items()) if patient else ()
     exam_values: dict[str, Any] = {}
     if exam is not None:
         exam_values = {attr: getattr(exam, key) for key, attr in _EXAM_KEYS.items()}
         exam_values["modes"] = tuple(exam.modes)
+    file_values: dict[str, Any] = {attr: getattr(files, key) if files else None
+                                   for key, attr in _FILES_KEYS.items()}
     inputs = PlanInputs(
         target_id=model.target, window_id=model.window or None, **patient_values,
-        conditions=conditions, **exam_values,
-        **{attr: getattr(files, key) if files else None for key, attr in _FILES_KEYS.items()},
+        conditions=conditions, **exam_values, **file_values,
         draft=sup.draft if sup else False,
         signoff=SignOff(**{k: (getattr(sup, k) or "") if sup else "" for k in _SIGNOFF_KEYS}))
     for name, message in check_inputs(inputs).items():

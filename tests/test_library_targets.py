@@ -332,18 +332,18 @@ def _broken_copy() -> dict:
 
 EXPECTED_PROBLEMS = [
     ": extra: unknown key 'extra'",
-    "schema_version: must be 1, got number 2",
+    "schema_version: must be 1, got the number 2",
     "targets.liver.colour: unknown key 'colour'",
-    "targets.liver.region: unknown region 'belly'",
-    "targets.liver.reflector: unknown reflector 'shiny'",
-    "targets.liver.exam_type: unknown exam type 'abdominal'",
-    "targets.liver.target_tissue: unknown tissue 'steel'",
-    "targets.liver.typical_depth_cm: missing key 'source'",
-    "targets.liver.detail_mm.status: unknown status 'guessed'",
-    "targets.liver.probe_types[2]: unknown probe type 'sector'",
-    "targets.liver.windows[0].wall: unknown wall model 'flank'",
-    "targets.liver.windows[0].path[0].tissue: unknown tissue 'granite'",
-    "targets.liver.windows[0].path[0].thickness_cm.value: thickness_cm must be > 0",
+    "targets.liver.region: 'belly' is not one of abdomen,",
+    "targets.liver.reflector: 'shiny' is not one of specular,",
+    "targets.liver.exam_type: 'abdominal' is not one of general_abdominal,",
+    "targets.liver.target_tissue: 'steel' is not one of water,",
+    "targets.liver.typical_depth_cm.source: missing (required)",
+    "targets.liver.detail_mm.status: 'guessed' is not one of verified,",
+    "targets.liver.probe_types[2]: 'sector' is not one of linear,",
+    "targets.liver.windows[0].wall: 'flank' is not one of epigastric,",
+    "targets.liver.windows[0].path[0].tissue: 'granite' is not one of water,",
+    "targets.liver.windows[0].path[0].thickness_cm.value: must be greater than 0, got -2",
     "targets.liver.windows[1].rib_gap_mm: an intercostal window (ruq_intercostal) must give",
     "targets.liver.windows[2].angle: unknown key 'angle'",
     "targets.gallbladder.surfaces[0].tilt_from_skin_deg.source: unknown source key 'NoSuchKey2099'",
@@ -351,10 +351,10 @@ EXPECTED_PROBLEMS = [
     "targets.gallbladder.harmonic_contraindicated: expected true or false, got text 'yes'",
     "targets.pancreas.windows[1].path[1].role: a 'stomach' layer must be tissue 'water'",
     "targets.adult-transcranial.windows[0].bone_in_path: the temporal wall includes bone",
-    "targets.spleen.windows[0].gas_risk: unknown gas risk 'lots'",
+    "targets.spleen.windows[0].gas_risk: 'lots' is not one of none,",
     "targets.kidney.windows[1].id: duplicate window id 'flank-coronal'",
-    "targets.thyroid: missing key 'pitfalls'",
-    "targets.Bad_Id: target id must be kebab-case",
+    "targets.thyroid.pitfalls: missing (required)",
+    "targets.Bad_Id: 'Bad_Id' is not a kebab-case id",
 ]
 
 
@@ -417,8 +417,10 @@ def test_problem_carries_the_line_of_the_bad_key():
     """PyYAML reads 1e3 as text (YAML 1.1); the problem points at the key (line 10, column 17)."""
     with pytest.raises(DataError) as info:
         parse_library(SMALL, "small.yaml")
+    from planner.files.problems import NUMBER_TEXT_HINT
     assert info.value.problems == [
-        "small.yaml:10:17: targets.tiny.detail_mm.value: expected a number [mm], got text '1e3'"]
+        "small.yaml:10:17: targets.tiny.detail_mm.value: expected a number, got text '1e3'"
+        + NUMBER_TEXT_HINT]
 
 
 def test_duplicate_target_and_syntax_errors_are_reported():
@@ -428,7 +430,7 @@ def test_duplicate_target_and_syntax_errors_are_reported():
     assert any("targets.tiny: duplicate key 'tiny'" in p for p in info.value.problems)
     with pytest.raises(DataError) as info:
         parse_library("targets: [unclosed", "bad.yaml")
-    assert "not valid YAML" in info.value.problems[0]
+    assert "YAML syntax error" in info.value.problems[0]
 
 
 def test_unreadable_file_is_a_data_error(tmp_path):

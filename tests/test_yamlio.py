@@ -309,3 +309,22 @@ def test_dump_yaml_round_trips_in_order_with_unicode(tmp_path):
     assert load_user_yaml(path, kind="plan").data == {
         "title": "Rénal – échographie", "views": [{"id": "a", "band": [1.0, 6.0]}],
         "flag": False, "empty": None}
+
+
+FIX = "remove the tag or fix the value"
+
+
+@pytest.mark.parametrize("value,expected", [
+    ("!!bool maybe", "'maybe' is not true or false (it is tagged !!bool); " + FIX),
+    ("!!int 12abc", "'12abc' is not a whole number (it is tagged !!int); " + FIX),
+    ("!!float nope", "'nope' is not a number (it is tagged !!float); " + FIX),
+    ("!!float", "'' is not a number (it is tagged !!float); " + FIX),
+    ("!!int " + "3" * 5000, "number too long or malformed (5000 characters)"),
+])
+def test_a_scalar_its_tag_refuses_is_a_located_problem(tmp_path, value, expected):
+    """Once a KeyError (``!!bool maybe``) or an IndexError (an empty ``!!float``) escaped."""
+    path = tmp_path / "tagged.yaml"
+    path.write_text(f"schema_version: 1\nitems:\n  - id: {value}\n", encoding="utf-8")
+    with pytest.raises(DataError) as caught:
+        load_user_yaml(path, kind="probe inventory")
+    assert caught.value.problems == [f"{path}:3:9: items[0].id: {expected}"]

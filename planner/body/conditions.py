@@ -56,8 +56,8 @@ ASCITES_DEPTH_CM: dict[int, Sourced] = {
     2: Sourced(3.0, "CommonPractice", "common_practice", "moderate"),
     3: Sourced(6.0, "CommonPractice", "common_practice", "large: bowel floats centrally"),
 }
-"""Thickness of the free-fluid layer placed between the wall and the organs. [cm]"""
-
+"""Thickness of the free-fluid layer placed between the wall and the organs. [cm]
+Free fluid lies under the wall families marked ``ascites_beneath`` in ``walls.yaml``."""
 
 
 def parse_condition(text: str) -> tuple[str, int]:

@@ -18,7 +18,7 @@ from functools import lru_cache
 
 import numpy as np
 
-from planner.datafiles import load_package_yaml
+from planner.datafiles import package_data
 from planner.provenance import Sourced
 
 BMI_MODEL_RANGE: tuple[float, float] = (17.0, 60.0)
@@ -69,7 +69,7 @@ WALL_FACTS: tuple[str, ...] = ("intercostal", "ascites_beneath", "late_pregnancy
 @lru_cache(maxsize=1)
 def load_wall_models() -> dict[str, WallModel]:
     """Return every wall model ``{id: WallModel}`` (cached)."""
-    data = load_package_yaml("walls.yaml")["walls"]
+    data = package_data("walls.yaml")["walls"]
     models = {}
     for wall_id, raw in data.items():
         layers = tuple(

@@ -5,15 +5,17 @@ node and alias limits, duplicate keys, bad tags) and then one pydantic v2 model 
 mode; :mod:`planner.files.problems` maps the model's error locations onto the file's lines,
 so every problem comes out at once as ``file:line:col: key.path: message``.
 
-========================  =========================================  ===========================
-file kind                 model                                      loader
-========================  =========================================  ===========================
-protocol                  generated from :mod:`planner.protocol.schema`  ``protocol.load_protocol``
-probe inventory           :class:`planner.files.probes.InventoryFile`  ``library.probes.load_inventory``
-local policy              :class:`planner.files.policy.PolicyFile`   ``safety.policy.load_local_policy``
-plan file                 :class:`planner.files.plan.PlanFile`       ``planfile.load_plan_inputs``
-package data              :mod:`planner.files.package`               read fast at run time; validated by the tests
-========================  =========================================  ===========================
+- protocol: a model generated from the dataclasses of :mod:`planner.protocol.schema`
+  (:mod:`planner.files.dataclass_model`); loader ``planner.protocol.loader.load_protocol``;
+- probe inventory: :class:`planner.files.probes.InventoryFile`;
+  loader ``planner.library.probes.load_inventory``;
+- local policy: :class:`planner.files.policy.PolicyFile`;
+  loader ``planner.safety.policy.load_local_policy``;
+- plan file: :class:`planner.files.plan.PlanFile`; loader ``planner.planfile.load_plan_inputs``;
+- target library: :class:`planner.files.targets.TargetsFile`;
+  loader ``planner.library.targets.parse_library``;
+- package data (``planner/data``): :mod:`planner.files.package`; read fast at run time
+  (:mod:`planner.datafiles`) and validated once by the test suite.
 
 :func:`schema_for` returns the JSON Schema of a user file kind; :data:`SCHEMA_KINDS` is the
 registry (kind -> function returning the schema) that other kinds are added to with

@@ -86,7 +86,7 @@ def _hint_for(hint: Any, meta: dict[str, Any], owner: str, name: str) -> Any:
                             __doc__="A number with its source and status.",
                             value=(_number_field(meta), ...), source=(SourceKey, ...),
                             status=(Status, ...), note=(OptText, ""))
-    if dataclasses.is_dataclass(hint):
+    if isinstance(hint, type) and dataclasses.is_dataclass(hint):
         return model_for(hint)
     raise TypeError(f"unsupported field type {hint!r}")
 
@@ -140,6 +140,6 @@ def _convert(hint: Any, value: Any) -> Any:
         return Sourced(float(value.value), value.source, value.status, value.note)
     if hint is float:
         return float(value)
-    if dataclasses.is_dataclass(hint):
+    if isinstance(hint, type) and dataclasses.is_dataclass(hint):
         return build(hint, value)
     return value

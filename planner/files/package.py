@@ -16,6 +16,7 @@ from pydantic import Field, field_validator
 from planner.datafiles import vocabulary
 from planner.files.base import (FileModel, Finite, NonNegative, OptText, SourceKey,
                                 SourcedNumber, Status, Text, validate_data)
+from planner.files.problems import check_provenance
 from planner.files.probes import InventoryFile
 
 __all__ = ["PACKAGE_MODELS", "check_package_file", "TissuesFile", "WallsFile", "VesselsFile",
@@ -114,19 +115,31 @@ class SafetyFile(FileModel):
         return value
 
 
+_Id = Annotated[str, Field(pattern=r"^[a-z_]+$")]
+_Ids = Annotated[list[_Id], Field(min_length=1)]
+
+
 class VocabularyFile(FileModel):
-    """``vocabulary.yaml``: exam types and modes (id -> label), probe families."""
+    """``vocabulary.yaml``: exam types and modes (id -> label), the target library's ids."""
 
     schema_version: Literal[1]
-    exam_types: dict[Annotated[str, Field(pattern=r"^[a-z_]+$")], Text]
-    modes: dict[Annotated[str, Field(pattern=r"^[a-z_]+$")], Text]
-    probe_types: Annotated[list[Annotated[str, Field(pattern=r"^[a-z_]+$")]], Field(min_length=1)]
+    exam_types: dict[_Id, Text]
+    modes: dict[_Id, Text]
+    probe_types: _Ids
+    regions: _Ids
+    reflectors: _Ids
+    surface_reflectors: _Ids
+    orientations: _Ids
+    curvatures: _Ids
+    risk_levels: _Ids
+    layer_roles: dict[_Id, _Id]
 
 PACKAGE_MODELS: dict[str, Any] = {
     "tissues.yaml": TissuesFile, "walls.yaml": WallsFile, "probes.yaml": InventoryFile,
     "vessels.yaml": VesselsFile, "safety.yaml": SafetyFile, "vocabulary.yaml": VocabularyFile,
 }
-"""Package data file -> its model (``targets.yaml``: see :func:`check_package_file`)."""
+"""Package data file -> its model (``targets.yaml``: :class:`planner.files.targets.TargetsFile`,
+loaded on demand)."""
 
 def check_package_file(name: str) -> list[str]:
     """Every problem of ``planner/data/<name>`` (empty when valid), with lines."""
@@ -134,35 +147,13 @@ def check_package_file(name: str) -> list[str]:
 
     from planner.yamlio import ProblemCollector, load_user_yaml
     path = resources.files("planner") / "data" / name
-    if name == "targets.yaml":
-        from planner.errors import DataError
-        from planner.library.targets import load_library_file
-        try:
-            load_library_file(str(path))
-        except DataError as exc:
-            return list(exc.problems)
-        return []
     loaded = load_user_yaml(str(path), kind="package data")
     problems = ProblemCollector(str(path), loaded)
+    if name == "targets.yaml":
+        from planner.files.targets import TargetsFile, cross_checks
+        validate_data(TargetsFile, loaded.data, problems.add)
+        cross_checks(loaded.data, problems.add)
+        return problems.problems
     validate_data(PACKAGE_MODELS[name], loaded.data, problems.add)
-    _check_sources(loaded.data, (), problems)
+    check_provenance(loaded.data, problems.add)
     return problems.problems
-
-def _check_sources(node: Any, path: tuple[Any, ...], problems: Any) -> None:
-    """Every record with a ``status`` has a known status and a bibliography ``source``."""
-    from planner.provenance import STATUSES
-    from planner.references import REFERENCES
-    if isinstance(node, dict):
-        source = node.get("source")
-        if "status" in node and node["status"] not in STATUSES:
-            problems.add(path + ("status",), f"unknown status {node['status']!r}; valid: "
-                                             f"{', '.join(STATUSES)}")
-        if "status" in node and source not in REFERENCES:
-            problems.add(path + ("source",), f"unknown source key {source!r} (not in the "
-                                             "bibliography planner/data/references)")
-        for key, value in node.items():
-            _check_sources(value, path + (key,), problems)
-    elif isinstance(node, list):
-        for index, item in enumerate(node):
-            _check_sources(item, path + (index,), problems)
-

@@ -8,17 +8,21 @@ Missing keys and sections take their defaults, so older files still load.
 
 from __future__ import annotations
 
-from typing import Annotated, Literal
+from typing import TYPE_CHECKING, Annotated, Literal, TypeAlias
 
-from pydantic import Field, field_validator
+from pydantic import Field
 
 from planner.datafiles import vocabulary
 from planner.files.base import FileModel, Finite, Text
 
 __all__ = ["PlanFile", "PatientSection", "ExamSection", "FilesSection", "SupervisionSection"]
 
-ExamId = Literal[tuple(vocabulary()["exam_types"])]  # type: ignore[valid-type]
-ModeId = Literal[tuple(vocabulary()["modes"])]  # type: ignore[valid-type]
+if TYPE_CHECKING:      # the ids come from planner/data/vocabulary.yaml at run time
+    ExamId: TypeAlias = str
+    ModeId: TypeAlias = str
+else:
+    ExamId = Literal[tuple(vocabulary()["exam_types"])]
+    ModeId = Literal[tuple(vocabulary()["modes"])]
 Grade = Annotated[int, Field(ge=0, le=10)]
 
 

@@ -8,7 +8,7 @@ limits) stay with :func:`planner.safety.policy.load_local_policy`. Units: TI and
 
 from __future__ import annotations
 
-from typing import Annotated, Literal
+from typing import TYPE_CHECKING, Annotated, Literal, TypeAlias
 
 from pydantic import Field
 
@@ -16,12 +16,17 @@ from planner.datafiles import vocabulary
 from planner.files.base import FileModel, NonNegative, OptText, Positive, Text
 
 __all__ = ["PolicyFile", "TimeBand", "ExamLimits", "DopplerRestriction", "Preferences",
-           "PERMISSION_IDS"]
+           "Permission"]
 
-PERMISSION_IDS = ("permitted", "clinical_indication_only", "not_permitted")
-ExamId = Literal[tuple(vocabulary()["exam_types"])]  # type: ignore[valid-type]
-ExamOrDefault = Literal[(*vocabulary()["exam_types"], "default")]  # type: ignore[valid-type]
-ModeId = Literal[tuple(vocabulary()["modes"])]  # type: ignore[valid-type]
+if TYPE_CHECKING:      # the ids come from planner/data/vocabulary.yaml at run time
+    ExamId: TypeAlias = str
+    ExamOrDefault: TypeAlias = str
+    ModeId: TypeAlias = str
+else:
+    ExamId = Literal[tuple(vocabulary()["exam_types"])]
+    ExamOrDefault = Literal[(*vocabulary()["exam_types"], "default")]
+    ModeId = Literal[tuple(vocabulary()["modes"])]
+Permission = Literal["permitted", "clinical_indication_only", "not_permitted"]
 
 
 class TimeBand(FileModel):
@@ -45,7 +50,7 @@ class DopplerRestriction(FileModel):
 
     exam_types: Annotated[list[ExamId], Field(min_length=1)]
     modes: Annotated[list[ModeId], Field(min_length=1)]
-    permitted: Literal[PERMISSION_IDS] = Field(  # type: ignore[valid-type]
+    permitted: Permission = Field(
         description="permitted, clinical_indication_only or not_permitted.")
     before_weeks: Annotated[float, Field(gt=0, le=45, allow_inf_nan=False)] | None = Field(
         None, description="Applies only earlier in pregnancy (or when gestation is unknown). "

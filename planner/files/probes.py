@@ -11,7 +11,7 @@ The ranges are plausibility bounds (common practice), not limits of any product.
 
 from __future__ import annotations
 
-from typing import Annotated, Literal
+from typing import TYPE_CHECKING, Annotated, Literal, TypeAlias
 
 from pydantic import Field, field_validator
 
@@ -20,11 +20,22 @@ from planner.files.base import FileModel, OptText, Positive, SourceKey, Status, 
 
 __all__ = ["ProbeEntry", "InventoryFile", "InventorySource"]
 
-ProbeType = Literal[vocabulary()["probe_types"]]  # type: ignore[valid-type]
+if TYPE_CHECKING:      # the ids come from planner/data/vocabulary.yaml at run time
+    ProbeType: TypeAlias = str
+else:
+    ProbeType = Literal[vocabulary()["probe_types"]]
 
 
-def _bounded(low: float, high: float, description: str) -> object:
-    return Annotated[float, Field(ge=low, le=high, allow_inf_nan=False, description=description)]
+ApertureMm = Annotated[float, Field(ge=1, le=200, allow_inf_nan=False,
+                                    description="Active aperture in the scan plane. [mm]")]
+ElevationApertureMm = Annotated[float, Field(ge=0.5, le=50, allow_inf_nan=False,
+                                             description="Elevation aperture. [mm]")]
+ElevationFocusCm = Annotated[float, Field(ge=0.2, le=30, allow_inf_nan=False,
+                                          description="Fixed elevation (lens) focus. [cm]")]
+ReceiveFNumber = Annotated[float, Field(ge=0.5, le=10, allow_inf_nan=False,
+                                        description="Receive F-number. [-]")]
+PulseCycles = Annotated[float, Field(ge=0.5, le=20, allow_inf_nan=False,
+                                     description="Cycles in the transmitted pulse. [-]")]
 
 
 class ProbeEntry(FileModel):
@@ -35,13 +46,13 @@ class ProbeEntry(FileModel):
     type: ProbeType = Field(description="Probe family.")
     band_mhz: Annotated[list[Positive], Field(min_length=2, max_length=2)] = Field(
         description="Usable band [low, high]. [MHz]")
-    aperture_mm: _bounded(1, 200, "Active aperture in the scan plane. [mm]")  # type: ignore
-    elevation_aperture_mm: _bounded(0.5, 50, "Elevation aperture. [mm]")  # type: ignore
-    elevation_focus_cm: _bounded(0.2, 30, "Fixed elevation (lens) focus. [cm]")  # type: ignore
+    aperture_mm: ApertureMm
+    elevation_aperture_mm: ElevationApertureMm
+    elevation_focus_cm: ElevationFocusCm
     footprint_mm: Annotated[list[Positive], Field(min_length=2, max_length=2)] = Field(
         description="Footprint [length, width]. [mm]")
-    receive_f_number: _bounded(0.5, 10, "Receive F-number. [-]")  # type: ignore
-    pulse_cycles: _bounded(0.5, 20, "Cycles in the transmitted pulse. [-]")  # type: ignore
+    receive_f_number: ReceiveFNumber
+    pulse_cycles: PulseCycles
     harmonic: bool = Field(description="Can receive the second harmonic.")
 
     @field_validator("band_mhz")

@@ -13,11 +13,11 @@ from __future__ import annotations
 import difflib
 import re
 import typing
-from collections.abc import Iterable
+from collections.abc import Iterable, Mapping
 from typing import Any
 
 __all__ = ["NUMBER_TEXT_HINT", "BOOL_WORD_HINT", "describe", "expected_number", "add_errors",
-           "message_for"]
+           "message_for", "check_provenance"]
 
 NUMBER_TEXT_HINT = (" (read as text: YAML 1.1 reads quoted numbers and exponents such as "
                     "1e3 as text; write a plain number without quotes, such as 1000 or 1.0e+3)")
@@ -90,7 +90,7 @@ def _unknown_key(key: Any, valid: list[str]) -> str:
     return f"unknown key {str(key)!r}"
 
 
-def message_for(error: dict[str, Any], valid_keys: list[str] | None = None) -> str:
+def message_for(error: Mapping[str, Any], valid_keys: list[str] | None = None) -> str:
     """The project's message for one pydantic error dictionary."""
     kind, raw, ctx = error["type"], error.get("input"), error.get("ctx") or {}
     if kind == "missing":
@@ -185,7 +185,7 @@ def _unwrap(hint: Any) -> Any:
         return hint
 
 
-def add_errors(errors: list[dict[str, Any]], add: Any, model: Any = None,
+def add_errors(errors: Iterable[Mapping[str, Any]], add: Any, model: Any = None,
                prefix: tuple[Any, ...] = ()) -> None:
     """Report every pydantic error through ``add(key_path, message)`` (a collector's add)."""
     seen: set[tuple[Any, str]] = set()
@@ -197,3 +197,24 @@ def add_errors(errors: list[dict[str, Any]], add: Any, model: Any = None,
             continue
         seen.add((path, message))
         add(prefix + path, message)
+
+
+def check_provenance(node: Any, add: Any, path: tuple[Any, ...] = ()) -> None:
+    """Every mapping with a ``status`` (a sourced record) has a known status and a ``source``
+    that is a bibliography key; problems go to ``add(key_path, message)``."""
+    from planner.provenance import STATUSES
+    from planner.references import REFERENCES
+    if isinstance(node, dict):
+        if "status" in node:
+            status, source = node["status"], node.get("source")
+            if isinstance(status, str) and status not in STATUSES:
+                add(path + ("status",), f"unknown status {status!r}; valid: "
+                                        f"{', '.join(STATUSES)}")
+            if isinstance(source, str) and source not in REFERENCES:
+                add(path + ("source",), f"unknown source key {source!r} (not in the "
+                                        "bibliography planner/data/references)")
+        for key, value in node.items():
+            check_provenance(value, add, path + (key,))
+    elif isinstance(node, list):
+        for index, item in enumerate(node):
+            check_provenance(item, add, path + (index,))

@@ -10,8 +10,10 @@ between the wall and the deepest point of the target.
 
 Every number carries a source key and a status; the :class:`~planner.provenance.Sourced`
 records travel with the dataclasses in their ``provenance`` mapping (field name ->
-record) so that a plan can cite them. Loading validates the whole file and reports
-every problem at once as a :class:`~planner.errors.DataError`.
+record) so that a plan can cite them. Loading a library file validates the whole file
+(:mod:`planner.files.targets`) and reports every problem at once as a
+:class:`~planner.errors.DataError`; the shipped library is validated by the test suite and
+read without checks at run time.
 """
 
 from __future__ import annotations
@@ -19,54 +21,54 @@ from __future__ import annotations
 import difflib
 from dataclasses import dataclass, field
 from functools import lru_cache
-from importlib import resources
 from pathlib import Path
 from typing import Iterator
 
-from planner.datafiles import load_package_yaml, vocabulary
+from planner.datafiles import package_data, vocabulary
 from planner.errors import DataError, InputError
 from planner.library.probes import PROBE_TYPES
 from planner.provenance import Sourced
 
 __all__ = [
-    "BONE_WALLS", "CURVATURES", "ENDOCAVITARY_WALLS", "EXAM_TYPES", "INTERCOSTAL_WALLS", "LAYER_ROLES", "ORIENTATIONS",
-    "PROBE_TYPES", "REFLECTORS", "REGIONS", "RISK_LEVELS", "SCHEMA_VERSION",
-    "SURFACE_REFLECTORS", "WALL_MODEL_IDS", "PathLayer", "Surface", "Target",
-    "TargetLibrary", "Window", "load_library", "load_library_file", "parse_library",
+    "BONE_WALLS", "CURVATURES", "ENDOCAVITARY_WALLS", "EXAM_TYPES", "INTERCOSTAL_WALLS",
+    "LAYER_ROLES", "ORIENTATIONS", "PROBE_TYPES", "REFLECTORS", "REGIONS", "RISK_LEVELS",
+    "SCHEMA_VERSION", "SURFACE_REFLECTORS", "WALL_MODEL_IDS", "PathLayer", "Surface", "Target",
+    "TargetLibrary", "Window", "build_library", "load_library", "load_library_file",
+    "parse_library",
 ]
 
 SCHEMA_VERSION: int = 1
 """The ``schema_version`` a target library file must declare."""
 
-_WALLS: dict = load_package_yaml("walls.yaml")["walls"]
+_VOCABULARY = vocabulary()
+_WALLS: dict = package_data("walls.yaml")["walls"]
 
 WALL_MODEL_IDS: tuple[str, ...] = tuple(_WALLS)
 """Body-wall models a window may name (``planner/data/walls.yaml``, used by :mod:`planner.body`)."""
 
-REGIONS: tuple[str, ...] = ("abdomen", "pelvis", "obstetric", "small_parts", "vascular",
-                            "musculoskeletal", "thorax", "cardiac", "neonatal", "head")
+REGIONS: tuple[str, ...] = _VOCABULARY["regions"]
 """Body regions used to group targets."""
 
-EXAM_TYPES: tuple[str, ...] = tuple(vocabulary()["exam_types"])
+EXAM_TYPES: tuple[str, ...] = tuple(_VOCABULARY["exam_types"])
 """Exam types (``planner/data/vocabulary.yaml``); they select the thermal-index and scan-time
 tables."""
 
-REFLECTORS: tuple[str, ...] = ("specular", "diffuse", "mixed", "fluid")
+REFLECTORS: tuple[str, ...] = _VOCABULARY["reflectors"]
 """Dominant echo type of what the exam must judge."""
 
-SURFACE_REFLECTORS: tuple[str, ...] = ("specular", "diffuse")
+SURFACE_REFLECTORS: tuple[str, ...] = _VOCABULARY["surface_reflectors"]
 """Echo type of one surface of interest."""
 
-ORIENTATIONS: tuple[str, ...] = ("parallel_to_skin", "oblique", "perpendicular_to_skin", "curved")
+ORIENTATIONS: tuple[str, ...] = _VOCABULARY["orientations"]
 """Orientation of a surface relative to the skin."""
 
-CURVATURES: tuple[str, ...] = ("flat", "convex", "concave", "tubular", "spherical")
+CURVATURES: tuple[str, ...] = _VOCABULARY["curvatures"]
 """Shape of a surface as the beam meets it."""
 
-RISK_LEVELS: tuple[str, ...] = ("none", "low", "moderate", "high")
+RISK_LEVELS: tuple[str, ...] = _VOCABULARY["risk_levels"]
 """Levels of calcification risk and of gas risk."""
 
-LAYER_ROLES: dict[str, str] = {"bladder": "urine", "stomach": "water"}
+LAYER_ROLES: dict[str, str] = _VOCABULARY["layer_roles"]
 """Optional roles of a path layer and the tissue each role requires.
 
 ``bladder``: the full-bladder window (replaced when the bladder is empty);
@@ -253,8 +255,66 @@ def _suggestion(value: str, valid: tuple[str, ...]) -> str:
     return f" (did you mean {close[0]!r}?)" if close else ""
 
 
+def _sourced(raw: dict) -> Sourced:
+    return Sourced(float(raw["value"]), raw["source"], raw["status"], raw.get("note", ""))
+
+
+def _layer(raw: dict) -> PathLayer:
+    thickness = _sourced(raw["thickness_cm"])
+    return PathLayer(raw["tissue"], thickness.value, raw.get("role"), {"thickness_cm": thickness})
+
+
+def _optional(raw: dict, key: str, provenance: dict[str, Sourced]) -> float | None:
+    """The value of an optional sourced number (recorded in ``provenance``), or None."""
+    if raw.get(key) is None:
+        return None
+    provenance[key] = _sourced(raw[key])
+    return float(provenance[key].value)
+
+
+def _surface(raw: dict) -> Surface:
+    tilt = _sourced(raw["tilt_from_skin_deg"])
+    provenance = {"tilt_from_skin_deg": tilt}
+    radius = _optional(raw, "radius_mm", provenance)
+    return Surface(raw["name"].strip(), raw["reflector"], raw["orientation"], tilt.value,
+                   raw["curvature"], radius, provenance)
+
+
+def _window(raw: dict) -> Window:
+    factor = _sourced(raw["wall_factor"])
+    provenance = {"wall_factor": factor}
+    gap = _optional(raw, "rib_gap_mm", provenance)
+    return Window(raw["id"], raw["name"].strip(), raw["wall"], raw["position"].strip(),
+                  raw["breathing"].strip(), factor.value,
+                  tuple(_layer(layer) for layer in raw["path"]), gap, raw["gas_risk"],
+                  raw["midline_rectus"], raw["bone_in_path"], (raw.get("notes") or "").strip(),
+                  provenance)
+
+
+def _target(target_id: str, raw: dict) -> Target:
+    depth, detail = _sourced(raw["typical_depth_cm"]), _sourced(raw["detail_mm"])
+    return Target(target_id, raw["name"].strip(), raw["region"], raw["reflector"],
+                  raw["exam_type"], raw["target_tissue"], depth.value, detail.value,
+                  tuple(raw["probe_types"]), tuple(_surface(s) for s in raw["surfaces"]),
+                  raw["fluid_filled"], raw["wall_tissue"], raw["lumen_tissue"],
+                  raw["calcification_risk"], raw["harmonic_contraindicated"],
+                  tuple(p.strip() for p in raw["pitfalls"]),
+                  tuple(_window(w) for w in raw["windows"]),
+                  {"typical_depth_cm": depth, "detail_mm": detail},
+                  raw.get("bone_near_focus", False))
+
+
+def build_library(data: dict) -> TargetLibrary:
+    """Build the library from target-library data already validated (no checks; fast)."""
+    return TargetLibrary({target_id: _target(target_id, raw)
+                          for target_id, raw in data["targets"].items()})
+
+
 def parse_library(text: str, filename: str = "targets.yaml") -> TargetLibrary:
     """Parse and validate the text of a target library file.
+
+    The text is read by :func:`planner.yamlio.parse_user_yaml`, validated by
+    :class:`planner.files.targets.TargetsFile` and :func:`planner.files.targets.cross_checks`.
 
     Parameters
     ----------
@@ -268,12 +328,29 @@ def parse_library(text: str, filename: str = "targets.yaml") -> TargetLibrary:
     DataError
         With every problem found, each formatted ``file:line:column: key.path: message``.
     """
-    from planner.library._target_checks import build_library
-    targets, problems = build_library(text, filename)
-    if problems:
-        raise DataError(f"{filename}: {len(problems)} problem(s) in the target library",
-                        problems, title="Invalid target library")
-    return TargetLibrary(targets)
+    from planner.files.base import validate_data
+    from planner.files.targets import TargetsFile, cross_checks
+    from planner.yamlio import ProblemCollector, parse_user_yaml
+
+    try:
+        loaded = parse_user_yaml(text, label=filename, kind="target library")
+    except DataError as exc:
+        raise DataError(f"{filename}: {len(exc.problems)} problem(s) in the target library",
+                        exc.problems, title="Invalid target library") from None
+    problems = ProblemCollector(filename, loaded)
+    model = validate_data(TargetsFile, loaded.data, problems.add)
+    cross_checks(loaded.data, problems.add)
+    if problems or model is None:
+        ordered = sorted(problems.problems, key=_position)
+        raise DataError(f"{filename}: {len(ordered)} problem(s) in the target library",
+                        ordered, title="Invalid target library")
+    return build_library(loaded.data)
+
+
+def _position(problem: str) -> tuple[int, ...]:
+    head = problem.split(": ", 1)[0].split(":")
+    numbers = tuple(int(part) for part in head[-2:] if part.isdigit())
+    return numbers if len(numbers) == 2 else (0, 0)
 
 
 def load_library_file(path: str | Path) -> TargetLibrary:
@@ -281,14 +358,18 @@ def load_library_file(path: str | Path) -> TargetLibrary:
     file = Path(path)
     try:
         text = file.read_text(encoding="utf-8")
-    except OSError as exc:
-        raise DataError(f"{file}: cannot read the target library ({exc.strerror})",
+    except (OSError, UnicodeDecodeError) as exc:
+        reason = getattr(exc, "strerror", None) or str(exc)
+        raise DataError(f"{file}: cannot read the target library ({reason})",
                         title="Invalid target library") from None
     return parse_library(text, str(file))
 
 
 @lru_cache(maxsize=1)
 def load_library() -> TargetLibrary:
-    """Return the shipped target library (validated once, then cached)."""
-    text = (resources.files("planner") / "data" / "targets.yaml").read_text(encoding="utf-8")
-    return parse_library(text, "targets.yaml")
+    """Return the shipped target library (cached).
+
+    Package data: validated against :class:`planner.files.targets.TargetsFile` by the test
+    suite, built here without validation (fast start-up).
+    """
+    return build_library(package_data("targets.yaml"))

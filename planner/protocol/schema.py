@@ -2,9 +2,10 @@
 
 A protocol file is YAML whose keys are exactly the field names of the frozen
 dataclasses below. Each field carries its description and constraints in its
-``metadata`` (made by :func:`spec`); the loader (:mod:`planner.protocol.loader`)
-and the JSON Schema (:mod:`planner.protocol.jsonschema`) are both generated from
-these definitions, so the three never disagree. A field without a default is
+``metadata`` (made by :func:`spec`). :func:`planner.files.dataclass_model.model_for`
+turns them into the strict pydantic model that the loader (:mod:`planner.protocol.loader`)
+validates with and that gives the JSON Schema (:mod:`planner.protocol.jsonschema`), so the
+three never disagree. A field without a default is
 required; ``X | None`` accepts ``null``; ``tuple[X, ...]`` is a YAML list.
 
 Numbers that are clinical facts or safety limits (thresholds, fasting hours,

@@ -191,7 +191,8 @@ def _check_bands(problems: ProblemCollector, exam: Any, raw: Any) -> None:
         bands.append((low, None if high is None else float(high)))
     ordered = sorted(bands, key=lambda band: band[0])
     for first, second in zip(ordered, ordered[1:]):
-        if first[1] is None or first[1] > second[0]:
+        upper = first[1]
+        if upper is None or upper > second[0]:
             problems.add(("scan_time_limits", exam), f"TI bands overlap (band from {first[0]:g} "
                                                      f"and band from {second[0]:g})")
 
