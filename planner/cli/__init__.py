@@ -30,6 +30,7 @@ __all__ = ["COMMANDS", "build_parser", "main", "run_ui"]
 
 COMMANDS: dict[str, tuple[str, str]] = {
     "plan": ("planner.cli.plan", "plan one exam for one patient"),
+    "sweep": ("planner.cli.sweep", "one plan headline per BMI (where a probe or window stops working)"),
     "targets": ("planner.cli.targets", "list the target library"),
     "calc": ("planner.cli.calc", "quick physics calculations"),
     "protocol": ("planner.cli.protocol",
