@@ -36,13 +36,13 @@ class NumberError(InputError, ValueError):
 
 
 def _why(text: str) -> str:
-    """The reason a stripped text is not a number, for the message."""
+    """Why a stripped text is not a number, for the message ("" when it is just not one)."""
     if "_" in text and _NUMBER.fullmatch(text.replace("_", "")):
         return "write it without '_' separators"
     for char in text:
         if not char.isascii() and unicodedata.category(char) == "Nd":
             return f"use the digits 0-9, not {char!r} ({unicodedata.name(char, 'a non-ASCII digit')})"
-    return "expected digits 0-9 with an optional sign, decimal point and exponent"
+    return ""
 
 
 def parse_number(text: str, *, decimal_comma: bool = False) -> float:
@@ -72,8 +72,8 @@ def parse_number(text: str, *, decimal_comma: bool = False) -> float:
     if _NOT_FINITE.fullmatch(body):
         raise NumberError(f"must be a finite number, got {shown}")
     if not _NUMBER.fullmatch(body):
-        raise NumberError(f"not a number: {shown} ({_why(body)})" if body
-                          else f"not a number: {shown}")
+        why = _why(body)
+        raise NumberError(f"not a number: {shown} ({why})" if why else f"not a number: {shown}")
     value = float(body)
     if not math.isfinite(value):
         raise NumberError(f"must be a finite number, got {shown} (too large)")
@@ -94,4 +94,4 @@ def check_plain_digits(text: str) -> None:
     shown = repr(body) if len(body) <= 40 else repr(body[:37] + "...")
     if any(not c.isascii() and unicodedata.category(c) == "Nd" for c in body) or \
             re.search(r"[0-9]_|_[0-9]", body):
-        raise NumberError(f"not a number: {shown} ({_why(body)})")
+        raise NumberError(f"not a number: {shown} ({_why(body) or 'write it without _'})")

@@ -93,3 +93,19 @@ def test_plain_numbers_still_plan():
     code, out, _ = run("plan", "--target", "liver", "--bmi", " 35 ", "--condition", "steatosis:2",
                        "--json")
     assert code == 0 and '"bmi": 35.0' in out
+
+
+@pytest.mark.parametrize("argv", [["-x"], ["--bogus=1"], ["--json"]])
+def test_a_stray_option_without_a_subcommand_is_a_usage_error_not_the_ui(argv, monkeypatch):
+    import planner.cli as cli
+    monkeypatch.setattr(cli, "run_ui", lambda args=None: pytest.fail("the UI was started"))
+    line = one_line_usage_error(*run(*argv))
+    assert "unrecognized arguments" in line
+
+
+def test_no_arguments_starts_the_ui(monkeypatch):
+    import planner.cli as cli
+    started = []
+    monkeypatch.setattr(cli, "run_ui", lambda args=None: started.append(args) or 0)
+    assert run() == (0, "", "") and started == [None]
+    assert run("ui")[0] == 0 and len(started) == 2

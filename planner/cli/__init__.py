@@ -68,8 +68,13 @@ def build_parser(commands: Iterable[str] | None = None) -> argparse.ArgumentPars
 
 def _command(argv: list[str]) -> str | None:
     """The subcommand argparse will run for ``argv`` (None: none given), read against the
-    stand-in parser so that no subcommand module loads (``--version`` and ``-h`` exit here)."""
-    namespace, _ = build_parser(()).parse_known_args(argv)
+    stand-in parser so that no subcommand module loads (``--version`` and ``-h`` exit here).
+
+    Without a subcommand, anything else on the line is a usage error, as argparse says it."""
+    parser = build_parser(())
+    namespace, extras = parser.parse_known_args(argv)
+    if namespace.command is None and extras:
+        parser.parse_args(argv)           # raises UsageError: unrecognized arguments
     return namespace.command
 
 

@@ -7,6 +7,7 @@ from __future__ import annotations
 
 import argparse
 import math
+from typing import Any
 
 from planner.cli.common import emit_json, finite_float
 from planner.errors import InputError
@@ -211,12 +212,13 @@ def doppler_result(depth_cm: float, frequency_mhz: float, angle_deg: float,
     prf = float(doppler.prf_max_hz(depth_cm))
     plus, minus = (float(v) for v in doppler.velocity_error_fraction(angle_deg, [ANGLE_ERROR_DEG,
                                                                                  -ANGLE_ERROR_DEG]))
-    out = {"depth_cm": depth_cm, "frequency_mhz": frequency_mhz, "angle_deg": angle_deg,
-           "prf_max_hz": prf,
-           "v_max_cm_s": float(doppler.nyquist_velocity_cm_s(prf, frequency_mhz, angle_deg)),
-           "angle_error_deg": ANGLE_ERROR_DEG,
-           "velocity_error_percent": {"plus_5_deg": None if math.isnan(plus) else 100 * plus,
-                                      "minus_5_deg": None if math.isnan(minus) else 100 * minus}}
+    out: dict[str, Any] = {
+        "depth_cm": depth_cm, "frequency_mhz": frequency_mhz, "angle_deg": angle_deg,
+        "prf_max_hz": prf,
+        "v_max_cm_s": float(doppler.nyquist_velocity_cm_s(prf, frequency_mhz, angle_deg)),
+        "angle_error_deg": ANGLE_ERROR_DEG,
+        "velocity_error_percent": {"plus_5_deg": None if math.isnan(plus) else 100 * plus,
+                                   "minus_5_deg": None if math.isnan(minus) else 100 * minus}}
     if velocity_cm_s is not None:
         out["velocity_cm_s"] = velocity_cm_s
         out["doppler_shift_hz"] = float(doppler.doppler_shift_hz(frequency_mhz, velocity_cm_s, angle_deg))
