@@ -35,6 +35,7 @@ COMMANDS: dict[str, tuple[str, str]] = {
     "calc": ("planner.cli.calc", "quick physics calculations"),
     "protocol": ("planner.cli.protocol",
                  "check protocol files, export their JSON Schema, write protocol sheets"),
+    "schema": ("planner.cli.schema", "print the JSON Schema of a file kind or of plan --json"),
     "ui": ("planner.cli.ui", "open the terminal UI (the default without a subcommand)"),
 }
 """Subcommand name -> (module with ``register(subparsers)``, one-line help), in help order."""

@@ -48,6 +48,7 @@ SCHEMA_KINDS: dict[str, Callable[[], dict[str, Any]]] = {
     "probes": _lazy("planner.files.schemas:inventory_schema"),
     "policy": _lazy("planner.files.schemas:policy_schema"),
     "plan": _lazy("planner.files.schemas:plan_schema"),
+    "plan-output": _lazy("planner.engine.serialize:plan_output_schema"),
 }
 """File kind -> function returning its JSON Schema (draft 2020-12), in listing order."""
 
