@@ -140,9 +140,9 @@ def assess_window(stack: LayerStack, window, target, inventory: ProbeInventory) 
     ceil_f, ceil_h = _ceilings(arr, budget, iface)
     depth = stack.depth_cm
     shown = float(sound_speed.displayed_depth_cm(arr["thickness_cm"], arr["speed_m_per_s"]))
-    fat = [(lay.thickness_cm, lay.tissue.speed_m_per_s) for lay in stack.layers
-           if lay.tissue.id == "fat"]
-    fat_err = float(sound_speed.depth_error_mm([t for t, _ in fat], [c for _, c in fat])) if fat else 0.0
+    fat = [i for i, lay in enumerate(stack.layers) if lay.tissue.id == "fat"]
+    fat_err = float(sound_speed.depth_error_mm(arr["thickness_cm"][fat], arr["speed_m_per_s"][fat])) \
+        if fat else 0.0
     options = tuple(_option(p, window, depth, target.detail_mm, ceil_f) for p in inventory.probes)
     best = choose_probe(options, list(target.probe_types))
     return WindowAssessment(window, stack, budget, iface, ceil_f, ceil_h, shown,
