@@ -32,7 +32,7 @@ BONE_NEAR_FOCUS_TARGETS = frozenset({"fetal-head", "fetal-spine", "infant-hip"})
 """Targets whose focus lies at or near bone, so TIB applies and pulsed-Doppler times are cut."""
 
 
-def bone_near_focus(target: Any, window: Any = None) -> bool:
+def bone_near_focus(target, window=None) -> bool:
     """True when bone lies at or near the focus: bone or cartilage targets, the fetal head and
     spine, the infant hip, or bone on the window's path (the safety rules then use TIB)."""
     return (target.target_tissue in BONE_TARGET_TISSUES or target.id in BONE_NEAR_FOCUS_TARGETS

@@ -107,7 +107,8 @@ _SHIPPED = Path(__file__).resolve().parents[2] / "protocols"
 
 @dataclass(frozen=True)
 class Sheet:
-    """A built protocol sheet: JSON-ready ``data`` and one plan per view for its depth plot."""
+    """A built protocol sheet: ``data`` (plain values and typed rows; JSON through
+    :func:`planner.engine.serialize.to_json_data`) and one plan per view for its depth plot."""
 
     data: dict[str, Any]
     plot_plans: tuple[Plan, ...]
