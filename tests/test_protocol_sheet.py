@@ -21,6 +21,7 @@ import pytest
 
 from planner.body.habitus import BMI_CLASSES, who_bmi_class
 from planner.cli import main
+from planner.engine.serialize import to_json_data
 from planner.errors import DataError, ExitCode, InputError
 from planner.protocol import load_protocol
 from planner.protocol import sheet as sheet_module
@@ -107,9 +108,9 @@ def test_every_view_has_one_row_per_who_class_at_a_bmi_inside_the_class(upper):
     data = upper.data
     assert [c["id"] for c in data["habitus_classes"]] == [c[0] for c in BMI_CLASSES]
     for view in data["views"]:
-        assert [r["class"] for r in view["classes"]] == list(CLASS_IDS)
+        assert [r.class_id for r in view["classes"]] == list(CLASS_IDS)
         for row in view["classes"]:
-            assert who_bmi_class(row["bmi"])[0] == row["class"]
+            assert who_bmi_class(row.bmi)[0] == row.class_id
 
 
 def test_heaviest_class_gets_a_lower_top_frequency_than_normal_for_deep_views(upper):
@@ -119,12 +120,12 @@ def test_heaviest_class_gets_a_lower_top_frequency_than_normal_for_deep_views(up
     deeper (HabitusPracticeModel). Deep = 8 cm or more at normal weight."""
     deep = 0
     for view in upper.data["views"]:
-        rows = {r["class"]: r for r in view["classes"]}
+        rows = {r.class_id: r for r in view["classes"]}
         normal, heavy = rows["normal"], rows["obese_3"]
-        assert heavy["depth_cm"] > normal["depth_cm"]
-        if normal["depth_cm"] >= 8.0:
+        assert heavy.depth_cm > normal.depth_cm
+        if normal.depth_cm >= 8.0:
             deep += 1
-            assert heavy["band_mhz"]["high"] < normal["band_mhz"]["high"], view["id"]
+            assert heavy.band_mhz.high < normal.band_mhz.high, view["id"]
     assert deep >= 4
 
 
@@ -133,14 +134,14 @@ def test_harmonic_imaging_is_advised_from_obese_class_one(upper):
     (THIRadioGraphics; Ralls2000THI: better images in large body habitus)."""
     for view in upper.data["views"]:
         for row in view["classes"]:
-            if row["class"] in ("obese_1", "obese_2", "obese_3"):
-                assert row["harmonic"]["advised"], (view["id"], row["class"])
+            if row.class_id in ("obese_1", "obese_2", "obese_3"):
+                assert row.harmonic.advised, (view["id"], row.class_id)
 
 
 def test_main_warnings_are_at_most_three_cautions_or_warnings_most_severe_first(upper):
     for view in upper.data["views"]:
         for row in view["classes"]:
-            severities = [w["severity"] for w in row["warnings"]]
+            severities = [w.severity for w in row.warnings]
             assert len(severities) <= 3
             assert set(severities) <= {"caution", "warning"}
             assert severities == sorted(severities, key=("warning", "caution").index)
@@ -312,7 +313,7 @@ def test_json_keys_are_documented_in_the_module_docstring(upper):
     doc = sheet_module.__doc__
     data = upper.data
     keys = set(data) | set(data["protocol"]) | set(data["time"]) | set(data["safety"])
-    keys |= set(data["views"][0]) | set(data["views"][0]["classes"][0])
+    keys |= set(data["views"][0]) | set(to_json_data(data["views"][0]["classes"][0]))
     keys |= set(data["time"]["limits"][0]) | set(data["preparation"]) | set(data["personnel"])
     keys |= set(data["equipment"])
     undocumented = sorted(k for k in keys if k not in doc)

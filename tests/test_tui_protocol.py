@@ -76,13 +76,13 @@ async def test_shipped_protocol_shows_title_facts_and_a_band_per_class():
         table = plain(screen.query_one("#view-1"))
         assert "MHz" in table.splitlines()[0]
         obese_3, normal = row_of(table, "Obese class III"), row_of(table, "Normal weight")
-        row = next(r for r in screen.data["views"][0]["classes"] if r["class"] == "obese_3")
-        assert row["bmi"] >= 40                               # WHO2000Obesity: class III
-        band = row["band_mhz"]
-        assert f"{band['low']:.1f}-{band['high']:.1f}" in obese_3
+        row = next(r for r in screen.data["views"][0]["classes"] if r.class_id == "obese_3")
+        assert row.bmi >= 40                                  # WHO2000Obesity: class III
+        band = row.band_mhz
+        assert f"{band.low:.1f}-{band.high:.1f}" in obese_3
         # Thicker wall at BMI 45 (Gibney2010): the highest usable frequency is lower.
         normal_high = float(re.search(r"\d+\.\d-(\d+\.\d)", normal)[1])
-        assert band["high"] < normal_high
+        assert band.high < normal_high
         assert len(screen.query(".view-table")) == len(protocol.views)
         assert DISCLAIMER in text_of(screen, "#protocol-statement")
         scroll = screen.query_one("#protocol-scroll")

@@ -222,6 +222,14 @@ def _shallower(vessel: Vessel, depth: float, f_rec: float, angle: float, vd: flo
                   "only if such a window exists for this patient", v >= vd)
 
 
+def _nyquist_table(depth_cm: float, freqs: list[float], angles: list[float]) -> tuple[NyquistCell, ...]:
+    """Nyquist limit at the vessel depth for every frequency and angle, in one physics call."""
+    grid = doppler.max_velocity_at_depth_cm_s(depth_cm, np.array(freqs)[:, None],
+                                              np.array(angles)[None, :])
+    return tuple(NyquistCell(f, a, round(float(grid[i, j]), 1))
+                 for i, f in enumerate(freqs) for j, a in enumerate(angles))
+
+
 def plan_doppler(target: Any, assessment: WindowAssessment, probe: Probe | None,
                  inventory: ProbeInventory,
                  alternatives: Any = None) -> tuple[DopplerPlan | None, list[Finding]]:
@@ -272,8 +280,7 @@ def plan_doppler(target: Any, assessment: WindowAssessment, probe: Probe | None,
         prf_max_hz=round(float(doppler.prf_max_hz(depth))),
         probe=None if probe is None else probe.id, budget_db=budget,
         frequencies=tuple(DopplerFrequency(f, round(loss(f), 1), loss(f) <= budget) for f in freqs),
-        nyquist=tuple(NyquistCell(f, a, round(_vmax(depth, f, a), 1))
-                      for f in freqs for a in sorted(set(TABLE_ANGLES_DEG) | {angle})),
+        nyquist=_nyquist_table(depth, freqs, sorted(set(TABLE_ANGLES_DEG) | {angle})),
         recommended=DopplerSetting(f_rec, angle, round(vm, 1), round(loss(f_rec), 1),
                                    aim.unsteered_deg, aim.steer_deg, aim.heel_toe_deg, aim.how),
         checks=tuple(VelocityCheck(label, float(s.value), s.source, s.status, float(s.value) > vm)

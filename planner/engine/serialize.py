@@ -4,7 +4,8 @@
 findings and Doppler records inside them); :func:`plan_output_schema` derives the JSON Schema
 (draft 2020-12) from the same dataclass fields and type hints, so the two cannot drift apart.
 Field metadata: ``json=False`` keeps a typed decision out of the JSON; ``omit_none=True``
-leaves the key out when the value is None.
+leaves the key out when the value is None; ``json_key`` names the key when the attribute
+cannot (``class``).
 """
 
 from __future__ import annotations
@@ -21,21 +22,21 @@ __all__ = ["plan_output_schema", "plan_to_json_data", "to_json_data"]
 
 
 @lru_cache(maxsize=None)
-def _json_fields(cls: type) -> tuple[tuple[str, bool], ...]:
-    """(name, omit_none) of every field of ``cls`` written to JSON."""
-    return tuple((f.name, bool(f.metadata.get("omit_none"))) for f in dataclasses.fields(cls)
-                 if f.metadata.get("json", True))
+def _json_fields(cls: type) -> tuple[tuple[str, str, bool], ...]:
+    """(attribute, JSON key, omit_none) of every field of ``cls`` written to JSON."""
+    return tuple((f.name, f.metadata.get("json_key", f.name), bool(f.metadata.get("omit_none")))
+                 for f in dataclasses.fields(cls) if f.metadata.get("json", True))
 
 
 def to_json_data(value: Any) -> Any:
     """JSON-ready data of a record, a sequence or a mapping of them (tuples become lists)."""
     if dataclasses.is_dataclass(value) and not isinstance(value, type):
         out = {}
-        for name, omit_none in _json_fields(type(value)):
+        for name, key, omit_none in _json_fields(type(value)):
             item = getattr(value, name)
             if item is None and omit_none:
                 continue
-            out[name] = to_json_data(item)
+            out[key] = to_json_data(item)
         return out
     if isinstance(value, (list, tuple)):
         return [to_json_data(v) for v in value]
@@ -92,9 +93,10 @@ def _record_schema(cls: type, defs: dict[str, Any]) -> dict[str, Any]:
     for f in dataclasses.fields(cls):
         if not f.metadata.get("json", True):
             continue
-        props[f.name] = _schema_of(hints[f.name], defs)
+        key = f.metadata.get("json_key", f.name)
+        props[key] = _schema_of(hints[f.name], defs)
         if not f.metadata.get("omit_none"):
-            required.append(f.name)
+            required.append(key)
     out: dict[str, Any] = {"type": "object", "properties": props, "required": required,
                            "additionalProperties": False}
     doc = (cls.__doc__ or "").strip().splitlines()

@@ -31,7 +31,8 @@ JSON keys (``scanplan protocol sheet --format json``; keys sorted, no timestamps
     One entry per view: ``id, title, target {id, name}, window {id, name}, position,
     position_note, breathing, expected_minutes`` [min], ``protocol_probe {id, label}``,
     ``doppler_modes``, ``monitored_index``, ``plot_class`` (class of the depth plot) and
-    ``classes``: one row per habitus class with ``class, label, bmi``, ``probe``
+    ``classes``: one typed row per habitus class (:class:`planner.protocol.sheet_rows.SheetRow`;
+    in JSON:) ``class, label, bmi``, ``probe``
     (``{id, label, type, fit}`` or null), ``band_mhz {low, high, feasible}`` [MHz],
     ``harmonic {advised, short, reason}``, ``tilt_deg`` (largest deviation from
     perpendicular [deg]; null = free, diffuse target), ``depth_cm`` and
@@ -75,6 +76,7 @@ from planner.library.probes import ProbeInventory, load_inventory
 from planner.library.targets import load_library
 from planner.protocol.schema import Protocol, View
 from planner.protocol.sheet_limits import expected_ti_for, protocol_policy, time_section
+from planner.protocol.sheet_rows import CLASS_LABELS, SheetRow, sheet_row
 from planner.provenance import Sourced
 from planner.safety import (DISCLAIMER, EXAM_TYPES, MODES, ExamContext, load_local_policy,
                             safety_findings)
@@ -86,10 +88,6 @@ __all__ = ["FORMATS", "Sheet", "build_sheet", "sheet_from_file", "parse_habitus"
 SHEET_SCHEMA_VERSION = 1
 FORMATS: tuple[str, ...] = ("md", "html", "json")
 CLASS_IDS: tuple[str, ...] = tuple(c[0] for c in BMI_CLASSES)
-CLASS_LABELS: dict[str, str] = {c[0]: c[1] for c in BMI_CLASSES}
-MAIN_FINDINGS = 3
-"""How many cautions and warnings a sheet row lists."""
-LISTED_SEVERITIES: tuple[str, ...] = ("warning", "caution")
 
 DEFAULT_GESTATION_WEEKS = Sourced(
     20.0, "ISUOG2022MidTrimester", "from_memory",
@@ -109,7 +107,8 @@ _SHIPPED = Path(__file__).resolve().parents[2] / "protocols"
 
 @dataclass(frozen=True)
 class Sheet:
-    """A built protocol sheet: JSON-ready ``data`` and one plan per view for its depth plot."""
+    """A built protocol sheet: ``data`` (plain values and typed rows; JSON through
+    :func:`planner.engine.serialize.to_json_data`) and one plan per view for its depth plot."""
 
     data: dict[str, Any]
     plot_plans: tuple[Plan, ...]
@@ -162,41 +161,6 @@ def _view_context(protocol: Protocol, view: View, target, window, patient: Patie
     request = PlanRequest(view.target, patient, window_id=view.window,
                           context_overrides={"exam_type": protocol.exam_type, "modes": modes})
     return default_exam_context(request, target, window)
-
-
-HARMONIC_SHORT: dict[str, str] = {
-    "contraindicated": "keep off: the exam reads artefacts it suppresses",
-    "advised": "clutter likely; the harmonic echo reaches",
-    "out_of_reach": "clutter likely, but the harmonic echo does not reach",
-    "no_harmonic_mode": "the probe has no harmonic mode",
-    "optional": "thin wall, little clutter (optional)",
-}
-"""Short table text for each typed harmonic basis (:attr:`HarmonicDecision.basis`)."""
-
-
-def _harmonic(plan: Plan) -> dict[str, Any]:
-    """Harmonic advice with a short reason for the table (the full reason kept for JSON)."""
-    h = plan.harmonic
-    return {"advised": h.advised, "short": HARMONIC_SHORT[h.basis], "reason": h.reason}
-
-
-def _row(class_id: str, bmi: float, plan: Plan) -> dict[str, Any]:
-    """One habitus class of one view: probe, band, harmonic, tilt, depth, main cautions."""
-    main = [f for f in plan.findings if f.severity in LISTED_SEVERITIES]
-    main.sort(key=lambda f: LISTED_SEVERITIES.index(f.severity))
-    probe = plan.probe
-    band = plan.frequency_mhz
-    return {
-        "class": class_id, "label": CLASS_LABELS[class_id], "bmi": bmi,
-        "probe": None if probe is None else {"id": probe.id, "label": probe.label, "type": probe.type,
-                                             "fit": probe.fit},
-        "band_mhz": {"low": band.low, "high": band.high, "feasible": band.feasible},
-        "harmonic": _harmonic(plan),
-        "tilt_deg": plan.tilt.max_deviation_deg, "depth_cm": plan.depth_cm,
-        "displayed_depth_cm": plan.displayed_depth_cm,
-        "warnings": [{"code": f.code, "severity": f.severity, "title": f.title}
-                     for f in main[:MAIN_FINDINGS]],
-    }
 
 
 def build_sheet(protocol: Protocol, *, protocol_path: str | os.PathLike[str] | None = None,
@@ -285,13 +249,13 @@ def _plan_views(protocol: Protocol, classes: tuple[str, ...], inv_path: str | No
         window = target.window(view.window)
         ctx = _view_context(protocol, view, target, window, patients[classes[0]])
         contexts.append(ctx)
-        rows = []
+        rows: list[SheetRow] = []
         for c in classes:
             key = (view.target, view.window, c, ctx)
             if key not in memo:
                 memo[key] = make_plan(PlanRequest(view.target, patients[c], window_id=view.window,
                                                   context=ctx, probes_path=inv_path))
-            rows.append(_row(c, REPRESENTATIVE_BMI[c], memo[key]))
+            rows.append(sheet_row(c, REPRESENTATIVE_BMI[c], memo[key]))
         plots.append(memo[(view.target, view.window, plot_class, ctx)])
         views.append({
             "id": view.id, "title": view.title, "target": {"id": target.id, "name": target.name},

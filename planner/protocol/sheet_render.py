@@ -1,7 +1,7 @@
 """Protocol sheets as Markdown, printable HTML (inline SVG depth plots) and JSON.
 
-Every renderer reads the JSON-ready ``sheet.data`` built by
-:func:`planner.protocol.sheet.build_sheet`; only the HTML depth plots use the plans in
+Every renderer reads ``sheet.data`` built by :func:`planner.protocol.sheet.build_sheet`
+(its per-class rows are typed :class:`planner.protocol.sheet_rows.SheetRow`); only the HTML depth plots use the plans in
 ``sheet.plot_plans``. No timestamps or absolute paths, so the output of a given protocol
 is the same on every run.
 """
@@ -12,6 +12,9 @@ import json
 from html import escape
 from typing import Any
 
+from planner.engine.model import FrequencyBand
+from planner.engine.serialize import to_json_data
+from planner.protocol.sheet_rows import SheetRow
 from planner.report.svg import depth_plot_svg
 from planner.safety.format import minutes_text, number_text
 
@@ -29,24 +32,24 @@ def _words(text: str | None) -> str:
     return "-" if text is None else str(text).replace("_", " ")
 
 
-def _band(band: dict[str, Any]) -> str:
-    if band.get("low") is None:
+def _band(band: FrequencyBand) -> str:
+    if band.low is None or band.high is None:
         return "none"
-    text = f"{band['low']:.1f}-{band['high']:.1f}"
-    return text if band.get("feasible") else text + " (detail not reached)"
+    text = f"{band.low:.1f}-{band.high:.1f}"
+    return text if band.feasible else text + " (detail not reached)"
 
 
-def _cells(row: dict[str, Any]) -> list[str]:
+def _cells(row: SheetRow) -> list[str]:
     """The table cells of one habitus class of one view, as plain text."""
-    harmonic = row["harmonic"]
-    tilt = row["tilt_deg"]
-    warnings = "; ".join(f"{w['title']} ({w['severity']})" for w in row["warnings"]) or "none"
-    return [f"{row['label']} ({row['bmi']:g})",
-            row["probe"]["label"] if row["probe"] else "no probe fits",
-            _band(row["band_mhz"]),
-            ("yes: " if harmonic["advised"] else "no: ") + harmonic["short"],
+    harmonic = row.harmonic
+    tilt = row.tilt_deg
+    warnings = "; ".join(f"{w.title} ({w.severity})" for w in row.warnings) or "none"
+    return [f"{row.label} ({row.bmi:g})",
+            row.probe.label if row.probe else "no probe fits",
+            _band(row.band_mhz),
+            ("yes: " if harmonic.advised else "no: ") + harmonic.short,
             "free (diffuse target)" if tilt is None else f"within {tilt:.1f} deg",
-            f"{row['depth_cm']:.1f}", warnings]
+            f"{row.depth_cm:.1f}", warnings]
 
 
 def _view_line(view: dict[str, Any]) -> str:
@@ -263,4 +266,4 @@ def sheet_html(sheet) -> str:
 
 def sheet_json(sheet) -> str:
     """Render a sheet as JSON (sorted keys, two-space indent, no NaN)."""
-    return json.dumps(sheet.data, sort_keys=True, indent=2, allow_nan=False) + "\n"
+    return json.dumps(to_json_data(sheet.data), sort_keys=True, indent=2, allow_nan=False) + "\n"

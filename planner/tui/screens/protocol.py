@@ -13,7 +13,7 @@ from __future__ import annotations
 import re
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 from rich import box
 from rich.table import Table
@@ -27,6 +27,10 @@ from textual.widgets import Static
 
 from planner.errors import DataError, PlannerError
 from planner.tui.screens.closing import OnceModal
+
+if TYPE_CHECKING:  # the engine and the sheet load in the worker, not at start-up
+    from planner.engine.model import FrequencyBand
+    from planner.protocol.sheet_rows import SheetRow
 
 _LOCATION = re.compile(r"^(?P<file>.+?):(?P<line>\d+):(?P<col>\d+): (?P<rest>.*)$", re.S)
 CLASS_HEADERS: tuple[str, ...] = ("Class", "BMI", "Probe", "MHz", "Harm.", "Tilt", "Depth",
@@ -100,21 +104,21 @@ def problems_table(problems: tuple[str, ...]) -> Table:
     return table
 
 
-def _band_text(band: dict[str, Any]) -> str:
-    if band.get("low") is None:
+def _band_text(band: FrequencyBand) -> str:
+    if band.low is None or band.high is None:
         return "none"
-    text = f"{band['low']:.1f}-{band['high']:.1f}"
-    return text if band.get("feasible") else text + "*"
+    text = f"{band.low:.1f}-{band.high:.1f}"
+    return text if band.feasible else text + "*"
 
 
-def class_cells(row: dict[str, Any]) -> list[str]:
+def class_cells(row: SheetRow) -> list[str]:
     """The cells of one habitus class of one view (see :data:`CLASS_HEADERS`)."""
-    tilt = row["tilt_deg"]
-    cautions = "; ".join(("‼ " if w["severity"] == "warning" else "! ") + w["title"]
-                         for w in row["warnings"]) or "-"
-    return [row["label"], f"{row['bmi']:g}", row["probe"]["id"] if row["probe"] else "none fits",
-            _band_text(row["band_mhz"]), "yes" if row["harmonic"]["advised"] else "no",
-            "free" if tilt is None else f"≤{tilt:.1f}°", f"{row['depth_cm']:.1f}", cautions]
+    tilt = row.tilt_deg
+    cautions = "; ".join(("‼ " if w.severity == "warning" else "! ") + w.title
+                         for w in row.warnings) or "-"
+    return [row.label, f"{row.bmi:g}", row.probe.id if row.probe else "none fits",
+            _band_text(row.band_mhz), "yes" if row.harmonic.advised else "no",
+            "free" if tilt is None else f"≤{tilt:.1f}°", f"{row.depth_cm:.1f}", cautions]
 
 
 def _table() -> Table:

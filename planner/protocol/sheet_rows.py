@@ -1,0 +1,86 @@
+"""Typed rows of a protocol sheet: one habitus class of one view, made from its typed plan.
+
+The sheet's JSON is produced by :func:`planner.engine.serialize.to_json_data`; the row's
+``class_id`` is written under the key ``class``.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+from planner.body.habitus import BMI_CLASSES
+from planner.engine.model import FrequencyBand, Plan
+
+CLASS_LABELS: dict[str, str] = {c[0]: c[1] for c in BMI_CLASSES}
+"""WHO habitus class id -> label."""
+
+MAIN_FINDINGS = 3
+"""How many cautions and warnings a sheet row lists."""
+
+LISTED_SEVERITIES: tuple[str, ...] = ("warning", "caution")
+
+HARMONIC_SHORT: dict[str, str] = {
+    "contraindicated": "keep off: the exam reads artefacts it suppresses",
+    "advised": "clutter likely; the harmonic echo reaches",
+    "out_of_reach": "clutter likely, but the harmonic echo does not reach",
+    "no_harmonic_mode": "the probe has no harmonic mode",
+    "optional": "thin wall, little clutter (optional)",
+}
+"""Short table text for each typed harmonic basis (:attr:`HarmonicDecision.basis`)."""
+
+
+@dataclass(frozen=True, slots=True)
+class RowProbe:
+    """The probe a row's plan chose."""
+
+    id: str
+    label: str
+    type: str
+    fit: str
+
+
+@dataclass(frozen=True, slots=True)
+class RowHarmonic:
+    """Harmonic advice with a short reason for the table and the full reason for JSON."""
+
+    advised: bool
+    short: str
+    reason: str
+
+
+@dataclass(frozen=True, slots=True)
+class RowWarning:
+    """One of the row's main cautions or warnings."""
+
+    code: str
+    severity: str
+    title: str
+
+
+@dataclass(frozen=True, slots=True)
+class SheetRow:
+    """One habitus class of one view: probe, band, harmonic, tilt, depth, main cautions."""
+
+    class_id: str = field(metadata={"json_key": "class"})
+    label: str
+    bmi: float
+    probe: RowProbe | None
+    band_mhz: FrequencyBand
+    harmonic: RowHarmonic
+    tilt_deg: float | None
+    depth_cm: float
+    displayed_depth_cm: float
+    warnings: tuple[RowWarning, ...]
+
+
+def sheet_row(class_id: str, bmi: float, plan: Plan) -> SheetRow:
+    """The row of habitus class ``class_id`` (BMI ``bmi`` [kg/m^2]) from its plan."""
+    main = [f for f in plan.findings if f.severity in LISTED_SEVERITIES]
+    main.sort(key=lambda f: LISTED_SEVERITIES.index(f.severity))
+    probe, h = plan.probe, plan.harmonic
+    return SheetRow(
+        class_id, CLASS_LABELS[class_id], bmi,
+        None if probe is None else RowProbe(probe.id, probe.label, probe.type, probe.fit),
+        plan.frequency_mhz, RowHarmonic(h.advised, HARMONIC_SHORT[h.basis], h.reason),
+        plan.tilt.max_deviation_deg, plan.depth_cm, plan.displayed_depth_cm,
+        tuple(RowWarning(f.code, f.severity, f.title) for f in main[:MAIN_FINDINGS]))
