@@ -5,6 +5,7 @@ import json
 import numpy as np
 import pytest
 
+from planner.engine.serialize import plan_to_json_data
 from planner.body.patient import Patient
 from planner.engine import PlanRequest, make_plan
 from planner.engine.sweep import sweep
@@ -146,7 +147,7 @@ def test_windows_ranked_feasible_first_then_by_loss():
 
 
 def test_json_contract_keys():
-    d = plan("gallbladder", bmi=32).to_dict()
+    d = plan_to_json_data(plan("gallbladder", bmi=32))
     for key in ("target", "depth_cm", "frequency_mhz", "harmonic", "probe", "windows", "tilt",
                 "depth_error_mm", "findings", "safety", "assumptions", "validity", "disclaimer"):
         assert key in d
@@ -166,7 +167,7 @@ def test_every_target_plans_with_safety_and_statement(bmi):
     """Every target plans for slim, average and large patients, with ALARA, index and statement."""
     from planner.library.targets import load_library
     for tid in load_library().targets:
-        d = plan(tid, bmi=bmi).to_dict()
+        d = plan_to_json_data(plan(tid, bmi=bmi))
         json.dumps(d, allow_nan=False)
         codes = [f["code"] for f in d["safety"]]
         assert "safety.alara" in codes and "safety.index" in codes, tid

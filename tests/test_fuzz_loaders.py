@@ -49,6 +49,7 @@ import yaml
 from hypothesis import HealthCheck, assume, given, settings
 from hypothesis import strategies as st
 
+from planner.engine.serialize import plan_to_json_data
 from planner.body.patient import Patient
 from planner.engine import PlanRequest, make_plan
 from planner.errors import DataError, InputError, PlannerError
@@ -159,7 +160,7 @@ def check_loaded(kind: str, loaded: Any, path: Path) -> None:
         plan = make_plan(request)
     except InputError:
         return
-    json.dumps(plan.to_dict(), allow_nan=False)
+    json.dumps(plan_to_json_data(plan), allow_nan=False)
 
 
 def check_outcome(kind: str, path: Path) -> None:
@@ -699,7 +700,7 @@ def test_mutated_saved_plans_load_or_are_refused_with_a_line(inputs, data, works
             assert result.probes_path or result.local_policy_path
             assert all(problem.strip() and "\n" not in problem for problem in exc.problems)
             return
-        json.dumps(plan.to_dict(), allow_nan=False)
+        json.dumps(plan_to_json_data(plan), allow_nan=False)
 
 
 # -- minimal reproductions of what the fuzzing found (each fails until fixed) -------------

@@ -9,6 +9,7 @@ from __future__ import annotations
 
 from textual.widgets import Input
 
+from planner.engine.serialize import plan_to_json_data
 from planner.planfile import load_plan_inputs
 from planner.references import citation
 from planner.tui.app import ScanplanApp
@@ -161,7 +162,7 @@ async def test_save_then_open_round_trip(tmp_path):
         assert load_plan_inputs(path) == saved_inputs
         assert path.name in text_of(screen, "#masthead")
         await retype(pilot, screen, "wall_mm", "60")
-        assert screen.plan.to_dict()["window"]["wall_mm"] != 42.0
+        assert plan_to_json_data(screen.plan)["window"]["wall_mm"] != 42.0
         await pilot.press("ctrl+o")
         await answer_dialog(pilot, app, path)
         assert screen.query_one("#wall_mm", Input).value == "42"

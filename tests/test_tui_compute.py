@@ -6,6 +6,7 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
+from planner.engine.serialize import plan_to_json_data
 from planner.planfile import PlanInputs, SignOff
 from planner.tui.compute import (NUMBER_FIELDS, compute, form_values, parse_conditions,
                                  parse_form, parse_number)
@@ -16,7 +17,7 @@ def test_demo_is_invented_and_plans():
     """The demo patient is invented (BMI 38, moderate steatosis) and gives a plan."""
     outcome = compute(form_values(DEMO_INPUTS))
     assert outcome.problems == {} and outcome.message == ""
-    plan = outcome.plan.to_dict()
+    plan = plan_to_json_data(outcome.plan)
     assert plan["target"]["id"] == "liver" and plan["patient"]["bmi"] == 38.0
     assert plan["frequency_mhz"]["low"] < plan["frequency_mhz"]["high"]
 

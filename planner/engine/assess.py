@@ -14,7 +14,7 @@ from planner.body.stack import LayerStack, StackBatch
 from planner.engine.batch import (FIT_CODES, STRONG_TISSUES, WindowBatch, assess_batch,  # noqa: F401
                                   probe_fit, signal_budget_db)
 from planner.library.probes import Probe, ProbeInventory
-from planner.library.targets import Target, Window
+from planner.library.targets import Window
 from planner.physics import attenuation, beam
 
 

@@ -29,19 +29,13 @@ from planner.findings import Finding
 from planner.library.probes import Probe, ProbeInventory
 from planner.physics import doppler
 from planner.physics.constants import ANGLE_LIMIT_VELOCITY_DEG
+from planner.engine.doppler_rules import DOPPLER_BUDGET_DB, DOPPLER_RULES, DopplerContext
 from planner.provenance import Sourced
 
 __all__ = ["CW_PROBE_TYPES", "DOPPLER_BUDGET_DB", "DOPPLER_PLAN_MODES", "POLICIES", "Vessel",
            "_parse_vessel", "doppler_frequencies_mhz", "load_vessels", "plan_angle", "plan_doppler"]
 
 Loss = Callable[[float], float]
-
-DOPPLER_BUDGET_DB = Sourced(
-    40.0, "CommonPractice", "common_practice",
-    "usable round-trip loss for blood echoes: the 60 dB diffuse-imaging budget less the 20-60 dB "
-    "by which blood scatters below tissue (ClutterToBloodRatio), partly regained by the longer "
-    "Doppler pulse and ensemble averaging; 2-2.5 MHz Doppler to about 16 cm of soft tissue fits it")
-"""Round-trip loss the Doppler echo from blood may suffer and still be measured. [dB]"""
 
 STEERING_MAX_DEG: dict[str, Sourced] = {
     kind: Sourced(value, "CommonPractice", "common_practice", note) for kind, value, note in (
@@ -255,7 +249,6 @@ def plan_doppler(target: Any, assessment: WindowAssessment, probe: Probe | None,
         The typed Doppler plan and the findings of the Doppler rules
         (:data:`planner.engine.doppler_rules.DOPPLER_RULES`).
     """
-    from planner.engine.doppler_rules import DOPPLER_RULES, DopplerContext
 
     vessel = load_vessels().get(target.id)
     if vessel is None:

@@ -15,6 +15,15 @@ from planner.engine.vessels import Vessel
 from planner.findings import Finding, RuleRegistry
 from planner.physics import doppler
 from planner.physics.constants import ANGLE_LIMIT_VELOCITY_DEG
+from planner.provenance import Sourced
+
+DOPPLER_BUDGET_DB = Sourced(
+    40.0, "CommonPractice", "common_practice",
+    "usable round-trip loss for blood echoes: the 60 dB diffuse-imaging budget less the 20-60 dB "
+    "by which blood scatters below tissue (ClutterToBloodRatio), partly regained by the longer "
+    "Doppler pulse and ensemble averaging; 2-2.5 MHz Doppler to about 16 cm of soft tissue fits it")
+"""Round-trip loss the Doppler echo from blood may suffer and still be measured. [dB]"""
+
 
 
 @dataclass(frozen=True, slots=True)
@@ -126,8 +135,6 @@ def angle(ctx: DopplerContext) -> list[Finding]:
                         applies=lambda ctx: ctx.plan is not None and not ctx.fits)
 def signal(ctx: DopplerContext) -> list[Finding]:
     """A weak Doppler signal when even the lowest frequency loses more than the budget."""
-    from planner.engine.doppler_plan import DOPPLER_BUDGET_DB
-
     assert ctx.plan is not None
     lowest = min(ctx.freqs)
     loss = ctx.loss(lowest)

@@ -9,7 +9,6 @@ leaves the key out of the JSON when the value is None. Units are in the field na
 from __future__ import annotations
 
 from dataclasses import dataclass, field
-from typing import Any
 
 from planner.engine.doppler_model import DopplerPlan
 from planner.findings import Finding
@@ -191,7 +190,3 @@ class Plan:
     draft: bool = False
     inputs: InputsSummary | None = None
 
-    def to_dict(self) -> dict[str, Any]:
-        """The JSON data of ``plan --json`` (see :func:`planner.engine.serialize.plan_to_json_data`)."""
-        from planner.engine.serialize import plan_to_json_data
-        return plan_to_json_data(self)
