@@ -85,6 +85,7 @@ def check_events(text: str, label: str, max_depth: int, max_nodes: int) -> list[
                 depth += 1
                 if depth > max_depth:
                     mark = event.start_mark
+                    assert mark is not None          # the parser marks every event
                     return [f"{where(label, mark.line + 1, mark.column + 1)} nesting is deeper "
                             f"than the limit of {max_depth} levels"]
             elif isinstance(event, (yaml.MappingEndEvent, yaml.SequenceEndEvent)):
@@ -92,6 +93,7 @@ def check_events(text: str, label: str, max_depth: int, max_nodes: int) -> list[
             events += 1
             if events > max_nodes:
                 mark = event.start_mark
+                assert mark is not None
                 return [f"{where(label, mark.line + 1, mark.column + 1)} more than "
                         f"{max_nodes:,} YAML nodes; the file is too large to be a user file"]
     except yaml.YAMLError as exc:
@@ -182,6 +184,8 @@ class NodeBuilder:
                                                    item.start_mark.column + 1)
                 items.append(self.build(item, path + (index,)))
             return items
+        if not isinstance(node, MappingNode):   # composed YAML has no other node kinds
+            raise TypeError(f"unexpected YAML node {type(node).__name__}")
         if node.tag != _MAP_TAG:
             self.problems.append(f"{self.at(node)} unsupported YAML tag {node.tag!r} on a mapping")
         return self.mapping(node, path)

@@ -15,6 +15,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass, field
 from functools import lru_cache
+from typing import Any
 
 import numpy as np
 
@@ -79,15 +80,15 @@ def load_wall_models() -> dict[str, WallModel]:
                            provenance=Sourced(lay["a_mm"], lay["source"], lay["status"],
                                               lay.get("note", "")))
             for lay in raw["layers"])
+        facts: dict[str, Any] = {fact: bool(raw.get(fact, False)) for fact in WALL_FACTS}
         models[wall_id] = WallModel(id=wall_id, name=raw["name"], layers=layers,
                                     bmi_dependent=raw.get("bmi_dependent", True),
-                                    pannus=raw.get("pannus", False),
-                                    **{fact: bool(raw.get(fact, False)) for fact in WALL_FACTS})
+                                    pannus=raw.get("pannus", False), **facts)
     return models
 
 
 def _sex_weights(sex: str | None) -> tuple[float, float]:
-    return {"female": (1.0, 0.0), "male": (0.0, 1.0)}.get(sex, (0.5, 0.5))
+    return {"female": (1.0, 0.0), "male": (0.0, 1.0)}.get(sex or "", (0.5, 0.5))
 
 
 def wall_layers_mm(model: WallModel, bmi, sex: str | None = None, z: float = 0.0) -> np.ndarray:

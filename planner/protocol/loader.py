@@ -40,7 +40,7 @@ def read_probe_ids(path: str | os.PathLike[str] | None) -> tuple[tuple[str, ...]
     from planner.library.probes import load_inventory
 
     try:
-        inventory = load_inventory(path)
+        inventory = load_inventory(None if path is None else os.fspath(path))
     except DataError as exc:
         return (), list(exc.problems)
     return tuple(inventory.ids()), []
@@ -226,7 +226,7 @@ class _Checker:
         targets = self.library.targets
         if target not in targets:
             self.problems.add(path + ("target",), f"unknown target {target!r}"
-                              + _suggest(target, list(targets), "targets"))
+                              + _suggest(str(target), list(targets), "targets"))
             return None
         return [window.id for window in targets[target].windows]
 

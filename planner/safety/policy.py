@@ -206,7 +206,7 @@ def _cross_checks(problems: ProblemCollector, data: dict[str, Any]) -> None:
     exams = data.get("exam_limits")
     for exam, raw in (exams.items() if isinstance(exams, dict) else ()):
         value = raw.get("max_mi") if isinstance(raw, dict) else None
-        if _is_number(value) and value > ceiling:
+        if value is not None and _is_number(value) and value > ceiling:
             problems.add(("exam_limits", exam, "max_mi"),
                          f"must be at most {ceiling:g} (the regulatory MI ceiling), got {value!r}")
 
