@@ -248,3 +248,13 @@ async def test_every_view_settles_at_tiny_sizes():
             await pilot.pause()
         await retype(pilot, app.planning, "bmi", "29")
         assert app.planning.outcome.plan is not None
+
+
+def test_a_long_report_name_with_a_wrong_extension_is_one_short_line():
+    from planner.errors import InputError
+    from planner.tui.exporting import format_for
+    with pytest.raises(InputError) as excinfo:
+        format_for("r" * 300 + ".txt")
+    message = excinfo.value.message
+    assert ".md" in message and ".html" in message and len(message) < 160, message
+    assert format_for("R" * 300 + ".HTML") == "html"
