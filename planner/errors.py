@@ -59,3 +59,11 @@ class DataError(PlannerError):
                  title: str = "Invalid file") -> None:
         super().__init__(message, title)
         self.problems = list(problems or [message])
+
+
+class PathError(InputError):
+    """A path the user gave cannot be used: unknown ``~user``, a name too long, a missing
+    folder, no permission, an existing file not to be replaced, a refused write."""
+
+    def __init__(self, message: str, title: str = "Cannot use this path") -> None:
+        super().__init__(message, title)

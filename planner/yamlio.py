@@ -28,10 +28,7 @@ The models of :mod:`planner.files` therefore check types strictly.
 
 from __future__ import annotations
 
-import contextlib
 import os
-import tempfile
-import threading
 from collections.abc import Mapping
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -256,96 +253,9 @@ class ProblemCollector:
                         self.problems, title=title)
 
 
-_UMASK_LOCK = threading.Lock()
-
-
-def _default_mode() -> int:
-    with _UMASK_LOCK:
-        mask = os.umask(0o022)
-        os.umask(mask)
-    return 0o666 & ~mask
-
-
-def atomic_write_text(path: str | os.PathLike[str], text: str, *, overwrite: bool = False) -> None:
-    """Write ``text`` (UTF-8) to ``path`` atomically.
-
-    The text goes to a temporary file in the same folder, is flushed and
-    ``fsync``-ed, then moved over the target with ``os.replace``; on any error
-    the temporary file is removed and the target is untouched.
-
-    Parameters
-    ----------
-    path : str or os.PathLike
-        The file to write.
-    text : str
-        The complete new content.
-    overwrite : bool
-        Replace an existing file (the command line's ``--force``).
-
-    Raises
-    ------
-    InputError
-        When the file exists and ``overwrite`` is false, the target is a folder,
-        its folder does not exist, or the operating system refuses the write.
-    """
-    target = Path(path)
-    folder = target.parent
-    if target.is_dir():
-        raise InputError(f"{target} is a folder; give a file name to write")
-    if not folder.is_dir():
-        raise InputError(f"cannot write {target}: folder {folder} does not exist")
-    if target.exists() and not overwrite:
-        raise InputError(f"{target} exists; use --force to overwrite it")
-    mode = (target.stat().st_mode & 0o7777) if target.exists() else _default_mode()
-    try:
-        handle, temp_name = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".tmp",
-                                             dir=folder)
-    except OSError as exc:
-        raise InputError(f"cannot write {target}: {exc.strerror or exc}") from None
-    try:
-        with os.fdopen(handle, "w", encoding="utf-8", newline="") as stream:
-            stream.write(text)
-            stream.flush()
-            os.fsync(stream.fileno())
-        os.chmod(temp_name, mode)
-        if overwrite:
-            os.replace(temp_name, target)
-        else:
-            _move_no_clobber(temp_name, target)
-    except BaseException as exc:
-        with contextlib.suppress(OSError):
-            os.unlink(temp_name)
-        if isinstance(exc, OSError):
-            raise InputError(f"cannot write {target}: {exc.strerror or exc}") from None
-        raise
-    _fsync_folder(folder)
-
-
-def _move_no_clobber(temp_name: str, target: Path) -> None:
-    """Move without replacing a file that appeared meanwhile (hard link when possible)."""
-    try:
-        os.link(temp_name, target)
-    except FileExistsError:
-        raise InputError(f"{target} exists; use --force to overwrite it") from None
-    except OSError:
-        if target.exists():
-            raise InputError(f"{target} exists; use --force to overwrite it") from None
-        os.replace(temp_name, target)
-        return
-    os.unlink(temp_name)
-
-
-def _fsync_folder(folder: Path) -> None:
-    try:
-        fd = os.open(folder, os.O_RDONLY)
-    except OSError:
-        return
-    try:
-        os.fsync(fd)
-    except OSError:
-        pass
-    finally:
-        os.close(fd)
+# Writing lives in planner.atomicfile (user paths, stale temporary files); kept here so
+# that every file operation on user files is reachable from this one module.
+from planner.atomicfile import atomic_write_text  # noqa: E402
 
 
 class _PlainDumper(_DUMPER):  # type: ignore[misc, valid-type]

@@ -193,7 +193,11 @@ def test_raw_condition_mappings_are_checked(target, conditions):
             f"conditions={conditions!r} should be refused with InputError, "
             f"got {type(result).__name__}")
     else:
-        assert isinstance(result, (Plan, InputError))
+        # valid ids and grades on an ordinary patient (BMI 30, any target) must plan: an
+        # InputError here would be a refusal of valid input
+        assert isinstance(result, Plan), (
+            f"conditions={conditions!r} on {target} were refused: {getattr(result, 'message', result)}")
+        assert result.to_dict()["patient"]["conditions"] == conditions   # the plan used them all
 
 
 # -- monotonic properties -----------------------------------------------------------------

@@ -248,7 +248,13 @@ async def test_views_help_theme_and_quit():
             assert screen.query_one("#views").active == view
         await pilot.press("f5")
         await pilot.pause()
-        assert screen.query_one("#profile-plot") is not None
+        plot = screen.query_one("#profile-plot")
+        # drawn on screen (a region with area) from this plan's profile, down to its depth
+        assert plot.display and plot.region.area > 0
+        profile = plot.parent.profile
+        assert profile is not None and profile.target_depth_cm > 0
+        from planner.report.profile import plan_budget_db
+        assert profile.budget_db == plan_budget_db(screen.plan.to_dict())
         assert "budget" in text_of(screen, "#profile-caption")
         await pilot.press("f1")
         await pilot.pause()

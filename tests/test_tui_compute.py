@@ -28,10 +28,33 @@ def test_parse_number(text, value):
     assert parse_number(text, "BMI") == value
 
 
-@pytest.mark.parametrize("text", ["abc", "nan", "inf", "-inf", "3..5", "1,2,3"])
+@pytest.mark.parametrize("text", ["abc", "nan", "inf", "-inf", "3..5", "1,2,3", "1e999", "0x1A",
+                                  ".5", "5.", "1e", "--5", "3 5"])
 def test_parse_number_refuses(text):
     with pytest.raises(ValueError, match="BMI"):
         parse_number(text, "BMI")
+
+
+@pytest.mark.parametrize("text, hint", [
+    ("1_0", "without '_'"),                 # Python's float() reads this as 10.0
+    ("٣٥", "digits 0-9"),                   # ARABIC-INDIC DIGIT THREE, FIVE (U+0663, U+0665)
+    ("３５", "digits 0-9"),                  # FULLWIDTH DIGIT THREE, FIVE (U+FF13, U+FF15)
+    ("3٥", "digits 0-9"),
+])
+def test_parse_number_refuses_what_float_would_reinterpret(text, hint):
+    """float() accepts these (PEP 515 underscores, Unicode decimal digits); the form must not."""
+    assert float(text) in (10.0, 35.0)     # the behaviour of Python itself that is guarded against
+    with pytest.raises(ValueError, match=hint):
+        parse_number(text, "BMI")
+
+
+def test_form_marks_field_with_underscore_or_foreign_digits():
+    """A typed `1_0` or `٣٥` is a problem on that field, not a plan for BMI 10 or 35."""
+    for text in ("1_0", "٣٥"):
+        values = form_values(DEMO_INPUTS)
+        values["bmi"] = text
+        outcome = compute(values)
+        assert outcome.plan is None and "bmi" in outcome.problems
 
 
 def test_parse_conditions_accepts_words_and_numbers():

@@ -8,6 +8,7 @@ problems keyed by field name, which the UI shows next to each field.
 from __future__ import annotations
 
 import math
+import re
 import time
 from dataclasses import dataclass, field
 from typing import Any
@@ -37,8 +38,16 @@ SIGNOFF_FIELDS: tuple[str, ...] = ("student", "supervisor", "date", "supervisor_
 """Free-text sign-off fields of a supervised draft."""
 
 
+_NUMBER_RE = re.compile(r"[+-]?[0-9]+(?:\.[0-9]+)?(?:[eE][+-]?[0-9]+)?", re.ASCII)
+"""What a typed number may look like: ASCII digits only, no ``_`` separators, no words."""
+
+
 def parse_number(text: str, label: str) -> float | None:
     """Read a typed number; empty means not given. A decimal comma is accepted.
+
+    Only plain ASCII numbers are read (``[+-]digits[.digits][e[+-]digits]``): Python's
+    ``float`` would also take ``1_0`` as 10, Arabic-Indic digits such as ``٣٥`` as 35,
+    and ``nan`` or ``inf``, which a form must refuse rather than silently reinterpret.
 
     Raises
     ------
@@ -48,12 +57,15 @@ def parse_number(text: str, label: str) -> float | None:
     text = text.strip().replace(",", ".")
     if not text:
         return None
-    try:
-        value = float(text)
-    except ValueError:
-        raise ValueError(f"{label}: not a number ({text!r})") from None
+    if not _NUMBER_RE.fullmatch(text):
+        if "_" in text:
+            raise ValueError(f"{label}: write the number without '_' ({text!r})")
+        if any(ch.isdigit() and not ch.isascii() for ch in text):
+            raise ValueError(f"{label}: use the digits 0-9 ({text!r})")
+        raise ValueError(f"{label}: not a number ({text!r}); write e.g. 38 or 38.5")
+    value = float(text)
     if not math.isfinite(value):
-        raise ValueError(f"{label}: must be a finite number")
+        raise ValueError(f"{label}: must be a finite number ({text!r} is too large)")
     return value
 
 

@@ -13,9 +13,11 @@ FORMATS: dict[str, str] = {".md": "md", ".markdown": "md", ".html": "html", ".ht
 
 def format_for(path: str | Path) -> str:
     """The report format for a file name; InputError names the accepted extensions."""
+    name = Path(path).name
     suffix = Path(path).suffix.lower()
     if suffix not in FORMATS:
-        raise InputError(f"report file must end in {', '.join(FORMATS)}, got {Path(path).name!r}")
+        shown = name if len(name) <= 60 else f"{name[:40]}…{name[-19:]}"
+        raise InputError(f"report file must end in {', '.join(FORMATS)}, got {shown!r}")
     return FORMATS[suffix]
 
 

@@ -50,6 +50,10 @@ def explanation_markup(finding: Finding) -> str:
 class ExplainScreen(OnceModal[None]):
     """A modal with :func:`explanation_markup`; Escape or Enter closes it."""
 
+    # A scrollbar that appears and disappears as the width changes would make an auto-height
+    # scroll area re-lay itself out forever at tiny sizes (a 1x1 terminal): keep its gutter.
+    DEFAULT_CSS = "#explain-scroll { scrollbar-gutter: stable; }"
+
     BINDINGS = [Binding("escape,enter", "close", "Close", show=True)]
 
     def __init__(self, finding: Finding) -> None:

@@ -41,6 +41,10 @@ ABOUT = (
 class HelpScreen(OnceModal[None]):
     """Keys and a short description; Escape closes it."""
 
+    # A scrollbar that appears and disappears as the width changes would make an auto-height
+    # scroll area re-lay itself out forever at tiny sizes (a 1x1 terminal): keep its gutter.
+    DEFAULT_CSS = "#help-scroll { scrollbar-gutter: stable; }"
+
     BINDINGS = [Binding("escape,f1,enter", "close", "Close", show=True)]
 
     def compose(self) -> ComposeResult:

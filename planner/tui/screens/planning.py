@@ -20,6 +20,7 @@ from textual.markup import escape
 from textual.screen import Screen
 from textual.widgets import Checkbox, Footer, Input, Static
 
+from planner.atomicfile import user_path
 from planner.errors import DataError, InputError, PlannerError
 from planner.planfile import PlanInputs
 from planner.tui.compute import FIELD_LABELS, Outcome, compute, form_values
@@ -27,7 +28,10 @@ from planner.tui.demo import DEMO_INPUTS, DEMO_LABEL
 from planner.tui.messages import EngineLoaded, FindingOpened, InputsEdited, PlanComputed
 from planner.tui.screens.explain import ExplainScreen
 from planner.tui.screens.path_dialog import PathDialog, PathRequest
+from planner.tui.widgets import guards
 from planner.tui.widgets.masthead import Masthead
+
+guards.install()   # Textual 8.2.8: PageDown at 1x1, a burst of Enters in the palette
 
 
 class PlanningScreen(Screen):
@@ -237,7 +241,7 @@ class PlanningScreen(Screen):
 
     def _save(self, path: str, inputs: PlanInputs, overwrite: bool) -> str | None:
         from planner.planfile import save_plan_inputs
-        save_plan_inputs(Path(path).expanduser(), inputs, overwrite=overwrite)
+        save_plan_inputs(user_path(path), inputs, overwrite=overwrite)
         self.baseline, self.source = inputs, Path(path).name
         self._update_masthead(inputs)
         self.notify(f"Saved {path}")
@@ -252,7 +256,7 @@ class PlanningScreen(Screen):
 
     def _open(self, path: str) -> str | None:
         from planner.planfile import load_plan_inputs
-        inputs = load_plan_inputs(Path(path).expanduser())
+        inputs = load_plan_inputs(user_path(path))
         self._adopt(inputs, Path(path).name)
         self.notify(f"Opened {path}")
         return None
@@ -265,7 +269,7 @@ class PlanningScreen(Screen):
 
     def _open_protocol(self, path: str) -> str | None:
         from planner.tui.screens.protocol import ProtocolScreen
-        target = Path(path).expanduser()
+        target = user_path(path)
         if target.is_dir():
             raise InputError(f"{path}: is a folder, not a protocol file")
         if not target.exists():
@@ -286,7 +290,7 @@ class PlanningScreen(Screen):
         from planner.tui.exporting import format_for, report_text
         from planner.yamlio import atomic_write_text
         text = report_text(plan, inputs, format_for(path))
-        atomic_write_text(Path(path).expanduser(), text, overwrite=overwrite)
+        atomic_write_text(user_path(path), text, overwrite=overwrite)
         self.notify(f"Exported {path}")
         return None
 
@@ -295,14 +299,14 @@ class PlanningScreen(Screen):
         def done(path: str | None) -> None:
             if not path:
                 return
-            target = Path(path).expanduser()
-            confirm = request.confirm and path == request.path
-            if not must_exist and target.exists() and not target.is_dir() and not confirm:
-                self._ask(PathRequest(request.title, request.hint, path,
-                                      (f"{path} exists: press Enter again to replace it",),
-                                      confirm=True), act, must_exist=must_exist)
-                return
             try:
+                target = user_path(path)      # ~ expanded; ~nosuchuser, long names refused
+                confirm = request.confirm and path == request.path
+                if not must_exist and target.is_file() and not confirm:
+                    self._ask(PathRequest(request.title, request.hint, path,
+                                          (f"{path} exists: press Enter again to replace it",),
+                                          confirm=True), act, must_exist=must_exist)
+                    return
                 act(path, confirm)
             except DataError as exc:
                 self._retry(request, path, tuple(exc.problems), act, must_exist)
