@@ -151,6 +151,8 @@ def remove_stale_temp_files(target: str | os.PathLike[str], *,
     now = time.time()
     for path in temp_files_for(target):
         match = _TEMP_RE.search(path.name)
+        if match is None:          # temp_files_for gives only matching names; never guess
+            continue
         try:
             age = now - path.lstat().st_mtime
             if age > stale_after_s or not _writer_alive(int(match["pid"])):

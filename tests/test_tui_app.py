@@ -254,7 +254,7 @@ async def test_views_help_theme_and_quit():
         profile = plot.parent.profile
         assert profile is not None and profile.target_depth_cm > 0
         from planner.report.profile import plan_budget_db
-        assert profile.budget_db == plan_budget_db(screen.plan.to_dict())
+        assert profile.budget_db == plan_budget_db(screen.plan)
         assert "budget" in text_of(screen, "#profile-caption")
         await pilot.press("f1")
         await pilot.pause()

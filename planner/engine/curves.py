@@ -19,7 +19,7 @@ transmission).
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from typing import Sequence
 
 import numpy as np
@@ -27,7 +27,7 @@ import numpy as np
 from planner.physics import attenuation
 from planner.physics.interfaces import intensity_transmission_normal
 
-PROFILE_POINTS: int = 121
+PROFILE_POINTS: int = 81
 """Evenly spaced sample depths of a plan's curves (layer boundaries are added exactly)."""
 
 
@@ -146,24 +146,25 @@ def loss_profile(layers: Sequence[LayerAcoustics], frequencies_mhz: Sequence[flo
     loss = 2.0 * crossed @ alpha.T                                              # (n_z, n_f)
     loss = loss + _interface_steps_db(layers, tops, depth)[:, None]
     return LossProfile(
-        depth_cm=tuple(float(z) for z in depth),
-        frequencies_mhz=tuple(float(f) for f in freqs),
-        loss_db=tuple(tuple(float(v) for v in loss[:, k]) for k in range(freqs.size)),
-        boundaries_cm=tuple(float(b) for b in bottoms[:-1]),
+        depth_cm=tuple(depth.tolist()),
+        frequencies_mhz=tuple(freqs.tolist()),
+        loss_db=tuple(tuple(row) for row in loss.T.tolist()),
+        boundaries_cm=tuple(bottoms[:-1].tolist()),
         target_depth_cm=total, budget_db=None if budget_db is None else float(budget_db))
 
 
 def _interface_steps_db(layers: Sequence[LayerAcoustics], tops: np.ndarray,
                         depth: np.ndarray) -> np.ndarray:
     """Cumulative two-way interface loss at each depth (an interface counts once passed). [dB]"""
-    steps = np.zeros_like(depth)
-    for i in range(1, len(layers)):
-        z1, z2 = layers[i - 1].impedance_mrayl, layers[i].impedance_mrayl
-        if z1 is None or z2 is None:
-            continue
-        transmission = float(intensity_transmission_normal(z1, z2))
-        steps += np.where(depth > tops[i], -2.0 * 10.0 * np.log10(transmission), 0.0)
-    return steps
+    pairs = [(i, a.impedance_mrayl, b.impedance_mrayl) for i, (a, b) in enumerate(zip(layers, layers[1:]), 1)
+             if a.impedance_mrayl is not None and b.impedance_mrayl is not None]
+    if not pairs:
+        return np.zeros_like(depth)
+    index = np.array([i for i, _, _ in pairs])
+    transmission = intensity_transmission_normal(np.array([z for _, z, _ in pairs]),
+                                                 np.array([z for _, _, z in pairs]))
+    step_db = -2.0 * 10.0 * np.log10(transmission)                               # (n_interfaces,)
+    return (depth[:, None] > tops[index][None, :]) @ step_db
 
 
 def candidate_frequencies_mhz(band_low: float | None, band_high: float | None,
@@ -207,8 +208,35 @@ def stack_acoustics(stack) -> list[LayerAcoustics]:
             for lay in stack.layers]
 
 
-def plan_depth_profile(assessment, band_low: float | None, band_high: float | None,
-                       points: int = PROFILE_POINTS) -> LossProfile | None:
+@dataclass(frozen=True)
+class DepthCurves:
+    """The curves a plan carries: its chosen window's layers, the frequencies to compare and the
+    budget, fixed by the engine; the loss is sampled when a view first draws it (cached).
+
+    Attributes
+    ----------
+    layers : tuple of LayerAcoustics
+        The chosen window's stack, probe first.
+    frequencies_mhz : tuple of float
+        The band's ends and one frequency above it (:func:`candidate_frequencies_mhz`). [MHz]
+    budget_db : float
+        The round-trip signal budget of the plan. [dB]
+    """
+
+    layers: tuple[LayerAcoustics, ...]
+    frequencies_mhz: tuple[float, ...]
+    budget_db: float
+    _samples: dict = field(default_factory=dict, compare=False, repr=False)
+
+    def profile(self, points: int = PROFILE_POINTS) -> LossProfile:
+        """Loss against depth at ``points`` evenly spaced depths (plus the layer boundaries)."""
+        if points not in self._samples:
+            self._samples[points] = loss_profile(self.layers, self.frequencies_mhz,
+                                                 budget_db=self.budget_db, points=points)
+        return self._samples[points]
+
+
+def plan_depth_curves(assessment, band_low: float | None, band_high: float | None) -> DepthCurves | None:
     """The curves of a plan: loss against depth through the chosen window at the band's ends
     and one frequency above it (None when the stack has no depth)."""
     option = assessment.best
@@ -216,5 +244,4 @@ def plan_depth_profile(assessment, band_low: float | None, band_high: float | No
     freqs = candidate_frequencies_mhz(band_low, band_high, assessment.ceiling_mhz, probe_band)
     if not freqs or assessment.stack.depth_cm <= 0:
         return None
-    return loss_profile(stack_acoustics(assessment.stack), freqs, budget_db=assessment.budget_db,
-                        points=points)
+    return DepthCurves(tuple(stack_acoustics(assessment.stack)), freqs, float(assessment.budget_db))

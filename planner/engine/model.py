@@ -10,6 +10,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass, field
 
+from planner.engine.curves import DepthCurves
 from planner.engine.doppler_model import DopplerPlan
 from planner.findings import Finding
 from planner.safety.validity import ValidityFlag
@@ -189,4 +190,6 @@ class Plan:
     doppler: DopplerPlan | None = None
     draft: bool = False
     inputs: InputsSummary | None = None
+    depth_curves: DepthCurves | None = field(default=None, metadata={"json": False})
+    """Round-trip loss against depth through the chosen window (the UI and HTML plots draw it)."""
 

@@ -12,6 +12,7 @@ from planner.engine import decisions
 from planner.engine.assess import WindowAssessment, assessment_at
 from planner.engine.batch import assess_batches
 from planner.engine.context import Decisions, RuleContext
+from planner.engine.curves import plan_depth_curves
 from planner.engine.doppler_model import DopplerPlan
 from planner.engine.doppler_plan import DOPPLER_PLAN_MODES, plan_doppler
 from planner.engine.model import (SCHEMA_VERSION, ChosenWindow, InputsSummary, PatientSummary, Plan,
@@ -176,6 +177,7 @@ def make_plan(request: PlanRequest) -> Plan:
         draft=request.draft,
         inputs=InputsSummary(target.id, request.window_id, exam.exam_type, inventory.origin,
                              request.local_policy_path),
+        depth_curves=plan_depth_curves(chosen, band.low, band.high),
     )
 
 

@@ -5,27 +5,15 @@ from __future__ import annotations
 from html import escape
 
 from planner.engine.model import Plan
-from planner.report.profile import layer_acoustics, loss_profile
+from planner.report.profile import plan_loss_profile
 
 COLOURS = ("#1f5f8b", "#b5531d", "#3d7d3a")
 """Stroke colours of the frequency curves (chosen for contrast in print)."""
 
 
-def plot_frequencies(plan: Plan) -> list[float]:
-    """Two or three frequencies worth comparing: band low, band high and its middle. [MHz]"""
-    f = plan.frequency_mhz
-    low, high = f.low, f.high
-    if not low or not high:
-        return [2.0, 3.5, 5.0]
-    if high - low < 0.3:
-        return [round(low, 1)]
-    return [round(low, 1), round((low + high) / 2, 1), round(high, 1)]
-
-
 def depth_plot_svg(plan: Plan, width: int = 360, height: int = 190) -> str:
     """SVG: loss (dB, downwards) against depth (cm, across), budget line and target depth marked."""
-    layers = [layer_acoustics(lay) for lay in plan.layers]
-    prof = loss_profile(layers, plot_frequencies(plan), budget_db=plan.budget_db, points=60)
+    prof = plan_loss_profile(plan, points=60)         # the curves the UI's depth view draws
     left, right, top, bottom = 42, 10, 12, 30
     w, h = width - left - right, height - top - bottom
     max_depth = max(prof.depth_cm[-1] * 1.1, 1.0)

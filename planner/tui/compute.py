@@ -21,9 +21,11 @@ NUMBER_FIELDS: dict[str, str] = {
     "height_cm": "height",
     "weight_kg": "weight",
     "wall_mm": "measured wall",
+    "fat_mm": "measured fat",
     "depth_cm": "measured depth",
     "gestation_weeks": "gestational age",
     "expected_ti": "expected TI",
+    "expected_mi": "expected MI",
     "planned_minutes": "planned minutes",
 }
 """Fields typed as numbers, with a short label for messages."""
@@ -126,6 +128,8 @@ def parse_form(raw: dict[str, Any]) -> tuple[PlanInputs, dict[str, str]]:
         sex=raw.get("sex") or None, conditions=conditions, exam_type=raw.get("exam_type") or None,
         modes=modes, contrast_agent=bool(raw.get("contrast_agent")),
         febrile=bool(raw.get("febrile")), pregnancy_possible=bool(raw.get("pregnancy_possible")),
+        lung_in_beam=bool(raw.get("lung_in_beam")), doppler=bool(raw.get("doppler")),
+        probes_path=raw.get("probes_path") or None, local_policy_path=raw.get("local_policy_path") or None,
         draft=bool(raw.get("draft")),
         signoff=SignOff(**{k: str(raw.get(k, "") or "") for k in SIGNOFF_FIELDS}),
         **numbers)
@@ -139,6 +143,8 @@ def form_values(inputs: PlanInputs) -> dict[str, Any]:
                conditions=conditions_text(inputs.conditions), exam_type=inputs.exam_type,
                modes=tuple(inputs.modes), contrast_agent=inputs.contrast_agent,
                febrile=inputs.febrile, pregnancy_possible=inputs.pregnancy_possible,
+               lung_in_beam=inputs.lung_in_beam, doppler=inputs.doppler,
+               probes_path=inputs.probes_path, local_policy_path=inputs.local_policy_path,
                draft=inputs.draft)
     out.update({k: getattr(inputs.signoff, k) for k in SIGNOFF_FIELDS})
     return out

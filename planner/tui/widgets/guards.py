@@ -17,13 +17,15 @@
 
 from __future__ import annotations
 
+from typing import Any
+
 from textual.command import CommandPalette
 from textual.widgets import OptionList
 
 __all__ = ["install"]
 
-_ORIGINAL = getattr(OptionList, "_move_page", None)
-_ORIGINAL_SELECT = CommandPalette.__dict__.get("_select_or_command")
+_ORIGINAL: Any = getattr(OptionList, "_move_page", None)
+_ORIGINAL_SELECT: Any = CommandPalette.__dict__.get("_select_or_command")
 
 
 def _move_page_guarded(self: OptionList, direction: int) -> None:
@@ -45,8 +47,8 @@ def install() -> bool:
     """Install both guards (idempotent); False when this Textual lacks either method."""
     if _ORIGINAL is None or _ORIGINAL_SELECT is None:
         return False
-    OptionList._move_page = _move_page_guarded
-    CommandPalette._select_or_command = _select_or_command_once
+    setattr(OptionList, "_move_page", _move_page_guarded)
+    setattr(CommandPalette, "_select_or_command", _select_or_command_once)
     # Textual dispatches @on handlers from a per-class table filled at class creation.
     for handlers in CommandPalette.__dict__.get("_decorated_handlers", {}).values():
         for index, (method, selectors) in enumerate(handlers):

@@ -26,9 +26,11 @@ from planner.tui.widgets.tick import Tick
 AUTO = "auto"
 """Select value meaning 'let the engine decide' (window, exam type) or 'unknown' (sex)."""
 
-FLAGS = ("pregnancy_possible", "contrast_agent", "febrile", "draft")
-_TEXT_INPUTS = ("bmi", "height_cm", "weight_kg", "wall_mm", "depth_cm", "conditions",
-                "gestation_weeks", "expected_ti", "planned_minutes") + SIGNOFF_FIELDS
+FLAGS = ("pregnancy_possible", "contrast_agent", "febrile", "lung_in_beam", "doppler", "draft")
+_TEXT_INPUTS = ("bmi", "height_cm", "weight_kg", "wall_mm", "fat_mm", "depth_cm", "conditions",
+                "gestation_weeks", "expected_ti", "expected_mi", "planned_minutes") + SIGNOFF_FIELDS
+CARRIED = ("probes_path", "local_policy_path")
+"""Inputs a plan file may hold that the form keeps but does not edit (department files)."""
 _EVENTS = (Input.Changed, Select.Changed, Checkbox.Changed, TargetPicked)
 
 
@@ -77,6 +79,8 @@ class InputPanel(VerticalScroll):
                                      id="sex"), field="sex")
         yield FieldRow("Wall mm", _text("wall_mm", v["wall_mm"], "measured, optional"),
                        field="wall_mm")
+        yield FieldRow("Fat mm", _text("fat_mm", v.get("fat_mm", ""), "measured, optional"),
+                       field="fat_mm")
         yield FieldRow("Depth cm", _text("depth_cm", v["depth_cm"], "measured, optional"),
                        field="depth_cm")
         conditions = _text("conditions", v["conditions"], "e.g. steatosis:2, ascites")
@@ -98,8 +102,12 @@ class InputPanel(VerticalScroll):
                    compact=True)
         yield Tick("Gas contrast agent", v["contrast_agent"], id="contrast_agent", compact=True)
         yield Tick("Febrile patient", v["febrile"], id="febrile", compact=True)
+        yield Tick("Lung in the beam", v.get("lung_in_beam", False), id="lung_in_beam", compact=True)
+        yield Tick("Doppler planning", v.get("doppler", False), id="doppler", compact=True)
         yield FieldRow("Expected TI", _text("expected_ti", v["expected_ti"], "as displayed"),
                        field="expected_ti")
+        yield FieldRow("Expected MI", _text("expected_mi", v.get("expected_mi", ""), "as displayed"),
+                       field="expected_mi")
         yield FieldRow("Minutes", _text("planned_minutes", v["planned_minutes"], "planned dwell"),
                        field="planned_minutes")
         yield Static("Supervision", classes="section")
@@ -152,6 +160,8 @@ class InputPanel(VerticalScroll):
             if self.mode_ids else tuple(self.values.get("modes") or ("b_mode",))
         for name in FLAGS:
             out[name] = self.query_one(f"#{name}", Checkbox).value
+        for name in CARRIED:
+            out[name] = self.values.get(name)
         self.values = dict(out)
         return out
 
