@@ -197,7 +197,7 @@ def test_raw_condition_mappings_are_checked(target, conditions):
         # InputError here would be a refusal of valid input
         assert isinstance(result, Plan), (
             f"conditions={conditions!r} on {target} were refused: {getattr(result, 'message', result)}")
-        assert result.to_dict()["patient"]["conditions"] == conditions   # the plan used them all
+        assert plan_to_json_data(result)["patient"]["conditions"] == conditions   # the plan used them all
 
 
 # -- monotonic properties -----------------------------------------------------------------

@@ -16,6 +16,7 @@ import pytest
 from textual import events
 from textual.widgets import Input, OptionList
 
+from planner.engine.serialize import plan_to_json_data
 from planner.tui.app import ScanplanApp
 from planner.tui.screens.explain import ExplainScreen
 from planner.tui.screens.help import HelpScreen
@@ -91,7 +92,7 @@ async def test_numbers_python_would_reinterpret_are_refused_inline(text):
         assert screen.outcome.plan is None and "bmi" in screen.outcome.problems
         assert "BMI" in text_of(screen, "#plan-status")
         # the plan still shown (the last valid one, marked stale) is not for BMI 10 or 35
-        assert screen.plan.to_dict()["patient"]["bmi"] not in (10.0, 35.0)
+        assert plan_to_json_data(screen.plan)["patient"]["bmi"] not in (10.0, 35.0)
 
 
 # -- 1x1 terminals --------------------------------------------------------------------------
