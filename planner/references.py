@@ -10,11 +10,8 @@ code is defined here.
 from __future__ import annotations
 
 from functools import lru_cache
-from importlib import resources
 
-import yaml
-
-_LOADER = getattr(yaml, "CSafeLoader", yaml.SafeLoader)
+from planner.datafiles import load_package_yaml, package_yaml_names
 
 
 @lru_cache(maxsize=1)
@@ -27,16 +24,16 @@ def load_references() -> dict[str, str]:
         When two files define the same key, or an entry is not a non-empty string.
     """
     merged: dict[str, str] = {}
-    folder = resources.files("planner") / "data" / "references"
-    for entry in sorted(folder.iterdir(), key=lambda p: p.name):
-        if not entry.name.endswith(".yaml"):
+    for name in package_yaml_names():
+        if not name.startswith("references/"):
             continue
-        data = yaml.load(entry.read_text(encoding="utf-8"), Loader=_LOADER) or {}
+        shown = name.removeprefix("references/")
+        data = load_package_yaml(name) or {}
         for key, citation in data.items():
             if key in merged:
-                raise ValueError(f"reference key {key!r} defined twice (again in {entry.name})")
+                raise ValueError(f"reference key {key!r} defined twice (again in {shown})")
             if not isinstance(citation, str) or not citation.strip():
-                raise ValueError(f"reference {key!r} in {entry.name} must be a citation string")
+                raise ValueError(f"reference {key!r} in {shown} must be a citation string")
             merged[str(key)] = citation.strip()
     return merged
 

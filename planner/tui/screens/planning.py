@@ -1,10 +1,12 @@
 """The planning screen: inputs on the left, the live plan on the right.
 
-Start-up is progressive, so that the first frame comes as fast as a bare Textual app:
-the first paint shows the masthead and a loading line; then :meth:`PlanningScreen.build`
-mounts the form (demo values) and the plan views, and the engine (numpy, the data
-tables, the target library) loads in a thread. From then on every change recomputes
-the plan synchronously (a few milliseconds) and never lets an exception escape.
+Start-up is progressive, so that the first frame comes as fast as a bare Textual app and
+the first plan soon after: the first paint shows the masthead and a loading line; then
+:meth:`PlanningScreen.build` starts loading the engine (numpy, the data tables, the target
+library) in a thread and mounts the plan views; the first plan, made from the opening
+inputs, is shown as soon as the engine is ready, and the form mounts after it. From then on
+every change recomputes the plan synchronously (a few milliseconds) and never lets an
+exception escape.
 """
 
 from __future__ import annotations
@@ -65,8 +67,12 @@ class PlanningScreen(Screen):
         self.recompute_ms: float = 0.0
         self.recomputes = 0
         self._last_input_id = "bmi"
-        self.built = False
+        self.built = False              # the form and the plan views are mounted
         self._building = False
+        self._pane_mounted = False
+        self._pending_engine: EngineLoaded | None = None
+        self._library_info: tuple | None = None
+        self._last_raw: dict | None = None
         self._protocol_path = "protocol.yaml"
 
     def compose(self) -> ComposeResult:
@@ -78,18 +84,41 @@ class PlanningScreen(Screen):
         self._update_masthead(self.baseline)
 
     async def build(self) -> None:
-        """Mount the form and the plan views, then start loading the engine."""
+        """Start loading the engine, mount the plan views; the form follows the first plan.
+
+        The engine (numpy, the data tables, the target library) loads in a thread while the
+        plan views mount, and the first plan is shown from the opening inputs as soon as it
+        is ready; the form (about a hundred widgets) mounts after that, and from then on
+        every plan is computed from the form.
+        """
         if self._building:
             return
         self._building = True
-        from planner.tui.widgets.input_panel import InputPanel
-        from planner.tui.widgets.plan_pane import PlanPane
-        body = Horizontal(id="body")
-        await self.mount(body, before=self.query_one(Footer))
-        await body.mount_all([InputPanel(form_values(self.baseline)), PlanPane()])
-        await self.query_one("#loading").remove()
-        self.built = True
         self.load_engine()
+        from planner.tui.widgets.plan_pane import PlanPane
+        body = Horizontal(Static("Loading the form…", id="inputs-placeholder"), id="body")
+        await self.mount(body, before=self.query_one(Footer))
+        await body.mount(PlanPane())
+        await self.query_one("#loading").remove()
+        self._pane_mounted = True
+        if self._pending_engine is not None:
+            event, self._pending_engine = self._pending_engine, None
+            self.on_engine_loaded(event)
+
+    async def _mount_form(self) -> None:
+        """Mount the input form (after the first plan is on screen) and plan from it."""
+        if self.built:
+            return
+        from planner.tui.widgets.input_panel import InputPanel
+        panel = InputPanel(form_values(self.baseline))
+        body = self.query_one("#body")
+        await self.query_one("#inputs-placeholder").remove()
+        await body.mount(panel, before=self.pane)
+        self.built = True
+        if self._library_info is not None:
+            panel.set_library(*self._library_info)
+            self.engine_ready = True
+            self.recompute()
 
     @property
     def panel(self):
@@ -119,19 +148,25 @@ class PlanningScreen(Screen):
             self.post_message(EngineLoaded(error=message))
 
     def on_engine_loaded(self, event: EngineLoaded) -> None:
+        if not self._pane_mounted:         # the engine won the race with the plan views
+            self._pending_engine = event
+            return
         pane = self.pane
         if event.error:
             pane.show_status(f"[bold $error]✗ The planner could not start:[/] {escape(event.error)}")
             pane.show_failure(event.error)
-            return
-        library, exam_types, modes, conditions = event.library
-        self.panel.set_library(library, exam_types, modes, conditions)
-        self.engine_ready = True
-        self.recompute()
+        else:
+            self._library_info = event.library
+            first = compute(form_values(self.baseline))   # the opening inputs, before the form
+            if first.plan is not None:
+                self._show_plan(first.plan)
+        self.call_after_refresh(self._mount_form)
 
     # -- recompute --------------------------------------------------------------------------
     def on_inputs_edited(self, event: InputsEdited) -> None:
         event.stop()
+        if self.engine_ready and self.panel.raw_values() == self._last_raw:
+            return              # e.g. the Changed events of the form's own first fill
         self.recompute()
 
     def recompute(self) -> Outcome | None:
@@ -140,23 +175,18 @@ class PlanningScreen(Screen):
             return None
         start = time.perf_counter()
         panel, pane = self.panel, self.pane
-        outcome = compute(panel.raw_values())
+        self._last_raw = panel.raw_values()
+        outcome = compute(self._last_raw)
         self.outcome = outcome
         unplaced = panel.show_problems(outcome.problems)
         if outcome.plan is not None:
-            plan = outcome.plan
             try:
-                pane.show_plan(plan)
+                self._show_plan(outcome.plan)
             except Exception as exc:  # noqa: BLE001 - a display bug must not end the session
                 outcome.message = f"cannot show this plan ({type(exc).__name__}: {exc}); please report it"
                 outcome.plan = None
         if outcome.plan is not None:
             self.plan = outcome.plan
-            band = plan.frequency_mhz
-            band_text = (f"{band.low:.1f}–{band.high:.1f} MHz"
-                         if band.low is not None and band.high is not None else "no usable band")
-            pane.show_status(f"[$success]✓[/] [b]{band_text}[/b] · "
-                             f"{escape(plan.window.name)}")
         else:
             names = ", ".join(FIELD_LABELS.get(k, k) for k in outcome.problems)
             detail = outcome.message or "; ".join(f"{k}: {v}" for k, v in unplaced.items())
@@ -174,6 +204,15 @@ class PlanningScreen(Screen):
         self.recomputes += 1
         self.post_message(PlanComputed(outcome))
         return outcome
+
+    def _show_plan(self, plan) -> None:
+        """Show ``plan`` in the views and its band and window on the status line."""
+        pane = self.pane
+        pane.show_plan(plan)
+        band = plan.frequency_mhz
+        band_text = (f"{band.low:.1f}–{band.high:.1f} MHz"
+                     if band.low is not None and band.high is not None else "no usable band")
+        pane.show_status(f"[$success]✓[/] [b]{band_text}[/b] · {escape(plan.window.name)}")
 
     def _update_masthead(self, inputs: PlanInputs) -> None:
         name = inputs.target_id
