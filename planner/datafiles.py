@@ -22,12 +22,8 @@ from importlib import resources
 from importlib.resources.abc import Traversable
 from typing import Any
 
-import yaml
-
 __all__ = ["PACKAGE_FILES", "compile_package_data", "compiled_status", "load_package_yaml",
            "package_data", "package_yaml_names", "vocabulary"]
-
-_LOADER = getattr(yaml, "CSafeLoader", yaml.SafeLoader)
 
 PACKAGE_FILES: tuple[str, ...] = ("tissues.yaml", "targets.yaml", "walls.yaml", "probes.yaml",
                                   "vessels.yaml", "safety.yaml", "vocabulary.yaml")
@@ -48,6 +44,13 @@ def package_yaml_names() -> tuple[str, ...]:
 
 def _twin(name: str) -> Traversable:
     return _data_dir() / "compiled" / (name.replace("/", "__").removesuffix(".yaml") + ".json")
+
+
+def _yaml_load(text: str) -> Any:
+    """Parse trusted package YAML with the C safe loader (PyYAML imported only when needed:
+    with current twins a plan never parses YAML)."""
+    import yaml
+    return yaml.load(text, Loader=getattr(yaml, "CSafeLoader", yaml.SafeLoader))
 
 
 def _sha256(text: str) -> str:
@@ -77,7 +80,7 @@ def load_package_yaml(name: str) -> Any:
     text = (_data_dir() / name).read_text(encoding="utf-8")
     data = _read_twin(name, _sha256(text))
     if data is _MISSING:
-        return yaml.load(text, Loader=_LOADER)
+        return _yaml_load(text)
     return data
 
 
@@ -98,7 +101,7 @@ def compiled_status() -> dict[str, str]:
             out[name] = "missing"
             continue
         current = (twin.get("source_sha256") == _sha256(text)
-                   and twin.get("data") == yaml.load(text, Loader=_LOADER))
+                   and twin.get("data") == _yaml_load(text))
         out[name] = "current" if current else "stale"
     return out
 
@@ -118,7 +121,7 @@ def compile_package_data() -> list[str]:
     written = []
     for name in package_yaml_names():
         text = (_data_dir() / name).read_text(encoding="utf-8")
-        data = yaml.load(text, Loader=_LOADER)
+        data = _yaml_load(text)
         encoded = json.dumps({"source": name, "source_sha256": _sha256(text), "data": data},
                              ensure_ascii=False, separators=(",", ":"), sort_keys=False)
         if json.loads(encoded)["data"] != data:

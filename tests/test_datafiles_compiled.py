@@ -18,13 +18,13 @@ def test_every_twin_is_current():
 
 def _count_yaml_parses(monkeypatch) -> list[int]:
     calls: list[int] = []
-    real_load = yaml.load
+    real_load = datafiles._yaml_load
 
-    def counting_load(*args, **kwargs):
+    def counting_load(text):
         calls.append(1)
-        return real_load(*args, **kwargs)
+        return real_load(text)
 
-    monkeypatch.setattr(datafiles.yaml, "load", counting_load)
+    monkeypatch.setattr(datafiles, "_yaml_load", counting_load)
     return calls
 
 

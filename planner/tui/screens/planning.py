@@ -222,9 +222,9 @@ class PlanningScreen(Screen):
         self.query_one(Masthead).show(name, self.source, inputs != self.baseline, inputs.draft)
 
     # -- views and focus --------------------------------------------------------------------
-    def action_view(self, view: str) -> None:
+    async def action_view(self, view: str) -> None:
         if self.built:
-            self.pane.switch_to(view)
+            await self.pane.switch_to(view)
 
     def action_focus_target(self) -> None:
         if self.built:

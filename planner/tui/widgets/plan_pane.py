@@ -1,4 +1,8 @@
-"""The right side of the planning screen: a status line and five views of the plan."""
+"""The right side of the planning screen: a status line and five views of the plan.
+
+Only the Plan view is mounted with the pane (it is the one on screen at start-up); each other
+view mounts the first time it is shown, so the first plan appears sooner.
+"""
 
 from __future__ import annotations
 
@@ -7,6 +11,7 @@ from typing import TYPE_CHECKING
 from textual.app import ComposeResult
 from textual.containers import Vertical
 from textual.markup import escape
+from textual.widget import Widget
 from textual.widgets import Static, TabbedContent, TabPane
 
 from planner.tui.widgets.doppler_view import DopplerView
@@ -31,21 +36,34 @@ class PlanPane(Vertical):
         self.plan: Plan | None = None
         self._stale: set[str] = set()
         self._status = ""
+        self._mounted_views: set[str] = set()
 
     def compose(self) -> ComposeResult:
         yield Static("Loading the engine and the target library…", id="plan-status")
         with TabbedContent(id="views", initial="plan"):
             with TabPane(VIEWS["plan"], id="plan"):
                 yield PlanSummary(id="summary")
-            with TabPane(VIEWS["findings"], id="findings"):
-                yield Static("Enter explains the highlighted finding", classes="hint")
-                yield FindingList(id="findings-list")
-            with TabPane(VIEWS["safety"], id="safety"):
-                yield SafetyView(id="safety-view")
-            with TabPane(VIEWS["depth"], id="depth"):
-                yield DepthProfile(id="profile")
-            with TabPane(VIEWS["doppler"], id="doppler"):
-                yield DopplerView(id="doppler-view")
+            for view in ("findings", "safety", "depth", "doppler"):
+                yield TabPane(VIEWS[view], id=view)
+
+    @staticmethod
+    def _view_widgets(view: str) -> list[Widget]:
+        """The widgets of a view that mounts when first shown."""
+        if view == "findings":
+            return [Static("Enter explains the highlighted finding", classes="hint"),
+                    FindingList(id="findings-list")]
+        if view == "safety":
+            return [SafetyView(id="safety-view")]
+        if view == "depth":
+            return [DepthProfile(id="profile")]
+        return [DopplerView(id="doppler-view")]
+
+    async def _ensure_view(self, view: str) -> None:
+        """Mount view ``view``'s widgets if this is the first time it is shown."""
+        if view == "plan" or view in self._mounted_views:
+            return
+        self._mounted_views.add(view)
+        await self.query_one(f"#{view}", TabPane).mount_all(self._view_widgets(view))
 
     def show_plan(self, plan: Plan) -> None:
         """Show a freshly computed plan: now in the visible view, the others when shown."""
@@ -58,6 +76,8 @@ class PlanPane(Vertical):
     def _refresh_view(self, view: str) -> None:
         if self.plan is None or view not in self._stale:
             return
+        if view != "plan" and view not in self._mounted_views:
+            return                      # shown (and filled) when its tab is first activated
         self._stale.discard(view)
         plan = self.plan
         if view == "plan":
@@ -71,8 +91,9 @@ class PlanPane(Vertical):
         elif view == "doppler":
             self.query_one(DopplerView).show_plan(plan)
 
-    def on_tabbed_content_tab_activated(self, event: TabbedContent.TabActivated) -> None:
+    async def on_tabbed_content_tab_activated(self, event: TabbedContent.TabActivated) -> None:
         if event.pane.id:
+            await self._ensure_view(event.pane.id)
             self._refresh_view(event.pane.id)
 
     def show_status(self, markup: str, *, stale: bool = False) -> None:
@@ -87,9 +108,11 @@ class PlanPane(Vertical):
         """No plan at all (e.g. the engine could not load): say why in the summary."""
         self.query_one(PlanSummary).show_message(f"[bold $error]No plan:[/] {escape(message)}")
 
-    def switch_to(self, view: str) -> None:
+    async def switch_to(self, view: str) -> None:
         """Show view ``view`` (a key of :data:`VIEWS`) and focus its main widget."""
+        await self._ensure_view(view)
         self.query_one(TabbedContent).active = view
+        self._refresh_view(view)
         target = {"findings": "#findings-list", "safety": "#safety-list"}.get(view)
         if target:
             self.query_one(target).focus()
