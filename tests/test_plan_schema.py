@@ -11,9 +11,8 @@ import copy
 import json
 from pathlib import Path
 
+import jsonschema  # in the test extra: a missing install fails the tests, never skips them
 import pytest
-
-jsonschema = pytest.importorskip("jsonschema")
 
 from planner.body.patient import Patient  # noqa: E402
 from planner.engine import PlanRequest, make_plan  # noqa: E402

@@ -11,6 +11,7 @@ import json
 import re
 from pathlib import Path
 
+import jsonschema
 import pytest
 
 from planner.protocol import schema as model
@@ -154,7 +155,6 @@ def test_small_validator_rejects_broken_fixtures(name):
 
 @pytest.mark.parametrize("path", SHIPPED, ids=lambda p: str(p.relative_to(ROOT)))
 def test_shipped_protocols_satisfy_the_schema(path):
-    jsonschema = pytest.importorskip("jsonschema")
     validator_cls = jsonschema.Draft202012Validator
     schema = protocol_json_schema()
     validator_cls.check_schema(schema)
@@ -166,7 +166,6 @@ def test_shipped_protocols_satisfy_the_schema(path):
 @pytest.mark.parametrize("name", ["unknown_key.yaml", "wrong_type.yaml",
                                   "missing_threshold_source.yaml"])
 def test_schema_rejects_broken_fixtures(name):
-    jsonschema = pytest.importorskip("jsonschema")
     data = load_user_yaml(BROKEN / name, kind="protocol").data
     validator = jsonschema.Draft202012Validator(protocol_json_schema())
     assert list(validator.iter_errors(data))
