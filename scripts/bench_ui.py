@@ -129,7 +129,7 @@ async def _recompute(keystrokes: int) -> tuple[list[float], list[float]]:
         bmi = screen.query_one("#bmi")
         bmi.focus()
         bmi.cursor_position = len(bmi.value)
-        await pilot.press(".")                      # "38." is still BMI 38
+        await pilot.press(".", "5")                 # BMI 38.5; the keys then go 38.55 <-> 38.5
         await pilot.pause(0.2)
         keys = [("5", "5"), ("backspace", None)] * (keystrokes // 2 + 1)
         for key, char in keys[:keystrokes]:
