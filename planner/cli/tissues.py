@@ -59,7 +59,7 @@ def tissue_rows(ids: list[str] | None = None) -> list[dict[str, Any]]:
         row: dict[str, Any] = {
             "id": tid, "name": tissue.name, "kind": tissue.kind,
             "aliases": sorted(a for a, target in aliases.items() if target == tid),
-            "impedance_mrayl": round(tissue.impedance_mrayl, 4),
+            "impedance_mrayl": float(f"{tissue.impedance_mrayl:.6g}"),
         }
         for field, _label, unit in FIELDS:
             sourced = tissue.provenance[field]
@@ -95,7 +95,8 @@ def format_table(rows: list[dict[str, Any]]) -> str:
     if total:
         parts = ", ".join(f"{n} {s.replace('_', ' ')}" for s, n in sorted(counts.items()))
         share = 100.0 * counts.get("verified", 0) / total
-        lines.append(f"{len(rows)} tissue{'' if len(rows) == 1 else 's'}, {total} sourced values ({share:.0f} % verified):")
+        noun = "tissue" if len(rows) == 1 else "tissues"
+        lines.append(f"{len(rows)} {noun}, {total} sourced values ({share:.0f} % verified):")
         lines.append(_clip(f"  {parts}.", WIDTH))
     lines.append("Full citations: planner/data/references/. Published values scatter "
                  "(species, temperature, method).")
