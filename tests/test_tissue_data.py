@@ -238,7 +238,8 @@ def test_corrections_follow_the_published_tables():
 # --- aliases ---------------------------------------------------------------------------------
 @pytest.mark.parametrize("name, canonical", [("muscle", "muscle_across"),
                                              ("bone", "cortical_bone"),
-                                             (" Muscle ", "muscle_across"), ("BONE", "cortical_bone"),
+                                             (" Muscle ", "muscle_across"),
+                                             ("BONE", "cortical_bone"),
                                              ("muscle_along", "muscle_along")])
 def test_practitioner_names_resolve(name, canonical):
     assert resolve_tissue_id(name) == canonical
