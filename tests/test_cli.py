@@ -77,7 +77,7 @@ def test_calc_doppler_json_contract(capsys):
     (["calc", "doppler", "--depth-cm", "-1", "--frequency-mhz", "3", "--angle-deg", "30"], "depth"),
     (["calc", "doppler", "--depth-cm", "5", "--frequency-mhz", "inf", "--angle-deg", "30"], "finite"),
     (["calc", "interface", "--from", "fat", "--to", "liver", "--angle-deg", "95"], "angle"),
-    (["calc", "interface", "--from", "fat", "--to", "bone"], "valid tissues"),
+    (["calc", "interface", "--from", "fat", "--to", "marrow"], "valid tissues"),
     (["plan", "--target", "lever"], "valid targets"),
     (["plan", "--target", "liver", "--bmi", "-3"], "BMI"),
     (["plan", "--target", "liver", "--condition", "steatosis:9"], "grade"),

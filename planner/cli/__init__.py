@@ -32,6 +32,8 @@ COMMANDS: dict[str, tuple[str, str]] = {
     "plan": ("planner.cli.plan", "plan one exam for one patient"),
     "sweep": ("planner.cli.sweep", "one plan headline per BMI (where a probe or window stops working)"),
     "targets": ("planner.cli.targets", "list the target library"),
+    "tissues": ("planner.cli.tissues",
+                "list the tissue table (values with units, sources and status; aliases)"),
     "calc": ("planner.cli.calc", "quick physics calculations"),
     "protocol": ("planner.cli.protocol",
                  "check protocol files, export their JSON Schema, write protocol sheets"),

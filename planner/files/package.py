@@ -11,7 +11,7 @@ from __future__ import annotations
 
 from typing import Annotated, Any, Literal
 
-from pydantic import Field, field_validator
+from pydantic import Field, field_validator, model_validator
 
 from planner.datafiles import vocabulary
 from planner.files.base import (FileModel, Finite, NonNegative, OptText, SourceKey,
@@ -31,10 +31,20 @@ class _Tissue(FileModel):
     attenuation_exponent: SourcedNumber
 
 class TissuesFile(FileModel):
-    """``tissues.yaml``: tissue id -> acoustic properties."""
+    """``tissues.yaml``: tissue id -> acoustic properties; ``aliases``: name -> tissue id."""
 
     schema_version: Literal[1]
+    aliases: dict[Text, Text] = Field(default_factory=dict)
     tissues: dict[Text, _Tissue]
+
+    @model_validator(mode="after")
+    def _aliases_name_tissues(self) -> TissuesFile:
+        for alias, target in self.aliases.items():
+            if alias in self.tissues:
+                raise ValueError(f"aliases.{alias} shadows the tissue id {alias!r}")
+            if target not in self.tissues:
+                raise ValueError(f"aliases.{alias} names the unknown tissue {target!r}")
+        return self
 
 class _BySex(FileModel):
     female: Finite

@@ -1,7 +1,9 @@
 """The tissue table: acoustic properties of tissues with their provenance.
 
 Loaded once from ``planner/data/tissues.yaml``. Acoustic impedance is derived as
-density x speed (status ``derived``).
+density x speed (status ``derived``). The file's ``aliases`` map the names a practitioner
+types (``muscle``, ``bone``) to canonical ids (``muscle_across``, ``cortical_bone``);
+:func:`get_tissue` and :func:`resolve_tissue_id` accept both, the table keeps the ids.
 
 References
 ----------
@@ -70,17 +72,41 @@ def _build(tissue_id: str, raw: dict) -> Tissue:
 
 
 @lru_cache(maxsize=1)
-def load_tissues() -> dict[str, Tissue]:
-    """Return the tissue table ``{id: Tissue}`` (cached)."""
+def _load() -> tuple[dict[str, Tissue], dict[str, str]]:
     data = load_package_yaml("tissues.yaml")
-    return {tid: _build(tid, raw) for tid, raw in data["tissues"].items()}
+    table = {tid: _build(tid, raw) for tid, raw in data["tissues"].items()}
+    aliases = {str(name): str(target) for name, target in (data.get("aliases") or {}).items()}
+    for name, target in aliases.items():
+        if name in table:
+            raise ValueError(f"tissues.aliases.{name} shadows the tissue id {name!r}")
+        if target not in table:
+            raise ValueError(f"tissues.aliases.{name} names the unknown tissue {target!r}")
+    return table, aliases
+
+
+def load_tissues() -> dict[str, Tissue]:
+    """Return the tissue table ``{id: Tissue}`` keyed by canonical id (cached)."""
+    return _load()[0]
+
+
+def tissue_aliases() -> dict[str, str]:
+    """Return ``{alias: canonical id}`` (``muscle`` -> ``muscle_across``, ...)."""
+    return dict(_load()[1])
+
+
+def resolve_tissue_id(name: str) -> str:
+    """Return the canonical id for a tissue id or alias (case and surrounding space ignored);
+    ``ValueError`` lists the valid names when it is unknown."""
+    table, aliases = _load()
+    key = name.strip().lower() if isinstance(name, str) else name
+    if key in table:
+        return key
+    if key in aliases:
+        return aliases[key]
+    raise ValueError(f"unknown tissue {name!r}; valid tissues: {', '.join(sorted(table))} "
+                     f"(aliases: {', '.join(f'{a}={t}' for a, t in sorted(aliases.items()))})")
 
 
 def get_tissue(tissue_id: str) -> Tissue:
-    """Return one tissue; ``ValueError`` lists the valid ids when it is unknown."""
-    table = load_tissues()
-    try:
-        return table[tissue_id]
-    except KeyError:
-        raise ValueError(f"unknown tissue {tissue_id!r}; valid tissues: "
-                         f"{', '.join(sorted(table))}") from None
+    """Return one tissue by id or alias; ``ValueError`` lists the valid names when unknown."""
+    return load_tissues()[resolve_tissue_id(tissue_id)]
