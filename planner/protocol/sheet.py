@@ -83,7 +83,7 @@ from planner.protocol.sheet_model import (Equipment, HabitusClass, LocalPolicyRe
 from planner.protocol.sheet_rows import CLASS_LABELS, SheetRow, sheet_row
 from planner.provenance import Sourced
 from planner.safety import (DISCLAIMER, EXAM_TYPES, MODES, ExamContext, load_local_policy,
-                            safety_findings)
+                            monitored_index, safety_findings)
 from planner.safety.format import number_text
 
 __all__ = ["FORMATS", "Sheet", "build_sheet", "sheet_from_file", "parse_habitus",
@@ -204,7 +204,7 @@ def build_sheet(protocol: Protocol, *, protocol_path: str | os.PathLike[str] | N
     scan_time = next(f for f in findings if f.code == "safety.scan_time")
     s = protocol.safety
     safety = SafetySection(
-        scan_time.values["monitored_index"], s.monitored_index,
+        monitored_index(exam), s.monitored_index,
         ProtocolLimits(_sourced(s.max_ti), _sourced(s.max_mi), _sourced(s.max_scan_minutes),
                        s.pulsed_doppler, tuple(s.notes)),
         None if policy is None else LocalPolicyRef(

@@ -15,11 +15,11 @@ from planner.findings import Finding
 from planner.protocol.schema import Protocol
 from planner.protocol.sheet_model import (LimitRow, PublishedRow, PublishedTable, TableMaxTi,
                                           TimeSection)
-from planner.safety import ExamContext, LocalPolicy
+from planner.safety import ExamContext, LocalPolicy, monitored_index
 from planner.safety.policy import LocalExamLimits
 from planner.safety.format import short_title
 from planner.safety.tables import safety_data
-from planner.safety.thermal import scan_time_group
+from planner.safety.thermal import scan_time_group, table_limits
 
 __all__ = ["expected_ti_for", "protocol_policy", "time_section"]
 
@@ -53,16 +53,15 @@ def time_section(protocol: Protocol, ctx: ExamContext, finding: Finding, basis: 
                  local: LocalPolicy | None) -> TimeSection:
     """Planned minutes against the published, local (file) and protocol limits.
 
-    ``ctx`` carries the planned minutes and expected TI, ``finding`` is its
-    ``safety.scan_time`` finding, ``local`` the policy given as a file (``None`` when the
-    protocol's own limits act as local policy: they get their own row anyway).
+    ``ctx`` carries the planned minutes and expected TI (the published bands are read at it
+    with :func:`planner.safety.thermal.table_limits`), ``finding`` is its ``safety.scan_time``
+    finding (its severity and message are the verdict), ``local`` the policy given as a file
+    (``None`` when the protocol's own limits act as local policy: they get their own row
+    anyway).
     """
     planned = float(ctx.planned_minutes or 0.0)
-    values = finding.values
-    limits: list[LimitRow] = []
-    for t in values.get("tables", []):
-        limits.append(_limit_row("published", t["title"], t["band"], t["kind"], t["limit_min"],
-                                 None, t["source"], t["status"], planned))
+    limits = [_limit_row("published", t.title, t.band, t.kind, t.limit_min, None, t.source,
+                         t.status, planned) for t in table_limits(ctx)]
     if local is not None:
         minutes = local.time_limit_min(ctx.exam_type, ctx.expected_ti)
         limits.append(_limit_row("local", local.label, None,
@@ -88,7 +87,7 @@ def time_section(protocol: Protocol, ctx: ExamContext, finding: Finding, basis: 
         best = t.max_ti_for_minutes(planned)
         most.append(TableMaxTi(short_title(t.title), t.source,
                                None if best is None or best == float("inf") else best))
-    return TimeSection(planned, values["monitored_index"], ctx.expected_ti, basis, tuple(limits),
+    return TimeSection(planned, monitored_index(ctx), ctx.expected_ti, basis, tuple(limits),
                        tuple(most), published, finding.severity, finding.message)
 
 
