@@ -8,8 +8,8 @@ protocol's own limits; all are shown side by side, the published value never hid
 
 from __future__ import annotations
 
+import os
 from pathlib import Path
-from typing import Any
 
 from planner.findings import Finding
 from planner.protocol.schema import Protocol
@@ -24,7 +24,8 @@ from planner.safety.thermal import scan_time_group, table_limits
 __all__ = ["expected_ti_for", "protocol_policy", "time_section"]
 
 
-def protocol_policy(protocol: Protocol, protocol_path: Any) -> LocalPolicy | None:
+def protocol_policy(protocol: Protocol,
+                    protocol_path: str | os.PathLike[str] | None) -> LocalPolicy | None:
     """The protocol's own safety limits as a local policy (``None`` when it sets none)."""
     s = protocol.safety
     if s.max_scan_minutes is None and s.max_ti is None and s.max_mi is None:
