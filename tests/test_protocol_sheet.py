@@ -21,12 +21,12 @@ import pytest
 
 from planner.body.habitus import BMI_CLASSES, who_bmi_class
 from planner.cli import main
-from planner.engine.serialize import to_json_data
 from planner.errors import DataError, ExitCode, InputError
 from planner.protocol import load_protocol
 from planner.protocol import sheet as sheet_module
 from planner.protocol.sheet import (CLASS_IDS, build_sheet, parse_habitus, render_sheet,
                                     sheet_from_file)
+from planner.protocol.sheet_model import sheet_to_json_data
 from planner.safety import DISCLAIMER
 
 ROOT = Path(__file__).parents[1]
@@ -90,7 +90,7 @@ def test_every_shipped_protocol_validates_and_renders_with_the_statement(path):
     statement (DESIGN section 4: every output carries it)."""
     protocol = load_protocol(path)
     sheet = build_sheet(protocol, protocol_path=path)
-    assert [v["id"] for v in sheet.data["views"]] == [v.id for v in protocol.views]
+    assert [v.id for v in sheet.views] == [v.id for v in protocol.views]
     for fmt in ("md", "html", "json"):
         text = render_sheet(sheet, fmt)
         assert DISCLAIMER in (json.loads(text)["statement"] if fmt == "json" else
@@ -105,11 +105,10 @@ def test_shipped_protocol_list_is_not_empty():
 
 def test_every_view_has_one_row_per_who_class_at_a_bmi_inside_the_class(upper):
     """WHO2000Obesity: each row's BMI lies in its class (18.5 / 25 / 30 / 35 / 40 kg/m2)."""
-    data = upper.data
-    assert [c["id"] for c in data["habitus_classes"]] == [c[0] for c in BMI_CLASSES]
-    for view in data["views"]:
-        assert [r.class_id for r in view["classes"]] == list(CLASS_IDS)
-        for row in view["classes"]:
+    assert [c.id for c in upper.habitus_classes] == [c[0] for c in BMI_CLASSES]
+    for view in upper.views:
+        assert [r.class_id for r in view.classes] == list(CLASS_IDS)
+        for row in view.classes:
             assert who_bmi_class(row.bmi)[0] == row.class_id
 
 
@@ -119,28 +118,28 @@ def test_heaviest_class_gets_a_lower_top_frequency_than_normal_for_deep_views(up
     deep targets, common practice); a thicker wall makes every target
     deeper (HabitusPracticeModel). Deep = 8 cm or more at normal weight."""
     deep = 0
-    for view in upper.data["views"]:
-        rows = {r.class_id: r for r in view["classes"]}
+    for view in upper.views:
+        rows = {r.class_id: r for r in view.classes}
         normal, heavy = rows["normal"], rows["obese_3"]
         assert heavy.depth_cm > normal.depth_cm
         if normal.depth_cm >= 8.0:
             deep += 1
-            assert heavy.band_mhz.high < normal.band_mhz.high, view["id"]
+            assert heavy.band_mhz.high < normal.band_mhz.high, view.id
     assert deep >= 4
 
 
 def test_harmonic_imaging_is_advised_from_obese_class_one(upper):
     """Harmonic imaging is clearly better in abdominal imaging from BMI 30
     (THIRadioGraphics; Ralls2000THI: better images in large body habitus)."""
-    for view in upper.data["views"]:
-        for row in view["classes"]:
+    for view in upper.views:
+        for row in view.classes:
             if row.class_id in ("obese_1", "obese_2", "obese_3"):
-                assert row.harmonic.advised, (view["id"], row.class_id)
+                assert row.harmonic.advised, (view.id, row.class_id)
 
 
 def test_main_warnings_are_at_most_three_cautions_or_warnings_most_severe_first(upper):
-    for view in upper.data["views"]:
-        for row in view["classes"]:
+    for view in upper.views:
+        for row in view.classes:
             severities = [w.severity for w in row.warnings]
             assert len(severities) <= 3
             assert set(severities) <= {"caution", "warning"}
@@ -149,18 +148,19 @@ def test_main_warnings_are_at_most_three_cautions_or_warnings_most_severe_first(
 
 def test_total_planned_minutes_is_the_sum_of_the_views(upper):
     """upper-abdomen.yaml: 3 + 3 + 2 + 3 + 3 + 2 + 2 + 2 = 20 min."""
-    assert upper.data["time"]["planned_minutes"] == 20.0
+    assert upper.time.planned_minutes == 20.0
 
 
 def test_published_and_protocol_limits_side_by_side(upper):
     """BMUS2009Detailed: no time limit up to TI 1.0 outside obstetrics; AIUM2022TI: none up
     to 1.5. The protocol's own 30 min cap is shown as its own row."""
-    limits = {(r["kind"], r["label"]): r for r in upper.data["time"]["limits"]}
-    assert limits[("published", "BMUS 2009")]["limit"] == "unlimited"
-    assert limits[("published", "AIUM 2022")]["limit"] == "unlimited"
+    limits = {(r.kind, r.label): r for r in upper.time.limits}
+    assert limits[("published", "BMUS 2009")].limit == "unlimited"
+    assert limits[("published", "AIUM 2022")].limit == "unlimited"
     protocol = limits[("protocol", "protocol upper-abdomen")]
-    assert (protocol["max_minutes"], protocol["max_ti"], protocol["within"]) == (30.0, 1.0, True)
-    assert upper.data["safety"]["local_policy"]["origin"] == "protocol"
+    assert (protocol.max_minutes, protocol.max_ti, protocol.within) == (30.0, 1.0, True)
+    assert upper.safety.local_policy is not None
+    assert upper.safety.local_policy.origin == "protocol"
 
 
 def _survey_copy(tmp_path: Path, max_ti: float) -> Path:
@@ -183,20 +183,20 @@ def test_obstetric_time_is_read_at_the_expected_ti_in_bmus_figure_one(
         tmp_path, max_ti, minutes, within, severity):
     """BMUS2009 Fig. 1 (obstetric, TIB after 10 weeks): scan-time limit per TI band."""
     sheet = sheet_from_file(_survey_copy(tmp_path, max_ti), habitus=("normal",))
-    time = sheet.data["time"]
-    assert time["planned_minutes"] == 18.0 and time["expected_ti"] == max_ti
-    bmus = next(r for r in time["limits"] if r["label"] == "BMUS 2009")
-    assert (bmus["max_minutes"], bmus["within"]) == (minutes, within)
-    assert time["severity"] == severity
-    assert time["monitored_index"] == "TIB"
+    time = sheet.time
+    assert time.planned_minutes == 18.0 and time.expected_ti == max_ti
+    bmus = next(r for r in time.limits if r.label == "BMUS 2009")
+    assert (bmus.max_minutes, bmus.within) == (minutes, within)
+    assert time.severity == severity
+    assert time.monitored_index == "TIB"
 
 
 def test_obstetric_sheet_states_the_gestation_it_assumes():
     """ISUOG2022MidTrimester: routine scan at 18-22 weeks; BMUS2009: TIB after 10 weeks."""
-    data = sheet_from_file(SURVEY, habitus=("normal",)).data
-    assert any("Gestation 20 weeks assumed" in a for a in data["assumptions"])
-    assert data["safety"]["monitored_index"] == "TIB"
-    assert all(v["monitored_index"] == "TIB" for v in data["views"])
+    sheet = sheet_from_file(SURVEY, habitus=("normal",))
+    assert any("Gestation 20 weeks assumed" in a for a in sheet.assumptions)
+    assert sheet.safety.monitored_index == "TIB"
+    assert all(v.monitored_index == "TIB" for v in sheet.views)
 
 
 def test_local_policy_file_adds_its_own_row(capsys):
@@ -214,10 +214,10 @@ def test_local_policy_file_adds_its_own_row(capsys):
 
 def test_views_with_the_same_target_and_window_share_their_plans():
     """renal-tract.yaml scans each kidney through the same flank window."""
-    data = sheet_from_file(RENAL, habitus=("normal",)).data
-    first, second = data["views"][0]["classes"][0], data["views"][1]["classes"][0]
+    sheet = sheet_from_file(RENAL, habitus=("normal",))
+    first, second = sheet.views[0].classes[0], sheet.views[1].classes[0]
     assert first == second
-    assert any("share one plan" in a for a in data["assumptions"])
+    assert any("share one plan" in a for a in sheet.assumptions)
 
 
 def test_probes_option_replaces_the_inventory(capsys):
@@ -303,7 +303,7 @@ def test_html_is_self_contained_with_one_inline_svg_per_view(upper):
     text = render_sheet(upper, "html")
     parser = _Tags()
     parser.feed(text)
-    assert parser.tags.count("svg") == len(upper.data["views"]) == 8
+    assert parser.tags.count("svg") == len(upper.views) == 8
     assert parser.links == [] and "script" not in parser.tags
     for svg in re.findall(r"<svg.*?</svg>", text, flags=re.S):
         ElementTree.fromstring(svg)        # each plot is well-formed SVG
@@ -311,9 +311,9 @@ def test_html_is_self_contained_with_one_inline_svg_per_view(upper):
 
 def test_json_keys_are_documented_in_the_module_docstring(upper):
     doc = sheet_module.__doc__
-    data = upper.data
+    data = sheet_to_json_data(upper)
     keys = set(data) | set(data["protocol"]) | set(data["time"]) | set(data["safety"])
-    keys |= set(data["views"][0]) | set(to_json_data(data["views"][0]["classes"][0]))
+    keys |= set(data["views"][0]) | set(data["views"][0]["classes"][0])
     keys |= set(data["time"]["limits"][0]) | set(data["preparation"]) | set(data["personnel"])
     keys |= set(data["equipment"])
     undocumented = sorted(k for k in keys if k not in doc)

@@ -15,6 +15,7 @@ from planner.findings import SEVERITIES, Finding
 from planner.references import REFERENCES
 from planner.safety import (DISCLAIMER, EXAM_TYPES, MODES, ExamContext, is_local_source,
                             monitored_index, safety_findings, safety_report)
+from planner.safety.thermal import table_limits
 
 
 def _by_code(findings: list[Finding]) -> dict[str, Finding]:
@@ -124,6 +125,24 @@ def test_general_ti_1_2_takes_stricter_of_BMUS_and_AIUM():
     assert kinds == {"bmus_general": "limited", "aium_table_2": "unlimited"}
     assert finding.severity == "warning"
     assert "TIS" in finding.message
+
+
+def test_typed_table_limits_are_the_bands_the_finding_compares_BMUS2009_AIUM2022TI():
+    """BMUS 2009 Fig. 1: TI 2.0-2.5 -> 4 min after 10 weeks; AIUM 2022: 33 % shorter for
+    pulsed Doppler with bone near the focus (4 x 0.67 = 2.68 min). The typed bands are the
+    entries of the finding's ``tables`` value; none without an expected TI or for the eye."""
+    plain = ExamContext("obstetric", gestation_weeks=24, expected_ti=2.2)
+    doppler = ExamContext("obstetric", gestation_weeks=24, expected_ti=2.2,
+                          modes=("b_mode", "pulsed_doppler"), bone_near_focus=True)
+    bmus = table_limits(plain)[0]
+    assert (bmus.title, bmus.band, bmus.kind, bmus.limit_min) == ("BMUS 2009", "TI 2.0-2.5",
+                                                                  "limited", 4.0)
+    assert table_limits(doppler)[0].limit_min == pytest.approx(4.0 * (1 - 0.33))
+    for ctx in (plain, doppler):
+        finding = _by_code(safety_findings(ctx))["safety.scan_time"]
+        assert [t.as_values() for t in table_limits(ctx)] == finding.values["tables"]
+    assert table_limits(ExamContext("obstetric", gestation_weeks=24)) == ()
+    assert table_limits(ExamContext("ophthalmic", expected_ti=0.5)) == ()
 
 
 def test_gynaecological_with_pregnancy_uses_obstetric_table_AIUM2022TI():

@@ -66,7 +66,7 @@ async def test_shipped_protocol_shows_title_facts_and_a_band_per_class():
     async with app.run_test(size=(100, 30)) as pilot:
         await ready(app, pilot)
         screen = await open_protocol(app, pilot, SHIPPED)
-        assert screen.data is not None and screen.problems == ()
+        assert screen.sheet is not None and screen.problems == ()
         protocol = load_protocol(SHIPPED)
         assert protocol.title in text_of(screen, "#protocol-title")
         facts = text_of(screen, "#protocol-facts")
@@ -76,7 +76,7 @@ async def test_shipped_protocol_shows_title_facts_and_a_band_per_class():
         table = plain(screen.query_one("#view-1"))
         assert "MHz" in table.splitlines()[0]
         obese_3, normal = row_of(table, "Obese class III"), row_of(table, "Normal weight")
-        row = next(r for r in screen.data["views"][0]["classes"] if r.class_id == "obese_3")
+        row = next(r for r in screen.sheet.views[0].classes if r.class_id == "obese_3")
         assert row.bmi >= 40                                  # WHO2000Obesity: class III
         band = row.band_mhz
         assert f"{band.low:.1f}-{band.high:.1f}" in obese_3
@@ -98,7 +98,7 @@ async def test_broken_protocol_lists_every_problem_with_its_line():
     async with app.run_test(size=(80, 24)) as pilot:
         await ready(app, pilot)
         screen = await open_protocol(app, pilot, path)
-        assert screen.data is None
+        assert screen.sheet is None
         assert "3 problems" in text_of(screen, "#protocol-status")
         table = plain(screen.query_one("#protocol-problems"))
         for key, path_text in (("colour:", "views[0].colour"), ("reviewer:", "reviewer")):

@@ -4,9 +4,11 @@
 each WHO adult BMI class (:data:`planner.body.habitus.REPRESENTATIVE_BMI`) and gathers, per
 view and class, the probe, band, harmonic advice, tilt, depth and main cautions; for the
 exam, the planned minutes against the published and local scan-time limits at the expected
-thermal index, the safety findings and the decision-support statement. The time limits
-are gathered by :mod:`planner.protocol.sheet_limits`; the renderers for Markdown,
-printable HTML and JSON live in :mod:`planner.protocol.sheet_render`.
+thermal index, the safety findings and the decision-support statement. The sheet is a
+frozen, typed :class:`planner.protocol.sheet_model.Sheet`; the time limits are gathered by
+:mod:`planner.protocol.sheet_limits`; the renderers for Markdown, printable HTML and JSON
+live in :mod:`planner.protocol.sheet_render`, and the JSON data comes only from
+:func:`planner.protocol.sheet_model.sheet_to_json_data`.
 
 JSON keys (``scanplan protocol sheet --format json``; keys sorted, no timestamps)
 ----------------------------------------------------------------------------------
@@ -62,10 +64,8 @@ from __future__ import annotations
 
 import dataclasses
 import os
-from dataclasses import dataclass
 from functools import lru_cache
 from pathlib import Path
-from typing import Any
 
 from planner.body.habitus import BMI_CLASSES, REPRESENTATIVE_BMI
 from planner.body.patient import Patient
@@ -76,16 +76,19 @@ from planner.library.probes import ProbeInventory, load_inventory
 from planner.library.targets import load_library
 from planner.protocol.schema import Protocol, View
 from planner.protocol.sheet_limits import expected_ti_for, protocol_policy, time_section
+from planner.protocol.sheet_model import (Equipment, HabitusClass, LocalPolicyRef, NamedRef,
+                                          Personnel, Preparation, ProbeRef, ProtocolFacts,
+                                          ProtocolLimits, SafetySection, Sheet, SheetFinding,
+                                          SheetView, SourcedValue)
 from planner.protocol.sheet_rows import CLASS_LABELS, SheetRow, sheet_row
 from planner.provenance import Sourced
 from planner.safety import (DISCLAIMER, EXAM_TYPES, MODES, ExamContext, load_local_policy,
-                            safety_findings)
+                            monitored_index, safety_findings)
 from planner.safety.format import number_text
 
 __all__ = ["FORMATS", "Sheet", "build_sheet", "sheet_from_file", "parse_habitus",
            "render_sheet", "benchmark_sheet", "DEFAULT_GESTATION_WEEKS"]
 
-SHEET_SCHEMA_VERSION = 1
 FORMATS: tuple[str, ...] = ("md", "html", "json")
 CLASS_IDS: tuple[str, ...] = tuple(c[0] for c in BMI_CLASSES)
 
@@ -103,15 +106,6 @@ SUPERVISION_TEXT: dict[str, str] = {
 """Trainee supervision levels of :data:`planner.protocol.schema.SUPERVISION`, in words."""
 
 _SHIPPED = Path(__file__).resolve().parents[2] / "protocols"
-
-
-@dataclass(frozen=True)
-class Sheet:
-    """A built protocol sheet: ``data`` (plain values and typed rows; JSON through
-    :func:`planner.engine.serialize.to_json_data`) and one plan per view for its depth plot."""
-
-    data: dict[str, Any]
-    plot_plans: tuple[Plan, ...]
 
 
 def parse_habitus(text: str | None) -> tuple[str, ...]:
@@ -132,15 +126,15 @@ def parse_habitus(text: str | None) -> tuple[str, ...]:
     return tuple(c for c in CLASS_IDS if c in asked)
 
 
-def _sourced(item: Sourced | None) -> dict[str, Any] | None:
+def _sourced(item: Sourced | None) -> SourcedValue | None:
     if item is None:
         return None
-    return {"value": item.value, "source": item.source, "status": item.status, "note": item.note}
+    return SourcedValue(item.value, item.source, item.status, item.note)
 
 
-def _probe_ref(inventory: ProbeInventory, probe_id: str) -> dict[str, Any]:
+def _probe_ref(inventory: ProbeInventory, probe_id: str) -> ProbeRef:
     label = next((p.label for p in inventory.probes if p.id == probe_id), None)
-    return {"id": probe_id, "label": label}
+    return ProbeRef(probe_id, label)
 
 
 def _inventory_path(protocol: Protocol, protocol_path: str | os.PathLike[str] | None,
@@ -209,41 +203,39 @@ def build_sheet(protocol: Protocol, *, protocol_path: str | os.PathLike[str] | N
     findings = safety_findings(exam, policy)
     scan_time = next(f for f in findings if f.code == "safety.scan_time")
     s = protocol.safety
-    data = _header(protocol, protocol_path, inventory, inv_text) | {
-        "habitus_classes": [{"id": c, "label": CLASS_LABELS[c], "bmi": REPRESENTATIVE_BMI[c]}
-                            for c in classes],
-        "assumptions": _assumptions(classes, sex, weeks, gestation_weeks, inv_text, expected_ti,
-                                    basis, shared),
-        "views": views,
-        "time": time_section(protocol, exam, scan_time, basis, given_local),
-        "safety": {
-            "monitored_index": scan_time.values["monitored_index"],
-            "protocol_monitored_index": s.monitored_index,
-            "protocol_limits": {"max_ti": _sourced(s.max_ti), "max_mi": _sourced(s.max_mi),
-                                "max_scan_minutes": _sourced(s.max_scan_minutes),
-                                "pulsed_doppler": s.pulsed_doppler, "notes": list(s.notes)},
-            "local_policy": None if policy is None else {
-                "label": policy.label, "source": policy.source_key,
-                "origin": "file" if given_local is not None else "protocol"},
-            "findings": [{k: f.to_dict()[k] for k in ("code", "severity", "title", "message",
-                                                      "sources")} for f in findings]},
-    }
-    return Sheet(data, plots)
+    safety = SafetySection(
+        monitored_index(exam), s.monitored_index,
+        ProtocolLimits(_sourced(s.max_ti), _sourced(s.max_mi), _sourced(s.max_scan_minutes),
+                       s.pulsed_doppler, tuple(s.notes)),
+        None if policy is None else LocalPolicyRef(
+            policy.label, policy.source_key, "file" if given_local is not None else "protocol"),
+        tuple(SheetFinding(f.code, f.severity, f.title, f.message, tuple(f.sources))
+              for f in findings))
+    facts, preparation, personnel, equipment = _header(protocol, protocol_path, inventory,
+                                                       inv_text)
+    return Sheet(
+        DISCLAIMER, facts, preparation, personnel, equipment,
+        tuple(HabitusClass(c, CLASS_LABELS[c], REPRESENTATIVE_BMI[c]) for c in classes),
+        _assumptions(classes, sex, weeks, gestation_weeks, inv_text, expected_ti, basis, shared),
+        views, time_section(protocol, exam, scan_time, basis, given_local), safety, plots)
 
 
 def _plan_views(protocol: Protocol, classes: tuple[str, ...], inv_path: str | None,
-                inventory: ProbeInventory, sex: str | None, weeks: float | None):
+                inventory: ProbeInventory, sex: str | None, weeks: float | None
+                ) -> tuple[tuple[SheetView, ...], tuple[Plan, ...], list[ExamContext], bool]:
     """Plan each view for each class (identical requests share one plan).
 
-    Returns the view entries, the plan of each view for its depth plot (the heaviest
-    class), the exam context of each view and whether any plan was shared.
+    Returns the views, the plan of each view for its depth plot (the heaviest class), the
+    exam context of each view and whether any plan was shared.
     """
     library = load_library()
     patients = {c: Patient.from_inputs(bmi=REPRESENTATIVE_BMI[c], sex=sex, gestation_weeks=weeks)
                 for c in classes}
     plot_class = classes[-1]
     memo: dict[tuple, Plan] = {}
-    views, plots, contexts = [], [], []
+    views: list[SheetView] = []
+    plots: list[Plan] = []
+    contexts: list[ExamContext] = []
     for view in protocol.views:
         target = library.get(view.target)
         window = target.window(view.window)
@@ -257,48 +249,40 @@ def _plan_views(protocol: Protocol, classes: tuple[str, ...], inv_path: str | No
                                                   context=ctx, probes_path=inv_path))
             rows.append(sheet_row(c, REPRESENTATIVE_BMI[c], memo[key]))
         plots.append(memo[(view.target, view.window, plot_class, ctx)])
-        views.append({
-            "id": view.id, "title": view.title, "target": {"id": target.id, "name": target.name},
-            "window": {"id": window.id, "name": window.name}, "position": view.position,
-            "position_note": view.position_note, "breathing": view.breathing,
-            "expected_minutes": view.expected_minutes,
-            "protocol_probe": _probe_ref(inventory, view.probe or protocol.equipment.probe),
-            "doppler_modes": list(view.doppler.modes) if view.doppler else [],
-            "monitored_index": plots[-1].monitored_index, "plot_class": plot_class,
-            "classes": rows})
+        views.append(SheetView(
+            view.id, view.title, NamedRef(target.id, target.name), NamedRef(window.id, window.name),
+            view.position, view.position_note, view.breathing, view.expected_minutes,
+            _probe_ref(inventory, view.probe or protocol.equipment.probe),
+            view.doppler.modes if view.doppler else (), plots[-1].monitored_index, plot_class,
+            tuple(rows)))
     shared = len(memo) < len(protocol.views) * len(classes)
-    return views, tuple(plots), contexts, shared
+    return tuple(views), tuple(plots), contexts, shared
 
 
-def _header(protocol: Protocol, protocol_path: Any, inventory: ProbeInventory,
-            inv_text: str) -> dict[str, Any]:
+def _header(protocol: Protocol, protocol_path: str | os.PathLike[str] | None,
+            inventory: ProbeInventory,
+            inv_text: str) -> tuple[ProtocolFacts, Preparation, Personnel, Equipment]:
     """Protocol facts, preparation, personnel and equipment."""
     e, p, staff = protocol.equipment, protocol.preparation, protocol.personnel
-    return {
-        "kind": "protocol_sheet", "schema_version": SHEET_SCHEMA_VERSION, "statement": DISCLAIMER,
-        "protocol": {
-            "id": protocol.id, "title": protocol.title, "department": protocol.department,
-            "version": protocol.version, "owner": protocol.owner,
-            "approved_by": protocol.approved_by, "review_date": protocol.review_date,
-            "exam_type": protocol.exam_type, "exam_type_label": EXAM_TYPES[protocol.exam_type],
-            "scope": protocol.scope.strip(),
-            "file": Path(protocol_path).name if protocol_path is not None else None},
-        "preparation": {"bladder": p.bladder, "fasting_hours": _sourced(p.fasting_hours),
-                        "instructions": list(p.instructions), "checks": list(p.checks)},
-        "personnel": {"performed_by": list(staff.performed_by),
-                      "reported_by": list(staff.reported_by),
-                      "trainee_supervision": staff.trainee_supervision,
-                      "trainee_supervision_text": SUPERVISION_TEXT[staff.trainee_supervision],
-                      "chaperone": staff.chaperone},
-        "equipment": {"probe": _probe_ref(inventory, e.probe),
-                      "alternative_probes": [_probe_ref(inventory, a) for a in e.alternative_probes],
-                      "inventory": inv_text, "setup": list(e.setup),
-                      "infection_control": e.infection_control},
-    }
+    facts = ProtocolFacts(
+        protocol.id, protocol.title, protocol.department, protocol.version, protocol.owner,
+        protocol.approved_by, protocol.review_date, protocol.exam_type,
+        EXAM_TYPES[protocol.exam_type], protocol.scope.strip(),
+        Path(protocol_path).name if protocol_path is not None else None)
+    preparation = Preparation(p.bladder, _sourced(p.fasting_hours), tuple(p.instructions),
+                              tuple(p.checks))
+    personnel = Personnel(tuple(staff.performed_by), tuple(staff.reported_by),
+                          staff.trainee_supervision,
+                          SUPERVISION_TEXT[staff.trainee_supervision], staff.chaperone)
+    equipment = Equipment(_probe_ref(inventory, e.probe),
+                          tuple(_probe_ref(inventory, a) for a in e.alternative_probes),
+                          inv_text, tuple(e.setup), e.infection_control)
+    return facts, preparation, personnel, equipment
 
 
-def _assumptions(classes, sex, weeks, weeks_given, inv_text, expected_ti, basis,
-                 shared: bool) -> list[str]:
+def _assumptions(classes: tuple[str, ...], sex: str | None, weeks: float | None,
+                 weeks_given: float | None, inv_text: str, expected_ti: float | None,
+                 basis: str, shared: bool) -> tuple[str, ...]:
     bmis = ", ".join(f"{CLASS_LABELS[c]} {REPRESENTATIVE_BMI[c]:g}" for c in classes)
     out = [f"Each WHO class (WHO2000Obesity) is planned at one BMI inside it: {bmis} kg/m2.",
            "Sex female (obstetric exam)." if sex == "female" else
@@ -316,7 +300,7 @@ def _assumptions(classes, sex, weeks, weeks_given, inv_text, expected_ti, basis,
                "heaviest class on the sheet.")
     if shared:
         out.append("Views with the same target, window and exam context share one plan per class.")
-    return out
+    return tuple(out)
 
 
 def sheet_from_file(path: str | os.PathLike[str], *, habitus: tuple[str, ...] | None = None,

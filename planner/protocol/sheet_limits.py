@@ -8,19 +8,24 @@ protocol's own limits; all are shown side by side, the published value never hid
 
 from __future__ import annotations
 
+import os
 from pathlib import Path
-from typing import Any
 
+from planner.findings import Finding
 from planner.protocol.schema import Protocol
-from planner.safety import ExamContext, LocalPolicy
+from planner.protocol.sheet_model import (LimitRow, PublishedRow, PublishedTable, TableMaxTi,
+                                          TimeSection)
+from planner.safety import ExamContext, LocalPolicy, monitored_index
 from planner.safety.policy import LocalExamLimits
+from planner.safety.format import short_title
 from planner.safety.tables import safety_data
-from planner.safety.thermal import scan_time_group
+from planner.safety.thermal import scan_time_group, table_limits
 
 __all__ = ["expected_ti_for", "protocol_policy", "time_section"]
 
 
-def protocol_policy(protocol: Protocol, protocol_path: Any) -> LocalPolicy | None:
+def protocol_policy(protocol: Protocol,
+                    protocol_path: str | os.PathLike[str] | None) -> LocalPolicy | None:
     """The protocol's own safety limits as a local policy (``None`` when it sets none)."""
     s = protocol.safety
     if s.max_scan_minutes is None and s.max_ti is None and s.max_mi is None:
@@ -34,31 +39,30 @@ def protocol_policy(protocol: Protocol, protocol_path: Any) -> LocalPolicy | Non
 
 def _limit_row(kind: str, label: str, band: str | None, limit_kind: str,
                minutes: float | None, max_ti: float | None, source: str, status: str,
-               planned: float) -> dict[str, Any]:
+               planned: float) -> LimitRow:
+    """One limit beside the ``planned`` minutes; ``within`` is ``None`` for a limit without
+    a time (``limit_kind`` ``none``)."""
     within: bool | None
     if limit_kind == "limited" and minutes is not None:
         within = planned <= minutes
     else:
         within = None if limit_kind == "none" else limit_kind == "unlimited"
-    return {"kind": kind, "label": label, "band": band, "limit": limit_kind,
-            "max_minutes": minutes, "max_ti": max_ti, "source": source, "status": status,
-            "within": within}
+    return LimitRow(kind, label, band, limit_kind, minutes, max_ti, source, status, within)
 
 
-def time_section(protocol: Protocol, ctx: ExamContext, finding, basis: str,
-                 local: LocalPolicy | None) -> dict[str, Any]:
+def time_section(protocol: Protocol, ctx: ExamContext, finding: Finding, basis: str,
+                 local: LocalPolicy | None) -> TimeSection:
     """Planned minutes against the published, local (file) and protocol limits.
 
-    ``ctx`` carries the planned minutes and expected TI, ``finding`` is its
-    ``safety.scan_time`` finding, ``local`` the policy given as a file (``None`` when the
-    protocol's own limits act as local policy: they get their own row anyway).
+    ``ctx`` carries the planned minutes and expected TI (the published bands are read at it
+    with :func:`planner.safety.thermal.table_limits`), ``finding`` is its ``safety.scan_time``
+    finding (its severity and message are the verdict), ``local`` the policy given as a file
+    (``None`` when the protocol's own limits act as local policy: they get their own row
+    anyway).
     """
     planned = float(ctx.planned_minutes or 0.0)
-    values = finding.values
-    limits = []
-    for t in values.get("tables", []):
-        limits.append(_limit_row("published", t["title"], t["band"], t["kind"], t["limit_min"],
-                                 None, t["source"], t["status"], planned))
+    limits = [_limit_row("published", t.title, t.band, t.kind, t.limit_min, None, t.source,
+                         t.status, planned) for t in table_limits(ctx)]
     if local is not None:
         minutes = local.time_limit_min(ctx.exam_type, ctx.expected_ti)
         limits.append(_limit_row("local", local.label, None,
@@ -76,18 +80,16 @@ def time_section(protocol: Protocol, ctx: ExamContext, finding, basis: str,
             None if s.max_ti is None else float(s.max_ti.value), ref.source, ref.status, planned))
     group = scan_time_group(ctx)
     tables = safety_data().group_tables(group) if group != "none" else ()
-    published = [{"title": t.title.split(",")[0].strip(), "source": t.source,
-                  "rows": [{"band": r.band_text(), "limit": r.kind, "max_minutes": r.max_minutes,
-                            "status": r.status} for r in t.rows]} for t in tables]
+    published = tuple(PublishedTable(short_title(t.title), t.source, tuple(
+        PublishedRow(r.band_text(), r.kind, r.max_minutes, r.status) for r in t.rows))
+        for t in tables)
     most = []
     for t in tables:
         best = t.max_ti_for_minutes(planned)
-        most.append({"title": t.title.split(",")[0].strip(), "source": t.source,
-                     "max_ti": None if best is None or best == float("inf") else best})
-    return {"planned_minutes": planned, "monitored_index": values["monitored_index"],
-            "expected_ti": ctx.expected_ti, "expected_ti_basis": basis, "limits": limits,
-            "max_ti_for_planned": most, "published_tables": published,
-            "severity": finding.severity, "message": finding.message}
+        most.append(TableMaxTi(short_title(t.title), t.source,
+                               None if best is None or best == float("inf") else best))
+    return TimeSection(planned, monitored_index(ctx), ctx.expected_ti, basis, tuple(limits),
+                       tuple(most), published, finding.severity, finding.message)
 
 
 def expected_ti_for(protocol: Protocol, local: LocalPolicy | None) -> tuple[float | None, str]:

@@ -1,19 +1,21 @@
 """Protocol sheets as Markdown, printable HTML (inline SVG depth plots) and JSON.
 
-Every renderer reads ``sheet.data`` built by :func:`planner.protocol.sheet.build_sheet`
-(its per-class rows are typed :class:`planner.protocol.sheet_rows.SheetRow`); only the HTML depth plots use the plans in
-``sheet.plot_plans``. No timestamps or absolute paths, so the output of a given protocol
-is the same on every run.
+Every renderer reads the typed, frozen :class:`planner.protocol.sheet_model.Sheet` built by
+:func:`planner.protocol.sheet.build_sheet`; only the HTML depth plots use the plans in
+``sheet.plot_plans``, and the JSON is the data of
+:func:`planner.protocol.sheet_model.sheet_to_json_data`. No timestamps or absolute paths,
+so the output of a given protocol is the same on every run.
 """
 
 from __future__ import annotations
 
 import json
+from collections.abc import Sequence
 from html import escape
-from typing import Any
 
 from planner.engine.model import FrequencyBand
-from planner.engine.serialize import to_json_data
+from planner.protocol.sheet_model import (LimitRow, ProbeRef, PublishedRow, Sheet, SheetView,
+                                          SourcedValue, TimeSection, sheet_to_json_data)
 from planner.protocol.sheet_rows import SheetRow
 from planner.report.svg import depth_plot_svg
 from planner.safety.format import minutes_text, number_text
@@ -52,90 +54,90 @@ def _cells(row: SheetRow) -> list[str]:
             f"{row.depth_cm:.1f}", warnings]
 
 
-def _view_line(view: dict[str, Any]) -> str:
-    probe = view["protocol_probe"]
-    label = probe["label"] or "not in this inventory"
-    doppler = ", ".join(_words(m) for m in view["doppler_modes"])
-    return (f"Target: {view['target']['name']}. Window: {view['window']['name']}; "
-            f"position {_words(view['position'])}"
-            + (f" ({view['position_note']})" if view.get("position_note") else "")
-            + f"; breathing {_words(view['breathing'])}; {view['expected_minutes']:g} min. "
-            f"Protocol probe: {label} ({probe['id']}). "
+def _probe_text(probe: ProbeRef) -> str:
+    return f"{probe.label or 'not in this inventory'} ({probe.id})"
+
+
+def _view_line(view: SheetView) -> str:
+    doppler = ", ".join(_words(m) for m in view.doppler_modes)
+    return (f"Target: {view.target.name}. Window: {view.window.name}; "
+            f"position {_words(view.position)}"
+            + (f" ({view.position_note})" if view.position_note else "")
+            + f"; breathing {_words(view.breathing)}; {view.expected_minutes:g} min. "
+            f"Protocol probe: {_probe_text(view.protocol_probe)}. "
             + (f"Doppler: {doppler}. " if doppler else "")
-            + f"Watch {view['monitored_index']}.")
+            + f"Watch {view.monitored_index}.")
 
 
-def _limit_text(row: dict[str, Any]) -> str:
-    if row["limit"] == "unlimited":
+def _limit_text(row: LimitRow | PublishedRow) -> str:
+    if row.limit == "unlimited":
         return "no time limit"
-    if row["limit"] == "not_recommended":
+    if row.limit == "not_recommended":
         return "not recommended"
-    if row["limit"] == "limited":
-        return f"< {minutes_text(row['max_minutes'])}"
+    if row.limit == "limited":
+        return f"< {minutes_text(row.max_minutes)}"
     return "-"
 
 
-def _limit_cells(row: dict[str, Any], index: str) -> list[str]:
-    status = "" if row["status"] in ("verified", "local") else f", {_words(row['status'])}"
-    within = {True: "within", False: "exceeds", None: "-"}[row["within"]]
-    return [row["label"] + (f" ({row['band']})" if row["band"] else ""), _limit_text(row),
-            "-" if row["max_ti"] is None else f"{index} <= {number_text(row['max_ti'])}",
-            f"{row['source']}{status}", within]
+def _limit_cells(row: LimitRow, index: str) -> list[str]:
+    status = "" if row.status in ("verified", "local") else f", {_words(row.status)}"
+    within = {True: "within", False: "exceeds", None: "-"}[row.within]
+    return [row.label + (f" ({row.band})" if row.band else ""), _limit_text(row),
+            "-" if row.max_ti is None else f"{index} <= {number_text(row.max_ti)}",
+            f"{row.source}{status}", within]
 
 
-def _sourced_text(item: dict[str, Any] | None, unit: str = "", index: bool = False) -> str:
+def _sourced_text(item: SourcedValue | None, unit: str = "", index: bool = False) -> str:
     if item is None:
         return "none set"
-    status = "" if item["status"] == "verified" else f", {_words(item['status'])}"
-    value = number_text(item["value"]) if index else f"{item['value']:g}"
-    return f"{value}{unit} ({item['source']}{status})"
+    status = "" if item.status == "verified" else f", {_words(item.status)}"
+    value = number_text(item.value) if index else f"{item.value:g}"
+    return f"{value}{unit} ({item.source}{status})"
 
 
-def _header_facts(d: dict[str, Any]) -> list[tuple[str, str]]:
-    p = d["protocol"]
-    return [("Department", p["department"]), ("Version", p["version"]), ("Owner", p["owner"]),
-            ("Approved by", p["approved_by"] or "-"), ("Review date", p["review_date"]),
-            ("Exam type", p["exam_type_label"]), ("Protocol file", p["file"] or "-")]
+def _header_facts(sheet: Sheet) -> list[tuple[str, str]]:
+    p = sheet.protocol
+    return [("Department", p.department), ("Version", p.version), ("Owner", p.owner),
+            ("Approved by", p.approved_by or "-"), ("Review date", p.review_date),
+            ("Exam type", p.exam_type_label), ("Protocol file", p.file or "-")]
 
 
-def _setup_items(d: dict[str, Any]) -> list[tuple[str, list[str]]]:
+def _setup_items(sheet: Sheet) -> list[tuple[str, list[str]]]:
     """Preparation, personnel and equipment as (heading, items)."""
-    prep, staff, eq = d["preparation"], d["personnel"], d["equipment"]
-    probe = eq["probe"]
-    alts = ", ".join(f"{a['label'] or 'not in this inventory'} ({a['id']})"
-                     for a in eq["alternative_probes"]) or "-"
+    prep, staff, eq = sheet.preparation, sheet.personnel, sheet.equipment
+    alts = ", ".join(_probe_text(a) for a in eq.alternative_probes) or "-"
     return [
-        ("Preparation", [f"Bladder: {_words(prep['bladder'])}",
-                         f"Fasting: {_sourced_text(prep['fasting_hours'], ' h')}",
-                         *prep["instructions"], *(f"Check: {c}" for c in prep["checks"])]),
+        ("Preparation", [f"Bladder: {_words(prep.bladder)}",
+                         f"Fasting: {_sourced_text(prep.fasting_hours, ' h')}",
+                         *prep.instructions, *(f"Check: {c}" for c in prep.checks)]),
         ("Personnel and supervision", [
-            f"Performed by: {', '.join(staff['performed_by'])}",
-            f"Reported by: {', '.join(staff['reported_by']) or '-'}",
-            f"Trainees: {staff['trainee_supervision_text']}",
-            f"Chaperone: {_words(staff['chaperone'])}"]),
-        ("Equipment", [f"Main probe: {probe['label'] or 'not in this inventory'} ({probe['id']})",
-                       f"Alternatives: {alts}", f"Probe inventory: {eq['inventory']}",
-                       *(f"Setup: {s}" for s in eq["setup"]),
-                       f"Infection control: {eq['infection_control'] or '-'}"]),
+            f"Performed by: {', '.join(staff.performed_by)}",
+            f"Reported by: {', '.join(staff.reported_by) or '-'}",
+            f"Trainees: {staff.trainee_supervision_text}",
+            f"Chaperone: {_words(staff.chaperone)}"]),
+        ("Equipment", [f"Main probe: {_probe_text(eq.probe)}",
+                       f"Alternatives: {alts}", f"Probe inventory: {eq.inventory}",
+                       *(f"Setup: {s}" for s in eq.setup),
+                       f"Infection control: {eq.infection_control or '-'}"]),
     ]
 
 
-def _safety_items(d: dict[str, Any]) -> list[str]:
-    s = d["safety"]
-    lim = s["protocol_limits"]
-    agree = "" if s["protocol_monitored_index"] in (None, s["monitored_index"]) else \
-        f" (the protocol names {s['protocol_monitored_index']}: check which applies)"
-    items = [f"Thermal index to watch: {s['monitored_index']}{agree}",
-             f"Protocol limits: highest TI {_sourced_text(lim['max_ti'], index=True)}; "
-             f"highest MI {_sourced_text(lim['max_mi'], index=True)}; "
-             f"longest scan time {_sourced_text(lim['max_scan_minutes'], ' min')}; "
-             f"pulsed Doppler {_words(lim['pulsed_doppler'])}",
-             *(f"Protocol: {n}" for n in lim["notes"])]
-    local = s["local_policy"]
+def _safety_items(sheet: Sheet) -> list[str]:
+    s = sheet.safety
+    lim = s.protocol_limits
+    agree = "" if s.protocol_monitored_index in (None, s.monitored_index) else \
+        f" (the protocol names {s.protocol_monitored_index}: check which applies)"
+    items = [f"Thermal index to watch: {s.monitored_index}{agree}",
+             f"Protocol limits: highest TI {_sourced_text(lim.max_ti, index=True)}; "
+             f"highest MI {_sourced_text(lim.max_mi, index=True)}; "
+             f"longest scan time {_sourced_text(lim.max_scan_minutes, ' min')}; "
+             f"pulsed Doppler {_words(lim.pulsed_doppler)}",
+             *(f"Protocol: {n}" for n in lim.notes)]
+    local = s.local_policy
     if local:
-        origin = ("the protocol's own safety limits" if local["origin"] == "protocol"
+        origin = ("the protocol's own safety limits" if local.origin == "protocol"
                   else "the local policy file")
-        items.append(f"Local limits ({local['label']}) from {origin}, cited as {local['source']}")
+        items.append(f"Local limits ({local.label}) from {origin}, cited as {local.source}")
     return items
 
 
@@ -147,53 +149,58 @@ def _md_table(headers: list[str] | tuple[str, ...], rows: list[list[str]]) -> li
     return [_md_row(list(headers)), "|" + "---|" * len(headers)] + [_md_row(r) for r in rows]
 
 
-def sheet_markdown(sheet) -> str:
+def _class_rows(sheet: Sheet) -> list[list[str]]:
+    return [[c.label, c.id, f"{c.bmi:g}"] for c in sheet.habitus_classes]
+
+
+def sheet_markdown(sheet: Sheet) -> str:
     """Render a sheet as Markdown."""
-    d = sheet.data
-    out = [f"# Protocol sheet: {d['protocol']['title']}", ""]
-    out += _md_table(("", ""), [[k, v] for k, v in _header_facts(d)]) + [""]
-    out += ["## Scope", "", d["protocol"]["scope"], ""]
-    for heading, items in _setup_items(d):
+    out = [f"# Protocol sheet: {sheet.protocol.title}", ""]
+    out += _md_table(("", ""), [[k, v] for k, v in _header_facts(sheet)]) + [""]
+    out += ["## Scope", "", sheet.protocol.scope, ""]
+    for heading, items in _setup_items(sheet):
         out += [f"## {heading}", ""] + [f"- {i}" for i in items] + [""]
     out += ["## Habitus classes", ""]
-    out += _md_table(("WHO class", "id", "BMI planned"),
-                     [[c["label"], c["id"], f"{c['bmi']:g}"] for c in d["habitus_classes"]]) + [""]
-    t = d["time"]
-    out += [f"## Views ({len(d['views'])}, {t['planned_minutes']:g} min planned)", ""]
-    for n, view in enumerate(d["views"], 1):
-        out += [f"### {n}. {view['title']}", "", _view_line(view), ""]
-        out += _md_table(ROW_HEADERS, [_cells(r) for r in view["classes"]]) + [""]
-    out += _md_time(t) + ["## Safety", ""] + [f"- {i}" for i in _safety_items(d)] + [""]
-    out += [f"- **{f['title']}** ({f['severity']}): {f['message']} "
-            f"*Sources:* {'; '.join(f['sources'])}" for f in d["safety"]["findings"]] + [""]
-    out += ["## Assumptions", ""] + [f"- {a}" for a in d["assumptions"]] + [""]
-    out += [f"*{d['statement']}*", ""]
+    out += _md_table(("WHO class", "id", "BMI planned"), _class_rows(sheet)) + [""]
+    t = sheet.time
+    out += [f"## Views ({len(sheet.views)}, {t.planned_minutes:g} min planned)", ""]
+    for n, view in enumerate(sheet.views, 1):
+        out += [f"### {n}. {view.title}", "", _view_line(view), ""]
+        out += _md_table(ROW_HEADERS, [_cells(r) for r in view.classes]) + [""]
+    out += _md_time(t) + ["## Safety", ""] + [f"- {i}" for i in _safety_items(sheet)] + [""]
+    out += [f"- **{f.title}** ({f.severity}): {f.message} "
+            f"*Sources:* {'; '.join(f.sources)}" for f in sheet.safety.findings] + [""]
+    out += ["## Assumptions", ""] + [f"- {a}" for a in sheet.assumptions] + [""]
+    out += [f"*{sheet.statement}*", ""]
     return "\n".join(out)
 
 
-def _time_lines(t: dict[str, Any]) -> list[str]:
-    ti = "not given" if t["expected_ti"] is None else number_text(t["expected_ti"])
-    lines = [f"Planned {t['planned_minutes']:g} min (sum of the views' expected minutes); "
-             f"expected {t['monitored_index']} {ti} ({t['expected_ti_basis']})."]
-    most = "; ".join(f"{m['title']}: {t['monitored_index']} <= {number_text(m['max_ti'])}"
-                     if m["max_ti"] is not None else f"{m['title']}: any"
-                     for m in t["max_ti_for_planned"])
+def _time_lines(t: TimeSection) -> list[str]:
+    ti = "not given" if t.expected_ti is None else number_text(t.expected_ti)
+    lines = [f"Planned {t.planned_minutes:g} min (sum of the views' expected minutes); "
+             f"expected {t.monitored_index} {ti} ({t.expected_ti_basis})."]
+    most = "; ".join(f"{m.title}: {t.monitored_index} <= {number_text(m.max_ti)}"
+                     if m.max_ti is not None else f"{m.title}: any"
+                     for m in t.max_ti_for_planned)
     if most:
-        lines.append(f"Highest {t['monitored_index']} that still allows "
-                     f"{t['planned_minutes']:g} min: {most}.")
-    lines.append(f"Verdict ({t['severity']}): {t['message']}")
+        lines.append(f"Highest {t.monitored_index} that still allows "
+                     f"{t.planned_minutes:g} min: {most}.")
+    lines.append(f"Verdict ({t.severity}): {t.message}")
     return lines
 
 
-def _md_time(t: dict[str, Any]) -> list[str]:
-    index = t["monitored_index"]
+def _limit_headers(t: TimeSection) -> tuple[str, ...]:
+    return ("Limit", "Time", "TI", "Source", f"Planned {t.planned_minutes:g} min")
+
+
+def _md_time(t: TimeSection) -> list[str]:
     out = ["## Scan time against the TI limits", ""]
     out += [line for text in _time_lines(t) for line in (text, "")]
-    out += _md_table(("Limit", "Time", "TI", "Source", f"Planned {t['planned_minutes']:g} min"),
-                     [_limit_cells(r, index) for r in t["limits"]]) + [""]
-    for table in t["published_tables"]:
-        out += [f"{table['title']} ({table['source']}), every band:", ""]
-        out += _md_table(("Band", "Time"), [[r["band"], _limit_text(r)] for r in table["rows"]])
+    out += _md_table(_limit_headers(t),
+                     [_limit_cells(r, t.monitored_index) for r in t.limits]) + [""]
+    for table in t.published_tables:
+        out += [f"{table.title} ({table.source}), every band:", ""]
+        out += _md_table(("Band", "Time"), [[r.band, _limit_text(r)] for r in table.rows])
         out += [""]
     return out
 
@@ -206,7 +213,7 @@ figure{margin:0}figcaption{font-size:.8rem;color:#444}.sev-warning{color:#a00}.s
 @media print{body{margin:0;max-width:none;font-size:10pt}.view{break-inside:avoid}h2{break-after:avoid}}"""
 
 
-def _html_table(headers, rows, cls: str = "") -> str:
+def _html_table(headers: Sequence[str], rows: Sequence[Sequence[str]], cls: str = "") -> str:
     e = escape
     head = "".join(f"<th>{e(h)}</th>" for h in headers)
     body = "".join("<tr>" + "".join(f"<td>{e(c)}</td>" for c in r) + "</tr>" for r in rows)
@@ -218,52 +225,48 @@ def _html_list(items: list[str]) -> str:
     return "<ul>" + "".join(f"<li>{escape(i)}</li>" for i in items) + "</ul>"
 
 
-def sheet_html(sheet) -> str:
+def sheet_html(sheet: Sheet) -> str:
     """Render a sheet as a self-contained, printable HTML page with a depth plot per view."""
     e = escape
-    d = sheet.data
-    title = f"Protocol sheet: {d['protocol']['title']}"
-    facts = "".join(f"<tr><th>{e(k)}</th><td>{e(v)}</td></tr>" for k, v in _header_facts(d))
+    title = f"Protocol sheet: {sheet.protocol.title}"
+    facts = "".join(f"<tr><th>{e(k)}</th><td>{e(v)}</td></tr>" for k, v in _header_facts(sheet))
     body = [f"<h1>{e(title)}</h1>", f"<table class='facts'>{facts}</table>",
-            f"<h2>Scope</h2><p>{e(d['protocol']['scope'])}</p>"]
-    body += [f"<h2>{e(h)}</h2>{_html_list(items)}" for h, items in _setup_items(d)]
-    body.append("<h2>Habitus classes</h2>" + _html_table(
-        ("WHO class", "id", "BMI planned"),
-        [[c["label"], c["id"], f"{c['bmi']:g}"] for c in d["habitus_classes"]]))
-    t = d["time"]
-    body.append(f"<h2>Views ({len(d['views'])}, {t['planned_minutes']:g} min planned)</h2>")
-    labels = {c["id"]: c for c in d["habitus_classes"]}
-    for n, (view, plan) in enumerate(zip(d["views"], sheet.plot_plans), 1):
-        shown = labels[view["plot_class"]]
-        caption = (f"Round-trip loss against depth, {shown['label']} (BMI {shown['bmi']:g}); "
+            f"<h2>Scope</h2><p>{e(sheet.protocol.scope)}</p>"]
+    body += [f"<h2>{e(h)}</h2>{_html_list(items)}" for h, items in _setup_items(sheet)]
+    body.append("<h2>Habitus classes</h2>" + _html_table(("WHO class", "id", "BMI planned"),
+                                                         _class_rows(sheet)))
+    t = sheet.time
+    body.append(f"<h2>Views ({len(sheet.views)}, {t.planned_minutes:g} min planned)</h2>")
+    for n, (view, plan) in enumerate(zip(sheet.views, sheet.plot_plans), 1):
+        shown = sheet.habitus_class(view.plot_class)
+        caption = (f"Round-trip loss against depth, {shown.label} (BMI {shown.bmi:g}); "
                    "dashed: signal budget and target depth.")
         body.append(
-            f"<section class='view'><h3>{n}. {e(view['title'])}</h3><p>{e(_view_line(view))}</p>"
-            f"<div class='view-body'>{_html_table(ROW_HEADERS, [_cells(r) for r in view['classes']])}"
+            f"<section class='view'><h3>{n}. {e(view.title)}</h3><p>{e(_view_line(view))}</p>"
+            f"<div class='view-body'>{_html_table(ROW_HEADERS, [_cells(r) for r in view.classes])}"
             f"<figure>{depth_plot_svg(plan, PLOT_WIDTH, PLOT_HEIGHT)}"
             f"<figcaption>{e(caption)}</figcaption></figure></div></section>")
-    index = t["monitored_index"]
     body.append("<h2>Scan time against the TI limits</h2>"
                 + "".join(f"<p>{e(line)}</p>" for line in _time_lines(t))
-                + _html_table(("Limit", "Time", "TI", "Source",
-                               f"Planned {t['planned_minutes']:g} min"),
-                              [_limit_cells(r, index) for r in t["limits"]]))
-    for table in t["published_tables"]:
-        body.append(f"<p>{e(table['title'])} ({e(table['source'])}), every band:</p>"
+                + _html_table(_limit_headers(t),
+                              [_limit_cells(r, t.monitored_index) for r in t.limits]))
+    for table in t.published_tables:
+        body.append(f"<p>{e(table.title)} ({e(table.source)}), every band:</p>"
                     + _html_table(("Band", "Time"),
-                                  [[r["band"], _limit_text(r)] for r in table["rows"]]))
+                                  [[r.band, _limit_text(r)] for r in table.rows]))
     findings = "".join(
-        f"<li class='sev-{e(f['severity'])}'><b>{e(f['title'])}</b> ({e(f['severity'])}): "
-        f"{e(f['message'])}<br><small>Sources: {e('; '.join(f['sources']))}</small></li>"
-        for f in d["safety"]["findings"])
-    body.append(f"<h2>Safety</h2>{_html_list(_safety_items(d))}<ul>{findings}</ul>")
-    body.append(f"<h2>Assumptions</h2>{_html_list(d['assumptions'])}")
-    body.append(f"<p class='statement'>{e(d['statement'])}</p>")
+        f"<li class='sev-{e(f.severity)}'><b>{e(f.title)}</b> ({e(f.severity)}): "
+        f"{e(f.message)}<br><small>Sources: {e('; '.join(f.sources))}</small></li>"
+        for f in sheet.safety.findings)
+    body.append(f"<h2>Safety</h2>{_html_list(_safety_items(sheet))}<ul>{findings}</ul>")
+    body.append(f"<h2>Assumptions</h2>{_html_list(list(sheet.assumptions))}")
+    body.append(f"<p class='statement'>{e(sheet.statement)}</p>")
     return ("<!DOCTYPE html><html lang='en'><head><meta charset='utf-8'>"
             f"<title>{e(title)}</title><style>{_CSS}</style></head><body>"
             + "".join(body) + "</body></html>\n")
 
 
-def sheet_json(sheet) -> str:
+def sheet_json(sheet: Sheet) -> str:
     """Render a sheet as JSON (sorted keys, two-space indent, no NaN)."""
-    return json.dumps(to_json_data(sheet.data), sort_keys=True, indent=2, allow_nan=False) + "\n"
+    return json.dumps(sheet_to_json_data(sheet), sort_keys=True, indent=2,
+                      allow_nan=False) + "\n"

@@ -1,7 +1,7 @@
 """Typed rows of a protocol sheet: one habitus class of one view, made from its typed plan.
 
-The sheet's JSON is produced by :func:`planner.engine.serialize.to_json_data`; the row's
-``class_id`` is written under the key ``class``.
+The sheet's JSON is produced by :func:`planner.protocol.sheet_model.sheet_to_json_data`;
+the row's ``class_id`` is written under the key ``class``.
 """
 
 from __future__ import annotations

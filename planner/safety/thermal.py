@@ -103,11 +103,45 @@ def _reduction(ctx: ExamContext) -> float:
     return 0.0
 
 
-def _table_limit(table: TimeTable, ti: float, reduction: float) -> dict[str, Any]:
+@dataclass(frozen=True, slots=True)
+class TableLimit:
+    """The band of one published scan-time table that holds the expected TI.
+
+    ``kind`` is the band's kind (``unlimited``, ``limited``, ``not_recommended``);
+    ``limit_min`` its longest scan time [min], already cut for pulsed Doppler with bone
+    near the focus (AIUM2022TI), ``None`` when the band sets no time.
+    """
+
+    table: str
+    title: str
+    band: str
+    kind: str
+    limit_min: float | None
+    source: str
+    status: str
+
+    def as_values(self) -> dict[str, Any]:
+        """The entry of the ``safety.scan_time`` finding's ``tables`` value."""
+        return {"table": self.table, "title": self.title, "band": self.band, "kind": self.kind,
+                "limit_min": self.limit_min, "source": self.source, "status": self.status}
+
+
+def _table_limit(table: TimeTable, ti: float, reduction: float) -> TableLimit:
     row = table.row_at(ti)
     minutes = None if row.max_minutes is None else round(row.max_minutes * (1.0 - reduction), 4)
-    return {"table": table.id, "title": short_title(table.title), "band": row.band_text(),
-            "kind": row.kind, "limit_min": minutes, "source": row.source, "status": row.status}
+    return TableLimit(table.id, short_title(table.title), row.band_text(), row.kind, minutes,
+                      row.source, row.status)
+
+
+def table_limits(ctx: ExamContext) -> tuple[TableLimit, ...]:
+    """The band of each published table of the exam's group at ``ctx.expected_ti`` (BMUS
+    first, then AIUM); empty when no TI is expected or no table covers the exam (eye)."""
+    group = scan_time_group(ctx)
+    if group == "none" or ctx.expected_ti is None:
+        return ()
+    reduction = _reduction(ctx)
+    return tuple(_table_limit(t, ctx.expected_ti, reduction)
+                 for t in safety_data().group_tables(group))
 
 
 def _row_text(kind: str, minutes: float | None) -> str:
@@ -118,9 +152,9 @@ def _row_text(kind: str, minutes: float | None) -> str:
     return f"< {minutes_text(minutes)}"
 
 
-def _limit_text(entry: dict[str, Any]) -> str:
-    text = _row_text(entry["kind"], entry["limit_min"])
-    return f"{entry['title']} {text}{status_text(entry['status'])}"
+def _limit_text(entry: TableLimit) -> str:
+    text = _row_text(entry.kind, entry.limit_min)
+    return f"{entry.title} {text}{status_text(entry.status)}"
 
 
 def _severity(planned: float | None, limit: float | None, approaching: float) -> str:
@@ -191,16 +225,17 @@ def _with_ti(ctx: ExamContext, ti: float, tables: tuple[TimeTable, ...], label: 
     """Compare the planned time with the stricter published limit; return (message, severity,
     published limit [min])."""
     entries = [_table_limit(t, ti, reduction) for t in tables]
-    blocked = [e for e in entries if e["kind"] == "not_recommended"]
-    timed = [e for e in entries if e["kind"] == "limited"]
+    blocked = [e for e in entries if e.kind == "not_recommended"]
+    timed = [e for e in entries if e.kind == "limited" and e.limit_min is not None]
     if blocked:
         strict = blocked[0]
     else:
-        strict = min(timed, key=lambda e: e["limit_min"], default=entries[0])
-    published = strict["limit_min"]
-    values.update(tables=entries, published_limit_min=published,
-                  published_limit_kind=strict["kind"], published_source=strict["source"],
-                  published_status=strict["status"])
+        strict = min(timed, key=lambda e: math.inf if e.limit_min is None else e.limit_min,
+                     default=entries[0])
+    published = strict.limit_min
+    values.update(tables=[e.as_values() for e in entries], published_limit_min=published,
+                  published_limit_kind=strict.kind, published_source=strict.source,
+                  published_status=strict.status)
     message = (f"Expected {index} {number_text(ti)}, limits for {label}: "
                f"{'; '.join(_limit_text(e) for e in entries)}.")
     if reduction:

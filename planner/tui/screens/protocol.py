@@ -13,7 +13,7 @@ from __future__ import annotations
 import re
 from dataclasses import dataclass
 from pathlib import Path
-from typing import TYPE_CHECKING, Any
+from typing import TYPE_CHECKING
 
 from rich import box
 from rich.table import Table
@@ -30,6 +30,7 @@ from planner.tui.screens.closing import OnceModal
 
 if TYPE_CHECKING:  # the engine and the sheet load in the worker, not at start-up
     from planner.engine.model import FrequencyBand
+    from planner.protocol.sheet_model import LimitRow, Sheet, SheetView, TimeSection
     from planner.protocol.sheet_rows import SheetRow
 
 _LOCATION = re.compile(r"^(?P<file>.+?):(?P<line>\d+):(?P<col>\d+): (?P<rest>.*)$", re.S)
@@ -66,20 +67,20 @@ def split_problem(text: str) -> Problem:
 
 
 class ProtocolLoaded(Message):
-    """The worker's result: the sheet data, or the problems of the file."""
+    """The worker's result: the typed sheet, or the problems of the file."""
 
-    def __init__(self, data: dict[str, Any] | None, problems: tuple[str, ...] = ()) -> None:
+    def __init__(self, sheet: Sheet | None, problems: tuple[str, ...] = ()) -> None:
         super().__init__()
-        self.data = data
+        self.sheet = sheet
         self.problems = problems
 
 
-def load_sheet_data(path: Path) -> ProtocolLoaded:
-    """Check the protocol at ``path`` and build its sheet data. Never raises."""
+def load_sheet(path: Path) -> ProtocolLoaded:
+    """Check the protocol at ``path`` and build its sheet. Never raises."""
     try:
         from planner.protocol.loader import load_protocol
         from planner.protocol.sheet import build_sheet
-        return ProtocolLoaded(build_sheet(load_protocol(path), protocol_path=path).data)
+        return ProtocolLoaded(build_sheet(load_protocol(path), protocol_path=path))
     except DataError as exc:
         return ProtocolLoaded(None, tuple(exc.problems))
     except (PlannerError, ValueError, OSError) as exc:
@@ -126,7 +127,7 @@ def _table() -> Table:
                  collapse_padding=True)
 
 
-def view_table(view: dict[str, Any]) -> Table:
+def view_table(view: SheetView) -> Table:
     """A compact table of one view: a row per WHO habitus class."""
     table = _table()
     for header in CLASS_HEADERS:
@@ -136,71 +137,77 @@ def view_table(view: dict[str, Any]) -> Table:
             table.add_column(header, ratio=1, min_width=16, overflow="fold")
         else:
             table.add_column(header, no_wrap=True)
-    for row in view["classes"]:
+    for row in view.classes:
         table.add_row(*class_cells(row))
     return table
 
 
-def _limit_text(row: dict[str, Any]) -> str:
+def _limit_text(row: LimitRow) -> str:
     from planner.safety.format import minutes_text
-    if row["limit"] == "unlimited":
+    if row.limit == "unlimited":
         return "no time limit"
-    if row["limit"] == "not_recommended":
+    if row.limit == "not_recommended":
         return "not recommended"
-    if row["limit"] == "limited" and row["max_minutes"] is not None:
-        return f"< {minutes_text(row['max_minutes'])}"
+    if row.limit == "limited" and row.max_minutes is not None:
+        return f"< {minutes_text(row.max_minutes)}"
     return "-"
 
 
-def limits_table(time: dict[str, Any]) -> Table:
+def _limit_label(row: LimitRow) -> str:
+    if row.kind == "published":
+        return f"{row.label}, {row.band}"
+    if row.kind == "local":
+        return f"local: {row.label}"
+    return row.label
+
+
+def limits_table(time: TimeSection) -> Table:
     """The planned minutes against each published, local and protocol limit."""
     from planner.safety.format import number_text
-    index = time["monitored_index"]
+    index = time.monitored_index
     table = _table()
-    for header in ("Limit", "Time", "TI", "Source", f"Planned {time['planned_minutes']:g} min"):
+    for header in ("Limit", "Time", "TI", "Source", f"Planned {time.planned_minutes:g} min"):
         table.add_column(header, overflow="fold")
-    for row in time["limits"]:
-        label = {"published": f"{row['label']}, {row['band']}",
-                 "local": f"local: {row['label']}"}.get(row["kind"], row["label"])
-        within = {True: "within", False: "EXCEEDS", None: "-"}[row["within"]]
-        table.add_row(label,
+    for row in time.limits:
+        within = {True: "within", False: "EXCEEDS", None: "-"}[row.within]
+        table.add_row(_limit_label(row),
                       _limit_text(row),
-                      "-" if row["max_ti"] is None else f"{index} ≤ {number_text(row['max_ti'])}",
-                      row["source"] + ("" if row["status"] in ("verified", "local")
-                                       else f" ({row['status'].replace('_', ' ')})"),
+                      "-" if row.max_ti is None else f"{index} ≤ {number_text(row.max_ti)}",
+                      row.source + ("" if row.status in ("verified", "local")
+                                    else f" ({row.status.replace('_', ' ')})"),
                       within)
     return table
 
 
-def sheet_widgets(data: dict[str, Any]) -> list[Static]:
+def sheet_widgets(sheet: Sheet) -> list[Static]:
     """The sheet as Statics, top to bottom, ending with the decision-support statement."""
     from planner.safety.format import number_text
-    p, t = data["protocol"], data["time"]
-    facts = [("Department", p["department"]), ("Version", p["version"]),
-             ("Review date", p["review_date"]), ("Exam type", p["exam_type_label"]),
-             ("File", p["file"] or "-")]
-    ti = "not given" if t["expected_ti"] is None else number_text(t["expected_ti"])
-    out = [Static(f"[b]{escape(p['title'])}[/b]", id="protocol-title", classes="sheet-title"),
+    p, t = sheet.protocol, sheet.time
+    facts = [("Department", p.department), ("Version", p.version),
+             ("Review date", p.review_date), ("Exam type", p.exam_type_label),
+             ("File", p.file or "-")]
+    ti = "not given" if t.expected_ti is None else number_text(t.expected_ti)
+    out = [Static(f"[b]{escape(p.title)}[/b]", id="protocol-title", classes="sheet-title"),
            Static("\n".join(f"[$text-muted]{k:<12}[/] {escape(str(v))}" for k, v in facts),
                   id="protocol-facts"),
-           Static(f"[b]Scan time:[/b] {t['planned_minutes']:g} min planned (sum of "
-                  f"{len(data['views'])} views); expected {t['monitored_index']} {ti}",
+           Static(f"[b]Scan time:[/b] {t.planned_minutes:g} min planned (sum of "
+                  f"{len(sheet.views)} views); expected {t.monitored_index} {ti}",
                   id="protocol-time", classes="subhead"),
            Static(limits_table(t), id="protocol-limits"),
-           Static(f"[b]{escape(t['severity'])}:[/b] {escape(t['message'])}", classes="hint")]
-    bmis = ", ".join(f"{c['label']} {c['bmi']:g}" for c in data["habitus_classes"])
+           Static(f"[b]{escape(t.severity)}:[/b] {escape(t.message)}", classes="hint")]
+    bmis = ", ".join(f"{c.label} {c.bmi:g}" for c in sheet.habitus_classes)
     out.append(Static(f"Each WHO class is planned at one BMI [kg/m²]: {escape(bmis)}. "
                       "Band in MHz (* detail not reached); Harm. = harmonic imaging advised; "
                       "tilt = largest deviation from perpendicular; depth in cm; ‼ warning, "
                       "! caution.",
                       id="protocol-legend", classes="hint"))
-    for n, view in enumerate(data["views"], 1):
-        out.append(Static(f"[b]{n}. {escape(view['title'])}[/b] · {escape(view['target']['name'])}"
-                          f" · {escape(view['window']['name'])} · "
-                          f"{view['expected_minutes']:g} min · watch {view['monitored_index']}",
+    for n, view in enumerate(sheet.views, 1):
+        out.append(Static(f"[b]{n}. {escape(view.title)}[/b] · {escape(view.target.name)}"
+                          f" · {escape(view.window.name)} · "
+                          f"{view.expected_minutes:g} min · watch {view.monitored_index}",
                           classes="view-head"))
         out.append(Static(view_table(view), id=f"view-{n}", classes="view-table"))
-    out.append(Static(f"[i]{escape(data['statement'])}[/i]", id="protocol-statement"))
+    out.append(Static(f"[i]{escape(sheet.statement)}[/i]", id="protocol-statement"))
     return out
 
 
@@ -218,7 +225,7 @@ class ProtocolScreen(OnceModal[None]):
     def __init__(self, path: Path) -> None:
         super().__init__()
         self.path = Path(path)
-        self.data: dict[str, Any] | None = None
+        self.sheet: Sheet | None = None
         self.problems: tuple[str, ...] = ()
         self.loaded = False
 
@@ -236,25 +243,25 @@ class ProtocolScreen(OnceModal[None]):
 
     @work(thread=True, exclusive=True, group="protocol")
     def _load(self) -> None:
-        self.post_message(load_sheet_data(self.path))
+        self.post_message(load_sheet(self.path))
 
     async def on_protocol_loaded(self, event: ProtocolLoaded) -> None:
         event.stop()
         status = self.query_one("#protocol-status", Static)
         scroll = self.query_one("#protocol-scroll")
         problems = event.problems
-        if event.data is not None:
+        if event.sheet is not None:
             try:
-                await scroll.mount_all(sheet_widgets(event.data))
-                self.data = event.data
-                n = len(event.data["views"])
+                await scroll.mount_all(sheet_widgets(event.sheet))
+                self.sheet = event.sheet
+                n = len(event.sheet.views)
                 status.update(f"[$success]✓[/] valid · {n} view{'s' if n != 1 else ''} × "
-                              f"{len(event.data['habitus_classes'])} WHO habitus classes")
+                              f"{len(event.sheet.habitus_classes)} WHO habitus classes")
             except Exception as exc:  # noqa: BLE001 - a display bug must not end the session
                 await scroll.remove_children()
                 problems = (f"{self.path}: cannot show this sheet ({type(exc).__name__}: {exc}); "
                             "please report it",)
-        if self.data is None:
+        if self.sheet is None:
             self.problems = problems
             count = len(problems)
             status.update(f"[bold $error]✗ {count} problem{'s' if count != 1 else ''}[/] "
