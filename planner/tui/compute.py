@@ -119,6 +119,11 @@ def parse_form(raw: dict[str, Any]) -> tuple[PlanInputs, dict[str, str]]:
     except (PlannerError, ValueError) as exc:
         problems["conditions"] = getattr(exc, "message", None) or str(exc)
         conditions = ()
+    habitus_given = any(str(raw.get(name, "") or "").strip()
+                        for name in ("bmi", "height_cm", "weight_kg", "wall_mm"))
+    if not habitus_given:
+        # a form whose BMI was cleared is being edited: never plan for an assumed patient
+        problems["bmi"] = "give the BMI, or the height and weight, or a measured wall"
     modes = tuple(raw.get("modes") or ())
     if not modes:
         problems["modes"] = "choose at least one mode"

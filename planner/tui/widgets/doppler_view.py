@@ -56,10 +56,20 @@ def _nyquist_lines(table: Sequence[NyquistCell]) -> list[str]:
     return lines
 
 
-def doppler_markup(doppler: DopplerPlan | None) -> str:
-    """The Doppler section of a plan as markup (a note when there is none)."""
+def no_doppler_text(plan: Plan | None) -> str:
+    """Why a plan has no Doppler section: none was asked for, or the target has no
+    velocity data (the plan's ``doppler.no_vessel_data`` finding says so and why)."""
+    if plan is not None:
+        for finding in plan.findings:
+            if finding.code == "doppler.no_vessel_data":
+                return f"No Doppler section: {finding.message}"
+    return NO_DOPPLER
+
+
+def doppler_markup(doppler: DopplerPlan | None, plan: Plan | None = None) -> str:
+    """The Doppler section of a plan as markup (why there is none when there is none)."""
     if doppler is None:
-        return escape(NO_DOPPLER)
+        return escape(no_doppler_text(plan))
     vessel = doppler.vessel
     kind = ", ".join(v for v in (vessel.flow, vessel.quantity) if v)
     lines = [f"[b]{escape(vessel.name)}[/b]" + (f" [$text-muted]({escape(kind)})[/]" if kind else "")]
@@ -110,4 +120,4 @@ class DopplerView(VerticalScroll):
 
     def show_plan(self, plan: Plan) -> None:
         """Show the Doppler part of ``plan``."""
-        self.query_one("#doppler-text", Static).update(doppler_markup(plan.doppler))
+        self.query_one("#doppler-text", Static).update(doppler_markup(plan.doppler, plan))

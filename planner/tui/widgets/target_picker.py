@@ -19,6 +19,11 @@ def matches(query: str, *texts: str) -> bool:
     return all(word in haystack for word in query.lower().replace("-", " ").split())
 
 
+def region_label(region: str) -> str:
+    """A region id as a reader sees it (``small_parts`` -> ``small parts``)."""
+    return region.replace("_", " ")
+
+
 class TargetFilter(Input):
     """The filter line; Down moves into the list."""
 
@@ -64,8 +69,8 @@ class TargetPicker(Vertical):
         shown = [t for t in self.targets if matches(query, *t)]
         options = self.query_one("#target-list", OptionList)
         options.clear_options()
-        options.add_options([Option(f"{escape(name)} [$text-muted]{escape(region)}[/]", id=tid)
-                             for tid, name, region in shown])
+        options.add_options([Option(f"{escape(name)} [$text-muted]{escape(region_label(region))}[/]",
+                                    id=tid) for tid, name, region in shown])
         ids = [t[0] for t in shown]
         if ids:
             options.highlighted = ids.index(self.chosen_id) if self.chosen_id in ids else 0
