@@ -13,6 +13,11 @@ from dataclasses import dataclass, field
 from collections.abc import Callable, Sequence
 from typing import Any, Generic, TypeVar
 
+RELEVANCES: tuple[str, ...] = ("main", "more")
+"""``main``: changes how this exam is done; ``more``: true but constant across plans or too
+small to change the exam (regulatory ceilings, the scan-time table without an expected TI,
+a sub-millimetre depth error); shown in a compact section after the main items."""
+
 SEVERITIES: tuple[str, ...] = ("info", "advice", "caution", "warning")
 """Severity levels, mildest first.
 
@@ -33,17 +38,22 @@ class Finding:
     values: dict[str, Any] = field(default_factory=dict)
     sources: tuple[str, ...] = ()
     explanation: str = ""
+    relevance: str = "main"
 
     def __post_init__(self) -> None:
         if self.severity not in SEVERITIES:
             raise ValueError(
                 f"severity must be one of {', '.join(SEVERITIES)}, got {self.severity!r}")
+        if self.relevance not in RELEVANCES:
+            raise ValueError(
+                f"relevance must be one of {', '.join(RELEVANCES)}, got {self.relevance!r}")
 
     def to_dict(self) -> dict[str, Any]:
         """Return the finding as a JSON-ready dict (sources as a list)."""
         return {"code": self.code, "severity": self.severity, "title": self.title,
                 "message": self.message, "values": dict(self.values),
-                "sources": list(self.sources), "explanation": self.explanation}
+                "sources": list(self.sources), "explanation": self.explanation,
+                "relevance": self.relevance}
 
 
 def severity_rank(severity: str) -> int:

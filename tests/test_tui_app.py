@@ -315,6 +315,8 @@ async def test_new_plan_and_escape_back_to_the_inputs():
         await pilot.press("ctrl+n")
         await pilot.pause()
         assert screen.query_one("#bmi", Input).value == ""
-        assert screen.outcome.inputs.target_id == "liver" and screen.plan.patient.bmi_given is False
+        # a new plan asks for the habitus instead of planning for an assumed patient
+        assert screen.outcome.inputs.target_id == "liver" and screen.outcome.plan is None
+        assert "bmi" in screen.outcome.problems and "BMI" in text_of(screen, "#plan-status")
         assert "new plan" in text_of(screen, "#masthead")
         assert "DEMO DATA" not in text_of(screen, "#masthead")

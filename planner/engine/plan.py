@@ -13,6 +13,7 @@ from planner.engine.assess import WindowAssessment, assessment_at
 from planner.engine.batch import assess_batches
 from planner.engine.context import Decisions, RuleContext
 from planner.engine.curves import plan_depth_curves
+from planner.engine import relevance
 from planner.engine.doppler_model import DopplerPlan
 from planner.engine.doppler_plan import DOPPLER_PLAN_MODES, plan_doppler
 from planner.engine.model import (SCHEMA_VERSION, ChosenWindow, InputsSummary, PatientSummary, Plan,
@@ -163,8 +164,8 @@ def make_plan(request: PlanRequest) -> Plan:
         windows=tuple(_window_summary(a, reference) for a in ranked),
         tilt=tilt, display=decisions.display_decision(ctx),
         depth_error_mm=round(chosen.depth_error_mm, 2),
-        findings=tuple(findings),
-        safety=tuple(safety),
+        findings=tuple(relevance.grade(findings, target)),
+        safety=tuple(relevance.grade(safety, target)),
         monitored_index=monitored_index(exam),
         pitfalls=tuple(target.pitfalls),
         assumptions=tuple(_assumptions(patient, chosen, inventory, exam)),

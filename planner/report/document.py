@@ -68,6 +68,8 @@ def plan_markdown(plan: Plan, signoff: dict[str, str] | None = None) -> str:
                    f"{win.round_trip_loss_db:.1f} | {win.depth_cm:.1f} | {band_txt} |")
     out += ["", "## Findings and the reasons behind them", ""]
     for f in plan.findings:
+        if f.relevance != "main":
+            continue
         out += [f"### {f.title} ({f.severity})", "", f.message, ""]
         if f.explanation:
             out += [f"*Why:* {f.explanation}", ""]
@@ -76,7 +78,12 @@ def plan_markdown(plan: Plan, signoff: dict[str, str] | None = None) -> str:
     if plan.doppler:
         from planner.report.doppler_text import doppler_text
         out += ["## Doppler", "", "```", *doppler_text(plan.doppler), "```", ""]
-    out += ["## Safety", ""] + [f"- **{f.title}**: {f.message}" for f in plan.safety] + [""]
+    out += ["## Safety", ""] + [f"- **{f.title}**: {f.message}" for f in plan.safety
+                                if f.relevance == "main"] + [""]
+    more = [f for f in plan.findings + plan.safety if f.relevance == "more"]
+    if more:
+        out += ["## More", "", "*Constant on most plans, or too small to change this exam.*", ""]
+        out += [f"- **{f.title}**: {f.message}" for f in more] + [""]
     if plan.validity:
         out += ["## Outside the validated range", ""] + [f"- {v.message}" for v in plan.validity] + [""]
     if plan.pitfalls:
@@ -112,9 +119,11 @@ def plan_html(plan: Plan, signoff: dict[str, str] | None = None) -> str:
         f"<li class='sev-{f.severity}'><b>{e(f.title)}</b> ({f.severity}): {e(f.message)}"
         + (f"<br><small>Why: {e(f.explanation)}</small>" if f.explanation else "")
         + (f"<br><small>Sources: {e('; '.join(f.sources))}</small>" if f.sources else "")
-        + "</li>" for f in plan.findings)
+        + "</li>" for f in plan.findings if f.relevance == "main")
     safety = "".join(f"<li class='sev-{f.severity}'><b>{e(f.title)}</b>: {e(f.message)}</li>"
-                     for f in plan.safety)
+                     for f in plan.safety if f.relevance == "main")
+    more = "".join(f"<li><b>{e(f.title)}</b>: {e(f.message)}</li>"
+                   for f in plan.findings + plan.safety if f.relevance == "more")
     refs = "".join(f"<li><b>{e(k)}</b>: {e(_cite(k))}</li>" for k in _sources(plan))
     body = [f"<h1>Scan plan: {e(plan.target.name)}</h1>"]
     if plan.draft:
@@ -127,6 +136,9 @@ def plan_html(plan: Plan, signoff: dict[str, str] | None = None) -> str:
         from planner.report.doppler_text import doppler_text
         body.append("<h2>Doppler</h2><pre>" + e("\n".join(doppler_text(plan.doppler))) + "</pre>")
     body.append(f"<h2>Safety</h2><ul>{safety}</ul>")
+    if more:
+        body.append("<h2>More</h2><p><small>Constant on most plans, or too small to change this "
+                    f"exam.</small></p><ul class='more'><small>{more}</small></ul>")
     if plan.validity:
         body.append("<h2>Outside the validated range</h2><ul>"
                     + "".join(f"<li>{e(v.message)}</li>" for v in plan.validity) + "</ul>")

@@ -58,15 +58,21 @@ def plan_text(plan: Plan) -> str:
                      f"{win.round_trip_loss_db:5.1f} dB  {win.depth_cm:5.1f} cm  {band_txt}")
     lines += ["", "Findings:"]
     for f in plan.findings:
-        lines.append(f"  {SEVERITY_MARK[f.severity]} {f.title}")
-        lines.append(_wrap(f.message))
+        if f.relevance == "main":
+            lines.append(f"  {SEVERITY_MARK[f.severity]} {f.title}")
+            lines.append(_wrap(f.message))
     if plan.doppler:
         from planner.report.doppler_text import doppler_text
         lines += ["", *doppler_text(plan.doppler)]
     lines += ["", f"Safety (monitor {plan.monitored_index}):"]
     for f in plan.safety:
-        lines.append(f"  {SEVERITY_MARK[f.severity]} {f.title}")
-        lines.append(_wrap(f.message))
+        if f.relevance == "main":
+            lines.append(f"  {SEVERITY_MARK[f.severity]} {f.title}")
+            lines.append(_wrap(f.message))
+    more = [f for f in plan.findings + plan.safety if f.relevance == "more"]
+    if more:
+        lines += ["", "More (constant on most plans, or too small to change this exam):"]
+        lines += [_wrap(f"{f.title}: {f.message}", "  - ") for f in more]
     if plan.validity:
         lines += ["", "Outside the validated range:"]
         lines += [_wrap(v.message, "  - ") for v in plan.validity]

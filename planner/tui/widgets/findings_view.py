@@ -14,9 +14,13 @@ from planner.tui.messages import FindingOpened
 
 
 def by_severity(findings: Sequence[Finding]) -> list[Finding]:
-    """Most severe first, keeping the engine's order within a severity."""
+    """Main items before the "more" ones, each most severe first, keeping the engine's order
+    within a severity."""
     rank = {s: i for i, s in enumerate(SEVERITIES)}
-    return sorted(findings, key=lambda f: -rank.get(f.severity, 0))
+    return sorted(findings, key=lambda f: (f.relevance != "main", -rank.get(f.severity, 0)))
+
+
+MORE_HEADER = "[b $text-muted]More[/] [$text-muted]· constant on most plans, or too small to change this exam[/]"
 
 
 class FindingList(OptionList):
@@ -35,8 +39,12 @@ class FindingList(OptionList):
         self.clear_options()
         options: list[Option | None] = []
         for index, finding in enumerate(self.findings):
+            first_more = finding.relevance != "main" and (
+                index == 0 or self.findings[index - 1].relevance == "main")
             if index:
                 options.append(None)
+            if first_more:
+                options += [Option(MORE_HEADER, disabled=True), None]
             options.append(Option(finding_markup(finding), id=f"f{index}"))
         self.add_options(options)
         if self.findings:
