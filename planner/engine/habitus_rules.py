@@ -2,7 +2,10 @@
 
 from __future__ import annotations
 
+from functools import lru_cache
+
 from planner.body.conditions import CONDITIONS
+from planner.body.walls import load_wall_models
 from planner.engine.context import RuleContext
 from planner.findings import Finding
 
@@ -24,6 +27,46 @@ ADVICE_BY_CONDITION: dict[str, tuple[str, str, str, tuple[str, ...]]] = {
 
 LIMITED_EXAM_BMI: float = 30.0
 """BMI from which a limited examination becomes likely (Heinitz2023; NHSGGC468). [kg/m^2]"""
+
+LIMITED_EXAM_REFERENCE_WALL = "periumbilical"
+"""The trunk wall at which the published BMI threshold is applied to get a fat thickness."""
+
+
+@lru_cache(maxsize=1)
+def limited_exam_fat_mm() -> float:
+    """Subcutaneous fat from which a limited exam becomes likely at any window. [mm]
+
+    Derived: the periumbilical wall model's median subcutaneous fat (mean of the female and
+    male fits) at :data:`LIMITED_EXAM_BMI`, i.e. the published BMI threshold expressed as the
+    fat it means on the trunk. Applied to the fat at the chosen window, so that a route
+    where fat does not build up (transvaginal, distal limb, neck) gets no limited-exam
+    caution at a high BMI, while a thick wall does whatever the BMI.
+    """
+    model = load_wall_models()[LIMITED_EXAM_REFERENCE_WALL]
+    fat = next(layer for layer in model.layers if layer.role == "subcutaneous_fat")
+    delta = LIMITED_EXAM_BMI - 25.0
+    return sum(max(a + b * delta, fat.floor_mm) for a, b in zip(fat.a_mm, fat.b_mm_per_bmi)) / 2.0
+
+
+TRUNK_SLOPE_FRACTION = 0.8
+"""A wall is trunk-like when its subcutaneous fat grows with BMI at least this fraction as
+fast as the periumbilical wall's (derived cut between the neck and thigh walls, 0.3-0.5 mm
+per BMI unit, and the trunk walls, 0.7-1.6, in ``walls.yaml``)."""
+
+
+def _fat_slope(wall_id: str) -> float:
+    model = load_wall_models().get(wall_id)
+    fat = [layer for layer in model.layers if layer.role == "subcutaneous_fat"] if model else []
+    return sum(fat[0].b_mm_per_bmi) / 2.0 if fat else 0.0
+
+
+def trunk_like(wall_id: str) -> bool:
+    """True for a wall whose fat builds up with BMI as the trunk's does (the routes the
+    published BMI threshold was observed on); False for neck, limb, endocavitary routes."""
+    model = load_wall_models().get(wall_id)
+    if model is None or model.endocavitary or not model.bmi_dependent:
+        return False
+    return _fat_slope(wall_id) >= TRUNK_SLOPE_FRACTION * _fat_slope(LIMITED_EXAM_REFERENCE_WALL)
 
 
 def habitus_findings(ctx: RuleContext) -> list[Finding]:
@@ -48,16 +91,33 @@ def habitus_findings(ctx: RuleContext) -> list[Finding]:
 
 
 def limited_exam_findings(ctx: RuleContext) -> list[Finding]:
-    """Advice to plan for a limited exam from BMI 30."""
-    p = ctx.patient
-    if p.bmi < LIMITED_EXAM_BMI:
+    """Advice to plan for a limited exam where the wall at the chosen window is thick."""
+    p, s = ctx.patient, ctx.stack
+    fat_mm = s.subcutaneous_fat_cm * 10.0
+    threshold = limited_exam_fat_mm()
+    measured = p.wall_mm is not None or p.fat_mm is not None
+    by_bmi = p.bmi >= LIMITED_EXAM_BMI and trunk_like(ctx.window.wall) and not measured
+    if fat_mm < threshold and not by_bmi:
         return []
+    pannus = bool(getattr(load_wall_models().get(ctx.window.wall), "pannus", False))
+    helper = "use positioning and a helper for the pannus" if pannus else "use positioning"
+    why = (f"subcutaneous fat {fat_mm:.0f} mm at {ctx.window.name}; from {threshold:.0f} mm, the "
+           f"fat of a trunk wall at BMI {LIMITED_EXAM_BMI:g}, a limited exam becomes likely"
+           if fat_mm >= threshold else
+           f"BMI {p.bmi:.0f} on a trunk route ({ctx.window.name}, fat {fat_mm:.0f} mm); from BMI "
+           f"{LIMITED_EXAM_BMI:g} a limited exam becomes likely")
     return [Finding(
             "habitus.limited_exam", "caution", "Large habitus: plan for a limited exam",
-            "Image quality falls with BMI. Start from high-BMI settings (lower band, harmonic imaging), "
-            "use positioning and a helper for the pannus, do not prolong the exam when gain is unlikely, "
-            "and document any limitation 'due to body habitus'; offer another route or appointment.",
-            {"bmi": round(p.bmi, 1)}, ("Heinitz2023", "NHSGGC468", "SoRHighBMI"))]
+            f"{why[0].upper()}{why[1:]}. Start from high-BMI settings (lower band, harmonic imaging), "
+            f"{helper}, do not prolong the exam when gain is unlikely, and document any "
+            "limitation 'due to body habitus'; offer another route or appointment.",
+            {"bmi": round(p.bmi, 1), "subcutaneous_fat_mm": round(fat_mm, 1),
+             "threshold_fat_mm": round(threshold, 1)},
+            ("Heinitz2023", "NHSGGC468", "SoRHighBMI", "AfifiNomogram"),
+            f"The published threshold is BMI {LIMITED_EXAM_BMI:g} on trunk routes; there that means "
+            f"about {threshold:.0f} mm of subcutaneous fat (periumbilical wall model). Any route "
+            "with that much fat gets the caution; endocavitary, neck and limb routes are judged by "
+            "their own wall, not the BMI.")]
 
 
 def steatosis_findings(ctx: RuleContext) -> list[Finding]:
