@@ -34,6 +34,7 @@ from planner.body.conditions import CONDITIONS, parse_condition
 from planner.body.patient import Patient
 from planner.body.walls import PANNUS_BMI, load_wall_models
 from planner.engine import Plan, PlanRequest, make_plan
+from planner.engine.request import FEMALE_EXAMS
 from planner.engine.sweep import sweep
 from planner.errors import InputError
 from planner.library.targets import load_library
@@ -200,6 +201,17 @@ def test_raw_condition_mappings_are_checked(target, conditions):
         assert plan_to_json_data(result)["patient"]["conditions"] == conditions   # the plan used them all
 
 
+def female_exam(target_id: str) -> bool:
+    """The target's usual exam implies a female patient (obstetric, gynaecological)."""
+    return load_library().get(target_id).exam_type in FEMALE_EXAMS
+
+
+def test_a_male_patient_is_refused_for_an_obstetric_target():
+    with pytest.raises(InputError, match="female"):
+        make_plan(PlanRequest("fetal-head", Patient.from_inputs(bmi=30.0, sex="male",
+                                                                gestation_weeks=20.0)))
+
+
 # -- monotonic properties -----------------------------------------------------------------
 
 @fuzz_settings(120)
@@ -211,6 +223,7 @@ def test_reach_falls_and_depth_grows_with_bmi_for_a_fixed_window(pair, sex, cond
     """Power-law attenuation (Szabo2004 ch. 4): a thicker wall cannot raise the reach,
     over BMI 17-60 and across the pannus threshold."""
     target, window = pair
+    assume(not (sex == "male" and female_exam(target)))   # refused: see test below
     bmis = sorted(bmis)
     plans = [make_plan(PlanRequest(target, Patient.from_inputs(bmi=b, sex=sex,
                                                                conditions=conditions),
@@ -272,6 +285,7 @@ def test_sweep_is_finite_for_any_habitus(pair, bmi, sex, with_depth, seed, condi
     """The vectorised sweep: finite numbers for every scenario, NaN depths meaning
     'not measured'; reach from the sweep cannot rise with BMI (Szabo2004 ch. 4)."""
     target, window = pair
+    assume(not (sex == "male" and female_exam(target)))
     b = np.asarray(bmi, dtype=float)
     depth = None
     if with_depth:

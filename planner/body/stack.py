@@ -245,7 +245,8 @@ def _organ_path(patient: Patient, window, model: WallModel, notes: list[str]) ->
     for step in window.path:
         tissue = get_tissue(step.tissue)
         role = getattr(step, "role", None) or "path"
-        label = tissue.name
+        structure = getattr(step, "label", "")
+        label = f"{structure} ({tissue.name.lower()} values)" if structure else tissue.name
         if liver_grade and tissue.id == "liver":
             tissue = steatotic_liver(liver_grade)
             label = tissue.name

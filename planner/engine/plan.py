@@ -19,7 +19,7 @@ from planner.engine.doppler_plan import DOPPLER_PLAN_MODES, plan_doppler
 from planner.engine.model import (SCHEMA_VERSION, ChosenWindow, InputsSummary, PatientSummary, Plan,
                                   PlanLayer, ProbeSummary, TargetSummary, WindowBand, WindowSummary)
 from planner.engine.registry import ENGINE_RULES
-from planner.engine.request import PlanRequest
+from planner.engine.request import PlanRequest, exam_type_of, patient_for_exam
 from planner.errors import InputError
 from planner.findings import severity_rank
 from planner.library.probes import ProbeInventory, load_inventory
@@ -120,7 +120,7 @@ def make_plan(request: PlanRequest) -> Plan:
     target = load_library().get(request.target_id)
     windows = [_window_by_id(target, request.window_id)] if request.window_id else list(target.windows)
     inventory = load_inventory(request.probes_path)
-    patient = request.patient
+    patient = patient_for_exam(request.patient, exam_type_of(request, target))
     assessed = assess_windows(patient, target, windows, inventory, windows[0])
     ranked, reference = rank_assessments(assessed)
     chosen = ranked[0]
@@ -168,7 +168,8 @@ def make_plan(request: PlanRequest) -> Plan:
         safety=tuple(relevance.grade(safety, target)),
         monitored_index=monitored_index(exam),
         pitfalls=tuple(target.pitfalls),
-        assumptions=tuple(_assumptions(patient, chosen, inventory, exam)),
+        assumptions=tuple(_assumptions(patient, chosen, inventory, exam,
+                                       sex_implied=request.patient.sex is None and patient.sex is not None)),
         validity=tuple(validity), disclaimer=DISCLAIMER,
         layers=tuple(PlanLayer(lay.tissue.id, lay.label, lay.role, round(lay.thickness_cm, 3),
                                lay.tissue.speed_m_per_s, lay.tissue.attenuation_db_per_cm_mhz,
@@ -183,10 +184,13 @@ def make_plan(request: PlanRequest) -> Plan:
 
 
 def _assumptions(patient: Patient, chosen: WindowAssessment, inventory: ProbeInventory,
-                 exam: ExamContext) -> list[str]:
+                 exam: ExamContext, sex_implied: bool = False) -> list[str]:
     out = []
     if not patient.bmi_given:
         out.append(f"No BMI given: the reference habitus (BMI {patient.bmi:g}) is assumed.")
+    if sex_implied:
+        out.append(f"Sex taken as female: an {exam.exam_type.replace('_', ' ')} exam; wall "
+                   "layers use the female values.")
     if patient.sex is None:
         out.append("Sex not given: wall layers use the mean of the female and male values.")
     if patient.wall_mm is not None:

@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 
 from planner.body.patient import Patient
 from planner.safety import ExamContext
@@ -42,3 +42,26 @@ class PlanRequest:
     local_policy_path: str | None = None
     doppler: bool = False
     draft: bool = False
+
+
+FEMALE_EXAMS: tuple[str, ...] = ("obstetric", "gynaecological")
+"""Exam types that imply a female patient (common practice)."""
+
+
+def exam_type_of(request: PlanRequest, target) -> str:
+    """The exam type a plan uses: the user's (context or overrides) or the target's usual."""
+    if request.context is not None:
+        return request.context.exam_type
+    return (request.context_overrides or {}).get("exam_type") or target.exam_type
+
+
+def patient_for_exam(patient: Patient, exam_type: str) -> Patient:
+    """The patient as the exam implies: an obstetric or gynaecological exam is of a female
+    patient (sex taken as female when not given; a male sex is refused, one line)."""
+    if exam_type not in FEMALE_EXAMS:
+        return patient
+    if patient.sex == "male":
+        from planner.errors import InputError
+        raise InputError(f"an {exam_type.replace('_', ' ')} exam implies a female patient; "
+                         "the sex given is male")
+    return patient if patient.sex == "female" else replace(patient, sex="female")

@@ -19,7 +19,7 @@ from planner.body.stack import build_stack_batch, measured_wall_ratio
 from planner.body.walls import load_wall_models
 from planner.engine.batch import WindowBatch, assess_batch, assess_batches
 from planner.engine.decisions import CLUTTER_BMI, CLUTTER_FAT_MM
-from planner.engine.request import PlanRequest
+from planner.engine.request import PlanRequest, exam_type_of, patient_for_exam
 from planner.errors import InputError
 from planner.library.probes import ProbeInventory, default_inventory, load_inventory
 from planner.library.targets import load_library
@@ -65,7 +65,8 @@ def sweep(target_id: str, bmi, *, window_id: str | None = None, sex: str | None 
     window = _window(target, window_id)
     inventory = inventory or default_inventory()
     b = np.atleast_1d(np.asarray(bmi, dtype=float))
-    patient = Patient(sex=sex, conditions=dict(conditions or {}), gestation_weeks=gestation_weeks)
+    patient = patient_for_exam(Patient(sex=sex, conditions=dict(conditions or {}),
+                                       gestation_weeks=gestation_weeks), target.exam_type)
     depth = None if depth_cm is None else np.broadcast_to(np.asarray(depth_cm, dtype=float), b.shape)
     stacks = build_stack_batch(patient, window, bmi=b, depth_cm=depth)
     batch = assess_batch(stacks, target, inventory)
@@ -132,7 +133,8 @@ def sweep_plans(request: PlanRequest, bmi) -> list[SweepRow]:
     windows = [_window(target, request.window_id)] if request.window_id else list(target.windows)
     inventory = load_inventory(request.probes_path)
     b = np.atleast_1d(np.asarray(bmi, dtype=float))
-    patient = replace(request.patient, bmi=float(b[0]), bmi_given=True)
+    patient = replace(patient_for_exam(request.patient, exam_type_of(request, target)),
+                      bmi=float(b[0]), bmi_given=True)
     reference = windows[0]
     ratio = measured_wall_ratio(load_wall_models()[reference.wall], patient, reference.wall_factor, b)
     batches = assess_batches([build_stack_batch(patient, w, bmi=b, wall_ratio=ratio) for w in windows],

@@ -90,6 +90,9 @@ class PathLayer(FileModel):
     tissue: Tissue
     thickness_cm: Thickness
     role: LayerRole | None = None
+    label: OptText = ""
+    """What the layer is when its tissue is a stand-in (e.g. ``myometrium`` with soft-tissue
+    values); shown instead of the tissue's name."""
 
 
 class Surface(FileModel):

@@ -100,6 +100,8 @@ class PathLayer:
     thickness_cm: float
     role: str | None = None
     provenance: dict[str, Sourced] = field(default_factory=dict, hash=False, repr=False)
+    label: str = ""
+    """The structure this layer stands for when its tissue is a stand-in ("myometrium")."""
 
 
 @dataclass(frozen=True, slots=True)
@@ -261,7 +263,8 @@ def _sourced(raw: dict) -> Sourced:
 
 def _layer(raw: dict) -> PathLayer:
     thickness = _sourced(raw["thickness_cm"])
-    return PathLayer(raw["tissue"], thickness.value, raw.get("role"), {"thickness_cm": thickness})
+    return PathLayer(raw["tissue"], thickness.value, raw.get("role"), {"thickness_cm": thickness},
+                     (raw.get("label") or "").strip())
 
 
 def _optional(raw: dict, key: str, provenance: dict[str, Sourced]) -> float | None:
