@@ -64,7 +64,7 @@ def nyquist_cell(plan, f, a):
 def test_prf_and_nyquist_table_NyquistTeaching():
     """d = 10 cm: PRF_max = c/(2d) = 7700 Hz; v_max(0 deg) = c^2/(8 d f0): 2 MHz -> 148 cm/s,
     1 MHz -> 296 cm/s; at 60 deg twice as much (1/cos 60) (derived worked values)."""
-    plan, _ = plan_doppler(target("renal-artery"), fake_window(10.0), INV.get("curved-1-6"), INV)
+    plan, _ = plan_doppler(target("renal-artery"), fake_window(10.0), INV.get("abdominal-curved"), INV)
     assert plan.prf_max_hz == pytest.approx(7700, abs=1)
     assert nyquist_cell(plan, 2.0, 0.0) == pytest.approx(148.0, abs=1.0)
     assert nyquist_cell(plan, 1.0, 0.0) == pytest.approx(296.0, abs=1.0)
@@ -73,7 +73,7 @@ def test_prf_and_nyquist_table_NyquistTeaching():
 
 def test_velocity_error_at_60_deg_derived():
     """cos(60 +/- 5)/cos 60 - 1 = -15.5 / +14.7 % (derived worked value)."""
-    plan, _ = plan_doppler(target("renal-artery"), fake_window(10.0), INV.get("curved-1-6"), INV)
+    plan, _ = plan_doppler(target("renal-artery"), fake_window(10.0), INV.get("abdominal-curved"), INV)
     assert plan.recommended.angle_deg == 60.0
     assert (plan.velocity_error_percent.plus_5_deg, plan.velocity_error_percent.minus_5_deg) == (-15.5, 14.7)
 
@@ -81,7 +81,7 @@ def test_velocity_error_at_60_deg_derived():
 def test_zero_angle_policy_SMFM2015FetalAnemia():
     """Fetal MCA is read at 0 deg (SMFM 2015): a 5 deg error then costs only cos 5 - 1 = -0.4 %."""
     plan, _ = plan_doppler(target("fetal-mca"), fake_window(9.0, wall="pregnancy_lower"),
-                           INV.get("curved-1-6"), INV)
+                           INV.get("abdominal-curved"), INV)
     assert plan.recommended.angle_deg == 0.0
     assert plan.velocity_error_percent.plus_5_deg == pytest.approx(-0.4, abs=0.05)
 
@@ -192,7 +192,7 @@ def test_bad_vessel_entry_reports_every_problem():
 # --- planning behaviour ---------------------------------------------------------------------
 
 def test_non_vessel_target_gets_no_plan():
-    plan, findings = plan_doppler(target("gallbladder"), fake_window(6.0), INV.get("curved-1-6"), INV)
+    plan, findings = plan_doppler(target("gallbladder"), fake_window(6.0), INV.get("abdominal-curved"), INV)
     assert plan is None and [f.code for f in findings] == ["doppler.no_vessel_data"]
 
 
@@ -201,7 +201,7 @@ def test_deep_renal_artery_aliases_and_remedies_are_recomputed():
     (c^2/(8 d f cos 60) = 165 cm/s), so 2.0 MHz is chosen (198 cm/s); the 350 cm/s ratio velocity
     aliases. Every remedy that claims to remove it is re-run here with the physics functions."""
     plan, findings = plan_doppler(target("renal-artery"), fake_window(15.0, alpha=0.55),
-                                  INV.get("curved-1-6"), INV)
+                                  INV.get("abdominal-curved"), INV)
     rec = plan.recommended
     assert (rec.frequency_mhz, rec.angle_deg) == (2.0, 60.0)
     assert rec.v_max_cm_s == pytest.approx(C ** 2 / (8 * 0.15 * 2e6 * 0.5) * 100, abs=0.1)
@@ -221,7 +221,7 @@ def test_deep_renal_artery_aliases_and_remedies_are_recomputed():
     assert hprf.extra_gates_cm == (7.5,)
     new_depth = by_action["shallower_window"].changes["depth_cm"][1]
     assert doppler.max_velocity_at_depth_cm_s(new_depth, 2.0, 60.0) >= 350
-    assert by_action["continuous_wave"].changes["probe"] == "phased-1-5"
+    assert by_action["continuous_wave"].changes["probe"] == "intercostal-phased"
     for r in plan.remedies:
         assert r.removes_aliasing == (r.v_max_cm_s is None or r.v_max_cm_s >= 350)
 
@@ -245,7 +245,7 @@ def test_bmi45_renal_plan_names_aliasing_and_a_remedy_that_removes_it():
 def test_shallower_alternative_window_is_recomputed_at_its_depth():
     deep = fake_window(15.0, alpha=0.55)
     shallow = fake_window(8.0, alpha=0.55, wall="posterior_flank", wid="flank-coronal", name="flank")
-    plan, _ = plan_doppler(target("renal-artery"), deep, INV.get("curved-1-6"), INV, alternatives=[shallow])
+    plan, _ = plan_doppler(target("renal-artery"), deep, INV.get("abdominal-curved"), INV, alternatives=[shallow])
     remedy = next(r for r in plan.remedies if r.action == "shallower_window")
     assert remedy.changes["window"] == "flank-coronal"
     a = remedy.changes["angle_deg"][1]
@@ -257,19 +257,19 @@ def test_carotid_angle_steer_and_heel_toe():
     """Carotid parallel to the skin (90 deg): a linear array steers 20 deg and heel-toes 10 deg
     to reach 60 deg; a curved array stops at 70 deg and the plan cautions."""
     plan, findings = plan_doppler(target("carotid-bifurcation", ("linear",)),
-                                  fake_window(3.0, wall="neck_lateral"), INV.get("linear-4-12"), INV)
+                                  fake_window(3.0, wall="neck_lateral"), INV.get("general-linear"), INV)
     rec = plan.recommended
     assert (rec.angle_deg, rec.steer_deg, rec.heel_toe_deg) == (60.0, 20.0, 10.0)
     assert "steer" in rec.how and "heel-toe" in rec.how
     assert not [f for f in findings if f.code == "doppler.angle"]
     plan, findings = plan_doppler(target("carotid-bifurcation"), fake_window(3.0, wall="neck_lateral"),
-                                  INV.get("curved-1-6"), INV)
+                                  INV.get("abdominal-curved"), INV)
     assert plan.recommended.angle_deg == 70.0
     assert any(f.code == "doppler.angle" and f.severity == "caution" for f in findings)
 
 
 def test_weak_signal_when_no_frequency_fits_the_budget():
-    plan, findings = plan_doppler(target("aorta"), fake_window(20.0, alpha=1.2), INV.get("curved-1-6"), INV)
+    plan, findings = plan_doppler(target("aorta"), fake_window(20.0, alpha=1.2), INV.get("abdominal-curved"), INV)
     assert not any(row.within_budget for row in plan.frequencies)
     assert plan.recommended.frequency_mhz == 1.0
     assert any(f.code == "doppler.signal" and f.severity == "warning" for f in findings)
@@ -277,7 +277,7 @@ def test_weak_signal_when_no_frequency_fits_the_budget():
 
 def test_missing_probe_falls_back_to_inventory_probe():
     plan, _ = plan_doppler(target("aorta"), fake_window(8.0), None, INV)
-    assert plan.probe == "curved-1-6"
+    assert plan.probe == "abdominal-curved"
 
 
 @pytest.mark.parametrize("tid", sorted(REQUIRED))
@@ -301,19 +301,19 @@ def test_early_pregnancy_doppler_comes_from_the_safety_rules_WFUMBISUOG2011():
 
 
 def test_text_section_shows_numbers_and_remedies():
-    plan, _ = plan_doppler(target("renal-artery"), fake_window(15.0, alpha=0.55), INV.get("curved-1-6"), INV)
+    plan, _ = plan_doppler(target("renal-artery"), fake_window(15.0, alpha=0.55), INV.get("abdominal-curved"), INV)
     text = "\n".join(doppler_text(plan))
     assert "ALIASING expected: 350 cm/s" in text and "198 cm/s" in text
     assert text.count("removes aliasing") == sum(r.removes_aliasing for r in plan.remedies)
     plan, _ = plan_doppler(target("portal-vein"), fake_window(9.0, wall="ruq_intercostal"),
-                           INV.get("curved-1-6"), INV)
+                           INV.get("abdominal-curved"), INV)
     assert "No aliasing expected" in "\n".join(doppler_text(plan))
     assert isinstance(load_vessels()["portal-vein"], Vessel)
 
 
 @settings(max_examples=60, deadline=None)
 @given(st.sampled_from(sorted(REQUIRED)), st.floats(1.0, 25.0), st.floats(0.3, 1.0),
-       st.sampled_from(["curved-1-6", "linear-4-12", "phased-1-5"]))
+       st.sampled_from(["abdominal-curved", "general-linear", "intercostal-phased"]))
 def test_invariants_over_depths_and_probes(tid, depth, alpha, probe_id):
     """Invariants: the recommended limit is c^2/(8 d f0 cos theta); aliasing is flagged exactly
     when the design velocity exceeds it; a remedy removes aliasing exactly when its recomputed

@@ -227,9 +227,9 @@ def test_probes_option_replaces_the_inventory(capsys):
                        capsys)
     data = json.loads(out)
     assert code == 0
-    assert data["equipment"]["probe"] == {"id": "ca-1-6", "label": None}
+    assert data["equipment"]["probe"] == {"id": "general-curved", "label": None}
     assert data["equipment"]["inventory"] == "probes.yaml (given with --probes)"
-    fellbrook = {"curved-1-5", "curved-2-8", "linear-3-11", "linear-5-14", "endo-4-9"}
+    fellbrook = {"obstetric-curved", "vascular-curved", "vascular-linear", "superficial-linear", "obstetric-endocavitary"}
     assert all(r["probe"]["id"] in fellbrook for v in data["views"] for r in v["classes"])
 
 
