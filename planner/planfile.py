@@ -40,7 +40,7 @@ always reflects the current engine and data. The format (``schema_version: 1``):
       student_reflection: ''
     decisions: {probe: '', start_mhz: null, window: '', position: '', harmonic: null,
                 tilt: '', rationale: ''}     # the student's own (planner.choices)
-    computed: {...}           # the headline as saved (planner.plandoc.headline_data)
+    computed: {...}           # the headline as saved (planner.headline.headline_data)
     signature: {...}          # `scanplan draft sign` (planner.signing)
 
 Missing keys take these defaults (older files without the newer keys still load). Paths
@@ -350,7 +350,7 @@ def _choices(section) -> StudentChoices:
 def save_plan_inputs(path: str | os.PathLike[str], inputs: PlanInputs, *,
                      overwrite: bool = False, plan=None, stamp=None) -> None:
     """Write the inputs as a plan file, atomically, with the plan's headline as computed
-    (``computed``: :func:`planner.plandoc.headline_data` of ``plan``, made now when None).
+    (``computed``: :func:`planner.headline.headline_data` of ``plan``, made now when None).
 
     Raises
     ------
@@ -363,7 +363,7 @@ def save_plan_inputs(path: str | os.PathLike[str], inputs: PlanInputs, *,
     if problems:
         name, message = next(iter(problems.items()))
         raise InputError(f"cannot save an invalid plan: {name}: {message}")
-    from planner.plandoc import FILE_HEADER, headline_data
+    from planner.headline import FILE_HEADER, headline_data
     data = inputs_to_data(inputs)
     data["computed"] = headline_data(plan if plan is not None else make_plan_for(inputs), stamp)
     atomic_write_text(path, FILE_HEADER + dump_yaml(data), overwrite=overwrite)

@@ -50,8 +50,8 @@ SCHEMA_KINDS: dict[str, Callable[[], dict[str, Any]]] = {
     "probes": _lazy("planner.files.schemas:inventory_schema"),
     "policy": _lazy("planner.files.schemas:policy_schema"),
     "plan": _lazy("planner.files.schemas:plan_schema"),
-    "trusted-keys": _lazy("planner.files.schemas:trusted_keys_schema"),
     "plan-output": _lazy("planner.engine.serialize:plan_output_schema"),
+    "trusted-keys": _lazy("planner.files.schemas:trusted_keys_schema"),
 }
 """File kind -> function returning its JSON Schema (draft 2020-12), in listing order."""
 

@@ -2,8 +2,9 @@
 
 Every renderer reads ``sheet.data`` built by :func:`planner.protocol.sheet.build_sheet`
 (its per-class rows are typed :class:`planner.protocol.sheet_rows.SheetRow`); only the HTML depth plots use the plans in
-``sheet.plot_plans``. No timestamps or absolute paths, so the output of a given protocol
-is the same on every run.
+``sheet.plot_plans``. No absolute paths; the one time is the stamp at the foot (tool
+version and generation time, :mod:`planner.stamp`), fixed by ``SCANPLAN_FIXED_TIME`` for
+output that must not change from run to run.
 """
 
 from __future__ import annotations
@@ -17,6 +18,7 @@ from planner.engine.serialize import to_json_data
 from planner.protocol.sheet_rows import SheetRow
 from planner.report.svg import depth_plot_svg
 from planner.safety.format import minutes_text, number_text
+from planner.stamp import current_stamp
 
 __all__ = ["sheet_markdown", "sheet_html", "sheet_json"]
 
@@ -167,7 +169,7 @@ def sheet_markdown(sheet) -> str:
     out += [f"- **{f['title']}** ({f['severity']}): {f['message']} "
             f"*Sources:* {'; '.join(f['sources'])}" for f in d["safety"]["findings"]] + [""]
     out += ["## Assumptions", ""] + [f"- {a}" for a in d["assumptions"]] + [""]
-    out += [f"*{d['statement']}*", ""]
+    out += [f"*{d['statement']}*", "", current_stamp().line(), ""]
     return "\n".join(out)
 
 
@@ -258,12 +260,16 @@ def sheet_html(sheet) -> str:
         for f in d["safety"]["findings"])
     body.append(f"<h2>Safety</h2>{_html_list(_safety_items(d))}<ul>{findings}</ul>")
     body.append(f"<h2>Assumptions</h2>{_html_list(d['assumptions'])}")
+    stamp = current_stamp()
     body.append(f"<p class='statement'>{e(d['statement'])}</p>")
+    body.append(f"<p class='stamp'>{e(stamp.line())}</p>")
     return ("<!DOCTYPE html><html lang='en'><head><meta charset='utf-8'>"
+            f"<meta name='generator' content='{e(stamp.generated_by)}'>"
             f"<title>{e(title)}</title><style>{_CSS}</style></head><body>"
             + "".join(body) + "</body></html>\n")
 
 
 def sheet_json(sheet) -> str:
     """Render a sheet as JSON (sorted keys, two-space indent, no NaN)."""
-    return json.dumps(to_json_data(sheet.data), sort_keys=True, indent=2, allow_nan=False) + "\n"
+    data = {**to_json_data(sheet.data), **current_stamp().as_data()}
+    return json.dumps(data, sort_keys=True, indent=2, allow_nan=False) + "\n"
