@@ -139,6 +139,10 @@ def inputs_from_args(args: argparse.Namespace, base=None):
                if getattr(args, dest, None) is not None}
     if "harmonic" in choices:
         choices["harmonic"] = choices["harmonic"] == "on"
+    start = choices.get("start_mhz")
+    if start is not None and not 0 < start <= 100:
+        raise InputError(f"argument --student-start-mhz: must be above 0 and at most 100 MHz, "
+                         f"got {start:g}")
     if choices:
         given["choices"] = dataclasses.replace(base.choices, **choices)
     return dataclasses.replace(base, **given)
