@@ -68,6 +68,7 @@ class PlanningScreen(Screen):
         self.built = False
         self._building = False
         self._protocol_path = "protocol.yaml"
+        self.signed = None          # planner.tui.signoff.SignedFile of the opened file
 
     def compose(self) -> ComposeResult:
         yield Masthead(id="masthead")
@@ -180,7 +181,24 @@ class PlanningScreen(Screen):
         library = self.panel.library if self.built else None
         if library is not None and inputs.target_id in library:
             name = library.get(inputs.target_id).name
-        self.query_one(Masthead).show(name, self.source, inputs != self.baseline, inputs.draft)
+        signature = ""
+        if self.signed is not None:
+            from planner.tui.signoff import state_for, supervisor_fields
+            state = state_for(self.signed, inputs)
+            signature = {"valid": f"signed by {state.name} at {state.signed_at}",
+                         "unchecked": f"signed by {state.name} at {state.signed_at}",
+                         "changed": "changed after signing",
+                         "unknown": "signed by an unknown key"}.get(state.status, "")
+            if self.built:
+                self.panel.show_signature(state.line(), supervisor_fields(state))
+        self.query_one(Masthead).show(name, self.source, inputs != self.baseline, inputs.draft,
+                                      signature)
+
+    @property
+    def dirty(self) -> bool:
+        """True when the form holds edits not saved (or opened) as they are."""
+        return bool(self.built and self.outcome is not None
+                    and self.outcome.inputs != self.baseline)
 
     # -- views and focus --------------------------------------------------------------------
     def action_view(self, view: str) -> None:
@@ -209,16 +227,25 @@ class PlanningScreen(Screen):
         self.app.push_screen(ExplainScreen(event.finding))
 
     def action_toggle_draft(self) -> None:
-        if self.built:
-            box = self.query_one("#draft", Checkbox)
-            box.value = not box.value
+        """Turn the supervised draft on and put the cursor in the student's first field."""
+        if not self.built:
+            return
+        from planner.tui.widgets.input_panel import DRAFT_FIRST_FIELD
+        box = self.query_one("#draft", Checkbox)
+        if not box.value:
+            box.value = True
+        self.query_one("#signoff").display = True
+        first = self.query_one(f"#{DRAFT_FIRST_FIELD}", Input)
+        self.call_after_refresh(first.focus)
+        self.call_after_refresh(first.scroll_visible)
 
     def action_new_plan(self) -> None:
+        self.signed = None
         target = self.outcome.inputs.target_id if self.outcome else self.baseline.target_id
         self._adopt(PlanInputs(target_id=target), "new plan")
 
-    def _adopt(self, inputs: PlanInputs, source: str) -> None:
-        self.baseline, self.source = inputs, source
+    def _adopt(self, inputs: PlanInputs, source: str, signed=None) -> None:
+        self.baseline, self.source, self.signed = inputs, source, signed
         self.panel.fill(form_values(inputs))
         self.recompute()
 
@@ -232,20 +259,38 @@ class PlanningScreen(Screen):
             return None
         return self.outcome.inputs
 
-    def action_save(self) -> None:
+    def action_save(self, then=None) -> None:
         inputs = self._ready_inputs("save")
         if inputs is not None:
-            self._ask(PathRequest("Save the plan's inputs", "A YAML file; the plan is recomputed "
-                                  "when it is opened.", f"plan-{inputs.target_id}.yaml"),
-                      lambda path, confirm: self._save(path, inputs, confirm))
+            self._ask(PathRequest("Save the plan", "A YAML file: the inputs and the plan as "
+                                  "computed now.", f"plan-{inputs.target_id}.yaml"),
+                      lambda path, confirm: self._save(path, inputs, confirm, then))
 
-    def _save(self, path: str, inputs: PlanInputs, overwrite: bool) -> str | None:
+    def _save(self, path: str, inputs: PlanInputs, overwrite: bool, then=None) -> str | None:
         from planner.planfile import save_plan_inputs
-        save_plan_inputs(user_path(path), inputs, overwrite=overwrite)
-        self.baseline, self.source = inputs, Path(path).name
+        save_plan_inputs(user_path(path), inputs, overwrite=overwrite, plan=self.plan)
+        signed = self.signed is not None
+        self.baseline, self.source, self.signed = inputs, Path(path).name, None
         self._update_masthead(inputs)
-        self.notify(f"Saved {path}")
+        self.notify(f"Saved {path}" + (" (without the signature: a supervisor signs the "
+                                       "saved file again)" if signed else ""))
+        if then is not None:
+            then()
         return None
+
+    def request_quit(self) -> None:
+        """Quit, asking first (save, discard, cancel) when there are unsaved edits."""
+        if not self.dirty:
+            self.app.exit()
+            return
+        from planner.tui.screens.decide import QuitDialog
+
+        def chosen(choice: str | None) -> None:
+            if choice == "discard":
+                self.app.exit()
+            elif choice == "save":
+                self.action_save(then=self.app.exit)
+        self.app.push_screen(QuitDialog(), chosen)
 
     def action_open(self) -> None:
         if not self.engine_ready:
@@ -255,10 +300,26 @@ class PlanningScreen(Screen):
                   lambda path, confirm: self._open(path), must_exist=True)
 
     def _open(self, path: str) -> str | None:
-        from planner.planfile import load_plan_inputs
-        inputs = load_plan_inputs(user_path(path))
-        self._adopt(inputs, Path(path).name)
-        self.notify(f"Opened {path}")
+        from planner.headline import headline_changes, headline_data
+        from planner.plandoc import load_plan_document
+        from planner.planfile import make_plan_for
+        from planner.tui.screens.decide import ChangesDialog
+        from planner.tui.signoff import open_signed
+        document = load_plan_document(user_path(path))
+        signed = open_signed(document)
+        changes = headline_changes(document.computed,
+                                   headline_data(make_plan_for(document.inputs)))
+
+        def adopt(accept: bool | None = True) -> None:
+            if accept:
+                self._adopt(document.inputs, Path(path).name, signed)
+                self.notify(f"Opened {path}" + (f"; {signed.problem}" if signed and signed.problem
+                                                else ""))
+        if changes:
+            made = f"saved by {(document.computed or {}).get('generated_by', 'an older version')}"
+            self.app.push_screen(ChangesDialog(path, made, changes), adopt)
+        else:
+            adopt()
         return None
 
     def action_protocol(self) -> None:
@@ -289,7 +350,8 @@ class PlanningScreen(Screen):
     def _export(self, path: str, plan, inputs: PlanInputs, overwrite: bool) -> str | None:
         from planner.tui.exporting import format_for, report_text
         from planner.yamlio import atomic_write_text
-        text = report_text(plan, inputs, format_for(path))
+        from planner.tui.signoff import state_for
+        text = report_text(plan, inputs, format_for(path), state_for(self.signed, inputs))
         atomic_write_text(user_path(path), text, overwrite=overwrite)
         self.notify(f"Exported {path}")
         return None
