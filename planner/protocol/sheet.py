@@ -255,7 +255,7 @@ def _plan_views(protocol: Protocol, classes: tuple[str, ...], inv_path: str | No
             if key not in memo:
                 memo[key] = make_plan(PlanRequest(view.target, patients[c], window_id=view.window,
                                                   context=ctx, probes_path=inv_path))
-            rows.append(sheet_row(c, REPRESENTATIVE_BMI[c], memo[key]))
+            rows.append(sheet_row(c, REPRESENTATIVE_BMI[c], memo[key], rows[-1] if rows else None))
         plots.append(memo[(view.target, view.window, plot_class, ctx)])
         views.append({
             "id": view.id, "title": view.title, "target": {"id": target.id, "name": target.name},
