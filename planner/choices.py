@@ -55,6 +55,16 @@ def _same(a: str, b: str) -> bool:
     return a.strip().casefold() == b.strip().casefold()
 
 
+def _names_probe(text: str, probe) -> bool:
+    """The student's text names the probe: its id, type or label, or the label's leading
+    words ('curved' for 'Curved array 1-6 MHz')."""
+    words = text.strip().casefold().replace("_", " ").split()
+    label = probe.label.casefold().split()
+    return bool(words) and (_same(text, probe.id) or _same(text, probe.type)
+                            or _same(text, probe.type.replace("_", " "))
+                            or _same(text, probe.label) or label[:len(words)] == words)
+
+
 def _contains(short: str, long: str) -> bool:
     s = short.strip().casefold()
     return bool(s) and s in long.casefold()
@@ -67,7 +77,8 @@ def _verdict(given: bool, agree: bool) -> str:
 def compare_choices(plan, choices: StudentChoices) -> tuple[ChoiceRow, ...]:
     """The tool-versus-student table for ``plan`` (a :class:`planner.engine.Plan`).
 
-    Probe: the student's probe agrees when it names the chosen probe's id, type or label.
+    Probe: the student's probe agrees when it names the chosen probe's id, type or label (or
+    the label's leading words).
     Start frequency: agrees when inside the tool's band (within :data:`START_TOLERANCE_MHZ`).
     Window: its id or name. Position: the student's words are part of the tool's position
     text (or the reverse). Harmonic: on/off against the advice. Tilt: shown for review.
@@ -76,8 +87,8 @@ def compare_choices(plan, choices: StudentChoices) -> tuple[ChoiceRow, ...]:
     probe = plan.probe
     tool_probe = f"{probe.label} ({probe.id})" if probe else "none fits"
     p = choices.probe.strip()
-    rows.append(ChoiceRow("Probe", tool_probe, p or "-", _verdict(bool(p), probe is not None and (
-        _same(p, probe.id) or _same(p, probe.type) or _same(p, probe.label)))))
+    rows.append(ChoiceRow("Probe", tool_probe, p or "-",
+                          _verdict(bool(p), probe is not None and _names_probe(p, probe))))
     band = plan.frequency_mhz
     if band.low is None or band.high is None:
         tool_band = "no usable band"

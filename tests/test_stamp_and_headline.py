@@ -172,7 +172,8 @@ def test_the_students_decisions_are_compared_with_the_plan(tmp_path):
     data = json.loads(run("plan", *STUDENT, "--json")[1])
     verdicts = _verdicts(out)
     band = data["frequency_mhz"]
-    assert verdicts["Probe"] == ("agree" if data["probe"]["type"] == "curved" else "differ")
+    assert data["probe"]["label"].lower().startswith("curved")
+    assert verdicts["Probe"] == "agree"
     assert verdicts["Start frequency"] == ("agree" if band["low"] <= 5 <= band["high"] else "differ")
     assert verdicts["Harmonic imaging"] == ("differ" if data["harmonic"]["advised"] else "agree")
     assert verdicts["Window"] == ("agree" if data["window"]["id"] == "subcostal" else "differ")
@@ -199,3 +200,12 @@ def test_the_students_decisions_are_saved_and_reopened(tmp_path):
 def test_an_impossible_start_frequency_is_one_line(bad):
     code, out, err = run("plan", "--target", "liver", "--bmi", "30", "--student-start-mhz", bad)
     assert (code, out) == (2, "") and "--student-start-mhz" in err and err.count("\n") == 1
+
+
+@pytest.mark.parametrize("text, verdict", [("curved", "agree"), ("curvilinear", "agree"),
+                                           ("curved-1-6", "agree"), ("linear", "differ"),
+                                           ("array", "differ")])
+def test_the_probe_is_named_by_id_type_or_label(text, verdict):
+    out = run("plan", "--target", "gallbladder", "--bmi", "32", "--draft", "--student-probe",
+              text, "--format", "md")[1]
+    assert _verdicts(out)["Probe"] == verdict
