@@ -350,7 +350,8 @@ def _choices(section) -> StudentChoices:
 def save_plan_inputs(path: str | os.PathLike[str], inputs: PlanInputs, *,
                      overwrite: bool = False, plan=None, stamp=None) -> None:
     """Write the inputs as a plan file, atomically, with the plan's headline as computed
-    (``computed``: :func:`planner.headline.headline_data` of ``plan``, made now when None).
+    (``computed``: :func:`planner.headline.headline_data` of ``plan``, made now when None;
+    left out when the engine cannot plan these inputs).
 
     Raises
     ------
@@ -365,7 +366,13 @@ def save_plan_inputs(path: str | os.PathLike[str], inputs: PlanInputs, *,
         raise InputError(f"cannot save an invalid plan: {name}: {message}")
     from planner.headline import FILE_HEADER, headline_data
     data = inputs_to_data(inputs)
-    data["computed"] = headline_data(plan if plan is not None else make_plan_for(inputs), stamp)
+    if plan is None:
+        try:
+            plan = make_plan_for(inputs)
+        except PlannerError:       # valid inputs the engine cannot plan: no headline to store
+            plan = None
+    if plan is not None:
+        data["computed"] = headline_data(plan, stamp)
     atomic_write_text(path, FILE_HEADER + dump_yaml(data), overwrite=overwrite)
 
 

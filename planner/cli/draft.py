@@ -127,12 +127,14 @@ def run_verify(args: argparse.Namespace) -> int:
     if result.ok:
         print(f"{args.file}: {result.line()}")
         return int(ExitCode.OK)
-    print(f"scanplan: {args.file}: {result.line()}", file=sys.stderr)
+    print(f"scanplan: error: {args.file}: {result.line()}", file=sys.stderr)
     return int(ExitCode.INVALID_FILE)
 
 
 def _problems(exc: DataError) -> None:
-    for problem in exc.problems:
+    """Every problem of a bad file (file:line:col: key.path: message), then one line; a
+    file with one problem (missing, unreadable) gets the one line only."""
+    for problem in exc.problems if len(exc.problems) > 1 else ():
         print(problem, file=sys.stderr)
     print(f"scanplan: error: {exc.message}", file=sys.stderr)
 
