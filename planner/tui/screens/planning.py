@@ -307,8 +307,11 @@ class PlanningScreen(Screen):
         from planner.tui.signoff import open_signed
         document = load_plan_document(user_path(path))
         signed = open_signed(document)
-        changes = headline_changes(document.computed,
-                                   headline_data(make_plan_for(document.inputs)))
+        try:
+            changes = headline_changes(document.computed,
+                                       headline_data(make_plan_for(document.inputs)))
+        except PlannerError:          # the form shows why these inputs make no plan
+            changes = []
 
         def adopt(accept: bool | None = True) -> None:
             if accept:
