@@ -119,7 +119,7 @@ class InputPanel(VerticalScroll):
         yield Tick("Supervised draft", v["draft"], id="draft", compact=True)
         with Vertical(id="signoff"):
             yield FieldRow("Student", _text("student", v["student"], "your name"), field="student")
-            yield Static("Your decisions, before you read the plan", classes="hint")
+            yield Static("Your own decisions, first", classes="hint")
             for name, label, hint in (
                     ("student_probe", "Probe", "id or type, e.g. curved"),
                     ("student_start_mhz", "Start MHz", "frequency to start at"),
