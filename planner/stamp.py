@@ -11,7 +11,10 @@ run to run). Nothing heavy is imported here.
 
 from __future__ import annotations
 
+import functools
 import os
+import re
+import sys
 from dataclasses import dataclass
 from datetime import datetime, timezone
 
@@ -26,8 +29,37 @@ FIXED_TIME_ENV = "SCANPLAN_FIXED_TIME"
 PACKAGE = "scanplan"
 
 
+_DIST_INFO = re.compile(r"^scanplan-[^-]+\.dist-info$", re.IGNORECASE)
+
+
+def _metadata_version() -> str | None:
+    """The ``Version:`` of the installed distribution's METADATA, found on ``sys.path`` as
+    :mod:`importlib.metadata` finds it, without importing that module (about 35 ms)."""
+    for entry in sys.path:
+        try:
+            names = os.listdir(entry or ".")
+        except OSError:
+            continue
+        for name in names:
+            if _DIST_INFO.match(name):
+                try:
+                    with open(os.path.join(entry or ".", name, "METADATA"), encoding="utf-8") as f:
+                        for line in f:
+                            if line.startswith("Version:"):
+                                return line.partition(":")[2].strip()
+                            if not line.strip():
+                                break
+                except OSError:
+                    continue
+    return None
+
+
+@functools.lru_cache(maxsize=1)
 def tool_version() -> str:
     """The installed version of scanplan (package metadata; else ``planner.__version__``)."""
+    found = _metadata_version()
+    if found:
+        return found
     try:
         from importlib.metadata import PackageNotFoundError, version
         try:
