@@ -77,7 +77,8 @@ KIND = "plan"
 
 @dataclass(frozen=True)
 class SignOff:
-    """Sign-off fields of a supervised draft (free text; the signature stays handwritten)."""
+    """Sign-off fields of a supervised draft (free text kept as written; the supervisor's
+    name, date and comments are printed only from a verified signature, :mod:`planner.signing`)."""
 
     student: str = ""
     supervisor: str = ""

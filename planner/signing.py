@@ -131,8 +131,17 @@ def generate_key(name: str, key_path: str | os.PathLike[str],
              "public_key": _b64(raw), "added_at": current_stamp().generated_at}
     holder = (f"{HOLDER_PREFIX}name: {json.dumps(entry['name'], ensure_ascii=False)}\n"
               f"{HOLDER_PREFIX}role: {json.dumps(entry['role'], ensure_ascii=False)}\n")
-    atomic_write_text(key_path, holder + pem, overwrite=overwrite, mode=0o600)
-    _add_trusted(trusted_path, entry)
+    target = user_path(key_path)
+    previous = target.read_bytes() if overwrite and target.is_file() else None
+    atomic_write_text(target, holder + pem, overwrite=overwrite, mode=0o600)
+    try:
+        _add_trusted(trusted_path, entry)
+    except BaseException:          # no key without its trusted entry: undo the key file
+        if previous is None:
+            target.unlink(missing_ok=True)
+        else:
+            atomic_write_text(target, previous.decode("utf-8"), overwrite=True, mode=0o600)
+        raise
     return entry
 
 

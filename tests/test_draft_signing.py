@@ -216,3 +216,11 @@ def test_drafts_import_no_cryptography_for_a_plain_plan():
             "print('cryptography' in sys.modules)")
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
     assert out.stdout.strip() == "False"
+
+
+def test_keygen_leaves_no_key_behind_when_the_trusted_file_cannot_be_written(tmp_path):
+    key = tmp_path / "k.pem"
+    code, _, err = run("draft", "keygen", "--name", "H. Mentor", "-o", str(key), "--public",
+                       str(tmp_path / "no-such-folder" / "t.yaml"))
+    assert code == 2 and err.count("\n") == 1 and "does not exist" in err
+    assert list(tmp_path.iterdir()) == []
