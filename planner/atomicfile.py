@@ -183,7 +183,8 @@ def _default_mode() -> int:
     return 0o666 & ~mask
 
 
-def atomic_write_text(path: str | os.PathLike[str], text: str, *, overwrite: bool = False) -> None:
+def atomic_write_text(path: str | os.PathLike[str], text: str, *, overwrite: bool = False,
+                      mode: int | None = None) -> None:
     """Write ``text`` (UTF-8) to ``path`` atomically, leaving no temporary file behind.
 
     The text goes to a temporary file in the same folder, is flushed and ``fsync``-ed,
@@ -200,6 +201,9 @@ def atomic_write_text(path: str | os.PathLike[str], text: str, *, overwrite: boo
         The complete new content.
     overwrite : bool
         Replace an existing file (the command line's ``--force``).
+    mode : int, optional
+        Permission bits of the new file (e.g. ``0o600`` for a private key); the temporary
+        file is private from its creation. None: an existing file's, else the umask's.
 
     Raises
     ------
@@ -223,7 +227,8 @@ def atomic_write_text(path: str | os.PathLike[str], text: str, *, overwrite: boo
     if len(os.fsencode(target.name)) > name_max:
         raise PathError(f"cannot write {shown}: file name too long "
                         f"({len(os.fsencode(target.name))} bytes; at most {name_max})")
-    mode = (target_stat.st_mode & 0o7777) if target_stat is not None else _default_mode()
+    if mode is None:
+        mode = (target_stat.st_mode & 0o7777) if target_stat is not None else _default_mode()
     remove_stale_temp_files(target)
     import tempfile  # here, not at start-up: the UI imports this module before its first frame
     try:

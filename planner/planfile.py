@@ -38,6 +38,10 @@ always reflects the current engine and data. The format (``schema_version: 1``):
       date: ''
       supervisor_comments: ''
       student_reflection: ''
+    decisions: {probe: '', start_mhz: null, window: '', position: '', harmonic: null,
+                tilt: '', rationale: ''}     # the student's own (planner.choices)
+    computed: {...}           # the headline as saved (planner.headline.headline_data)
+    signature: {...}          # `scanplan draft sign` (planner.signing)
 
 Missing keys take these defaults (older files without the newer keys still load). Paths
 under ``files`` are used as given, like the command line's ``--probes`` and
@@ -57,6 +61,7 @@ import os
 from dataclasses import dataclass, field, fields
 from typing import Any
 
+from planner.choices import StudentChoices
 from planner.errors import InputError, PlannerError
 
 __all__ = ["SCHEMA_VERSION", "PlanInputs", "SignOff", "check_inputs", "custom_context",
@@ -72,7 +77,8 @@ KIND = "plan"
 
 @dataclass(frozen=True)
 class SignOff:
-    """Sign-off fields of a supervised draft (free text; the signature stays handwritten)."""
+    """Sign-off fields of a supervised draft (free text kept as written; the supervisor's
+    name, date and comments are printed only from a verified signature, :mod:`planner.signing`)."""
 
     student: str = ""
     supervisor: str = ""
@@ -116,6 +122,7 @@ class PlanInputs:
     doppler: bool = False
     draft: bool = False
     signoff: SignOff = field(default_factory=SignOff)
+    choices: StudentChoices = field(default_factory=StudentChoices)
 
 
 # -- requests -------------------------------------------------------------------------------
@@ -240,6 +247,10 @@ def check_inputs(inputs: PlanInputs) -> dict[str, str]:
     if inputs.wall_mm is not None and inputs.depth_cm is not None:
         _try(problems, "depth_cm", lambda: _patient(inputs, wall_mm=inputs.wall_mm,
                                                     depth_cm=inputs.depth_cm))
+    start = inputs.choices.start_mhz
+    if start is not None and (not math.isfinite(start) or not 0 < start <= 100):
+        problems["student_start_mhz"] = f"start frequency must be above 0 and at most 100 MHz, " \
+                                        f"got {start:g}"
     for name in ("expected_ti", "expected_mi", "planned_minutes"):
         value = getattr(inputs, name)
         if value is not None and (not math.isfinite(value) or value < 0):
@@ -274,7 +285,8 @@ _SIGNOFF_KEYS = tuple(f.name for f in fields(SignOff))
 _FIELD_PATHS = {"target_id": ("target",), "window_id": ("window",),
                 **{k: ("patient", k) for k in _PATIENT_KEYS},
                 **{f: ("exam", k) for k, f in _EXAM_KEYS.items()},
-                **{f: ("files", k) for k, f in _FILES_KEYS.items()}}
+                **{f: ("files", k) for k, f in _FILES_KEYS.items()},
+                "student_start_mhz": ("decisions", "start_mhz")}
 
 
 def inputs_to_data(inputs: PlanInputs) -> dict[str, Any]:
@@ -290,6 +302,7 @@ def inputs_to_data(inputs: PlanInputs) -> dict[str, Any]:
         "files": {key: getattr(inputs, attr) for key, attr in _FILES_KEYS.items()},
         "supervision": {"draft": inputs.draft,
                         **{k: getattr(inputs.signoff, k) for k in _SIGNOFF_KEYS}},
+        "decisions": inputs.choices.as_data(),
     }
 
 
@@ -320,15 +333,26 @@ def inputs_from_data(data: dict[str, Any], collector) -> PlanInputs | None:
         target_id=model.target, window_id=model.window or None, **patient_values,
         conditions=conditions, **exam_values, **file_values,
         draft=sup.draft if sup else False,
-        signoff=SignOff(**{k: (getattr(sup, k) or "") if sup else "" for k in _SIGNOFF_KEYS}))
+        signoff=SignOff(**{k: (getattr(sup, k) or "") if sup else "" for k in _SIGNOFF_KEYS}),
+        choices=_choices(model.decisions))
     for name, message in check_inputs(inputs).items():
         collector.add(_FIELD_PATHS.get(name, (name,)), message)
     return None if collector else inputs
 
 
+def _choices(section) -> StudentChoices:
+    if section is None:
+        return StudentChoices()
+    text = {k: (getattr(section, k) or "") for k in ("probe", "window", "position", "tilt",
+                                                       "rationale")}
+    return StudentChoices(start_mhz=section.start_mhz, harmonic=section.harmonic, **text)
+
+
 def save_plan_inputs(path: str | os.PathLike[str], inputs: PlanInputs, *,
-                     overwrite: bool = False) -> None:
-    """Write the inputs as a plan file, atomically.
+                     overwrite: bool = False, plan=None, stamp=None) -> None:
+    """Write the inputs as a plan file, atomically, with the plan's headline as computed
+    (``computed``: :func:`planner.headline.headline_data` of ``plan``, made now when None;
+    left out when the engine cannot plan these inputs).
 
     Raises
     ------
@@ -341,9 +365,16 @@ def save_plan_inputs(path: str | os.PathLike[str], inputs: PlanInputs, *,
     if problems:
         name, message = next(iter(problems.items()))
         raise InputError(f"cannot save an invalid plan: {name}: {message}")
-    header = ("# scanplan plan inputs: the plan is recomputed from these on load.\n"
-              "# Decision support only; it defers to local protocols and licensed practice.\n")
-    atomic_write_text(path, header + dump_yaml(inputs_to_data(inputs)), overwrite=overwrite)
+    from planner.headline import FILE_HEADER, headline_data
+    data = inputs_to_data(inputs)
+    if plan is None:
+        try:
+            plan = make_plan_for(inputs)
+        except PlannerError:       # valid inputs the engine cannot plan: no headline to store
+            plan = None
+    if plan is not None:
+        data["computed"] = headline_data(plan, stamp)
+    atomic_write_text(path, FILE_HEADER + dump_yaml(data), overwrite=overwrite)
 
 
 def load_plan_inputs(path: str | os.PathLike[str]) -> PlanInputs:

@@ -30,8 +30,9 @@ SHOTS: tuple[tuple[str, tuple[int, int], tuple[str, ...], str], ...] = (
                             "focus:mode-pulsed_doppler", "space", "f6"),
      "Doppler planning for a deep renal artery at BMI 45: aliasing and its remedies"),
     ("invalid-input", (80, 24), ("ctrl+u", "7"), "an impossible BMI marked on its field"),
-    ("draft-80x24", (80, 24), ("ctrl+g", "focus:student", *"A. Learner"),
-     "a supervised draft with its sign-off fields, at 80 x 24"),
+    ("draft-80x24", (80, 24), ("ctrl+g", *"A. Learner", "tab", *"curved", "tab", "3", "tab",
+                               *"right-intercostal", "tab"),
+     "a supervised draft: the student's own decisions and the sign-off, at 80 x 24"),
 )
 """File stem, terminal size, keys pressed after the first plan (``focus:<id>`` focuses a
 field), what it shows."""

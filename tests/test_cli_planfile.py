@@ -17,6 +17,7 @@ import pytest
 
 from planner.cli import build_parser, main
 from planner.cli.plan import FLAG_FIELDS, inputs_from_args
+from planner.cli.plan_inputs import STUDENT_FLAGS
 
 ROOT = Path(__file__).resolve().parents[1]
 PROBES = str(ROOT / "protocols" / "fellbrook" / "probes.yaml")
@@ -41,6 +42,12 @@ CASES: dict[str, list[str]] = {
                              "--exam", "general_abdominal", "--mode", "b_mode"],
     "bladder-doppler-mode-appended": ["--target", "bladder", "--bmi", "31", "--doppler",
                                       "--mode", "b_mode", "--condition", "full_bladder"],
+    "gallbladder-student-decisions": [
+        "--target", "gallbladder", "--bmi", "32", "--draft", "--student-probe", "abdominal-curved",
+        "--student-start-mhz", "5", "--student-window", "right-intercostal",
+        "--student-position", "left lateral decubitus", "--student-harmonic", "on",
+        "--student-tilt", "fan through the wall, keep it perpendicular",
+        "--student-rationale", "wall 25 mm, stone suspected"],
 }
 
 
@@ -64,9 +71,11 @@ def test_the_cases_use_every_plan_input_flag():
     from planner.planfile import PlanInputs
     parser = build_parser(["plan"])
     plan = parser._subparsers._group_actions[0].choices["plan"]
-    input_flags = {a.option_strings[-1] for a in plan._actions if a.dest in FLAG_FIELDS}
-    outputs = {"dest": ("help", "from_file", "save", "format", "output", "force", "json")}
-    assert {a.dest for a in plan._actions} - set(FLAG_FIELDS) == set(outputs["dest"])
+    inputs = {**FLAG_FIELDS, **STUDENT_FLAGS}
+    input_flags = {a.option_strings[-1] for a in plan._actions if a.dest in inputs}
+    outputs = {"dest": ("help", "from_file", "save", "format", "output", "force", "json",
+                        "trusted")}
+    assert {a.dest for a in plan._actions} - set(inputs) == set(outputs["dest"])
     assert set(FLAG_FIELDS.values()) <= {f.name for f in fields(PlanInputs)}
     used = {token for argv in CASES.values() for token in argv if token.startswith("--")}
     assert input_flags - used == set()
@@ -146,7 +155,7 @@ def test_save_refuses_to_overwrite_without_force(tmp_path):
     assert (code, out) == (2, "") and "--force" in err and len(err.splitlines()) == 1
     assert path.read_text(encoding="utf-8") == "keep me\n"
     assert run("plan", "--target", "liver", "--save", str(path), "--force")[0] == 0
-    assert path.read_text(encoding="utf-8").startswith("# scanplan plan inputs")
+    assert path.read_text(encoding="utf-8").startswith("# scanplan plan file")
 
 
 def test_from_a_missing_or_broken_file_exits_1_naming_it(tmp_path):

@@ -16,7 +16,7 @@ from planner.cli import main
 from planner.yamlio import load_user_yaml
 
 ROOT = Path(__file__).resolve().parents[1]
-KINDS = ["protocol", "probes", "policy", "plan", "plan-output"]
+KINDS = ["protocol", "probes", "policy", "plan", "plan-output", "trusted-keys"]
 
 
 def _run(argv: list[str]) -> tuple[int, str, str]:
@@ -32,7 +32,7 @@ def _schema(kind: str) -> dict:
     return json.loads(out)
 
 
-def test_list_names_the_five_kinds():
+def test_list_names_every_kind():
     code, out, _ = _run(["schema", "--list"])
     assert code == 0
     assert [line.split()[0] for line in out.splitlines()] == KINDS

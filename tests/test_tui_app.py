@@ -212,12 +212,15 @@ async def test_supervised_draft_and_export(tmp_path):
         assert screen.query_one("#signoff").display and screen.plan.draft
         assert "DRAFT" in text_of(screen, "#masthead")
         await retype(pilot, screen, "student", "A. Learner")
-        await retype(pilot, screen, "supervisor", "B. Mentor")
+        supervisor = screen.query_one("#supervisor", Input)
+        assert supervisor.disabled and not supervisor.focusable     # only a signature fills it
+        await retype(pilot, screen, "student_probe", "curved")
         for name in ("plan.md", "plan.html"):
             await pilot.press("ctrl+r")
             await answer_dialog(pilot, app, tmp_path / name)
             text = (tmp_path / name).read_text()
-            assert "A. Learner" in text and "B. Mentor" in text and "sign-off" in text
+            assert "A. Learner" in text and "sign-off" in text and "not signed" in text
+            assert "Student's decisions against the plan" in text and "curved" in text
             assert screen.plan.target.name in text
         assert (tmp_path / "plan.html").read_text().lstrip().lower().startswith("<!doctype html")
         await pilot.press("ctrl+r")

@@ -152,7 +152,9 @@ def test_doppler_mode_asks_for_doppler_planning():
 def test_inputs_to_data_writes_every_key():
     data = inputs_to_data(PlanInputs())
     assert list(data) == ["schema_version", "target", "window", "patient", "exam", "files",
-                          "supervision"]
+                          "supervision", "decisions"]
+    assert set(data["decisions"]) == {"probe", "start_mhz", "window", "position", "harmonic",
+                                      "tilt", "rationale"}
     assert set(data["supervision"]) == {"draft", "student", "supervisor", "date",
                                         "supervisor_comments", "student_reflection"}
 

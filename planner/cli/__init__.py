@@ -37,6 +37,7 @@ COMMANDS: dict[str, tuple[str, str]] = {
     "calc": ("planner.cli.calc", "quick physics calculations"),
     "protocol": ("planner.cli.protocol",
                  "check protocol files, export their JSON Schema, write protocol sheets"),
+    "draft": ("planner.cli.draft", "sign supervised drafts: make a key, sign a plan file, verify it"),
     "schema": ("planner.cli.schema", "print the JSON Schema of a file kind or of plan --json"),
     "ui": ("planner.cli.ui", "open the terminal UI (the default without a subcommand)"),
 }
@@ -54,12 +55,12 @@ def build_parser(commands: Iterable[str] | None = None) -> argparse.ArgumentPars
     """
     import importlib
 
-    from planner import __version__
     from planner.cli.common import Parser
+    from planner.stamp import tool_version
     wanted = set(COMMANDS if commands is None else commands)
     parser = Parser(prog="scanplan", description="Ultrasound scan-planning assistant "
                     "(decision support; defers to local protocols and licensed practice).")
-    parser.add_argument("--version", action="version", version=f"scanplan {__version__}")
+    parser.add_argument("--version", action="version", version=f"scanplan {tool_version()}")
     sub = parser.add_subparsers(dest="command", parser_class=Parser)
     for name, (module, help_text) in COMMANDS.items():
         if name in wanted:

@@ -32,6 +32,8 @@ def register(sub: argparse._SubParsersAction) -> None:
                    help="start from a saved plan file; flags given here replace its values")
     p.add_argument("--save", metavar="FILE",
                    help="also save the inputs as a plan file (reopen with --from, or in the UI)")
+    p.add_argument("--trusted", metavar="FILE",
+                   help="trusted-keys file to verify the signature of the --from file against")
     p.add_argument("--format", choices=("text", "json", "md", "html"), default=None)
     p.add_argument("-o", "--output", metavar="FILE", help="write to a file (atomic) instead of stdout")
     p.add_argument("--force", action="store_true",
@@ -41,19 +43,42 @@ def register(sub: argparse._SubParsersAction) -> None:
 
 
 def run_plan(args: argparse.Namespace) -> int:
-    """Plan, render (text, json, md or html), optionally save the inputs; return 0."""
+    """Plan, render (text, json, md or html), optionally save the plan file; return 0.
+
+    With ``--from FILE`` and no flag that changes its inputs, a recomputed headline that
+    differs from the one saved is listed on stderr (item, as saved, now) before the plan.
+    A draft prints the student's decisions against the plan and the signature's status."""
     from planner.engine import make_plan
-    from planner.planfile import load_plan_inputs, to_request
+    from planner.headline import headline_changes, headline_data
+    from planner.plandoc import load_plan_document
+    from planner.planfile import to_request
     from planner.report import render_plan
+    from planner.stamp import current_stamp
 
     if args.target is None and args.from_file is None:
         raise UsageError("the following arguments are required: --target (or --from FILE)")
-    base = load_plan_inputs(args.from_file) if args.from_file is not None else None
-    inputs = inputs_from_args(args, base=base)
+    if args.trusted is not None and args.from_file is None:
+        raise UsageError("argument --trusted: needs --from FILE (the signed plan file)")
+    document = load_plan_document(args.from_file) if args.from_file is not None else None
+    inputs = inputs_from_args(args, base=document.inputs if document else None)
     fmt = "json" if args.json else (args.format or "text")
-    text = render_plan(make_plan(to_request(inputs)), fmt)
+    plan = make_plan(to_request(inputs))
+    stamp = current_stamp()
+    verification = None
+    if document is not None:
+        unchanged = inputs == document.inputs
+        if unchanged:
+            _report_changes(args.from_file, document.computed,
+                            headline_changes(document.computed, headline_data(plan, stamp)))
+        verification = _verify(document, args.trusted, unchanged)
+    review = signoff = None
+    if inputs.draft:
+        from planner.report.review import draft_review, signed_fields
+        review = draft_review(plan, inputs.choices, verification)
+        signoff = signed_fields(inputs.signoff.as_report_fields(), verification)
+    text = render_plan(plan, fmt, signoff, stamp=stamp, review=review)
     if args.save is not None:
-        _save(args.save, inputs, force=args.force)
+        _save(args.save, inputs, force=args.force, plan=plan, stamp=stamp)
     if args.output:
         write_output(args.output, text, force=args.force)
         return 0
@@ -61,10 +86,35 @@ def run_plan(args: argparse.Namespace) -> int:
     return 0
 
 
-def _save(path: str, inputs, *, force: bool) -> None:
-    """Save the inputs as a plan file (InputError, one line, when the system refuses)."""
+def _report_changes(path: str, stored, changes: list[tuple[str, str, str]]) -> None:
+    """List on stderr what recomputing the saved plan changed (nothing when unchanged)."""
+    import sys
+
+    from planner.headline import changes_table
+    if not changes:
+        return
+    made = f" (saved by {stored.get('generated_by')} at {stored.get('generated_at')})"
+    print(f"scanplan: note: the plan recomputed from {path} differs from the one saved{made}:",
+          file=sys.stderr)
+    for line in changes_table(changes):
+        print(line, file=sys.stderr)
+
+
+def _verify(document, trusted_path: str | None, unchanged: bool):
+    """The signature status of a reopened file; inputs changed by flags count as changed."""
+    from planner.signing import Verification, load_trusted_keys, verify_document
+    trusted = load_trusted_keys(trusted_path) if trusted_path is not None else None
+    result = verify_document(document.data, trusted)
+    if not unchanged and result.status in ("valid", "unchecked"):
+        return Verification("changed", result.name, result.signed_at, result.comment,
+                            result.role)
+    return result
+
+
+def _save(path: str, inputs, *, force: bool, plan=None, stamp=None) -> None:
+    """Save the plan file (InputError, one line, when the system refuses)."""
     from planner.planfile import save_plan_inputs
     try:
-        save_plan_inputs(path, inputs, overwrite=force)
+        save_plan_inputs(path, inputs, overwrite=force, plan=plan, stamp=stamp)
     except OSError as exc:
         raise InputError(os_error_message(exc, path)) from None

@@ -14,7 +14,7 @@ from typing import Any
 from planner.cli.common import UsageError, finite_float
 from planner.errors import InputError
 
-__all__ = ["FLAG_FIELDS", "add_input_arguments", "inputs_from_args"]
+__all__ = ["FLAG_FIELDS", "STUDENT_FLAGS", "add_input_arguments", "inputs_from_args"]
 
 FLAG_FIELDS: dict[str, str] = {
     "target": "target_id", "window": "window_id", "bmi": "bmi", "height_cm": "height_cm",
@@ -28,6 +28,14 @@ FLAG_FIELDS: dict[str, str] = {
 """Parsed-argument name -> :class:`~planner.planfile.PlanInputs` field, for every plan input
 flag (the output flags ``--format``, ``--json``, ``-o``, ``--force``, ``--save`` and ``--from``
 are not inputs)."""
+
+STUDENT_FLAGS: dict[str, str] = {
+    "student_probe": "probe", "student_start_mhz": "start_mhz", "student_window": "window",
+    "student_position": "position", "student_harmonic": "harmonic", "student_tilt": "tilt",
+    "student_rationale": "rationale",
+}
+"""Parsed-argument name -> :class:`planner.choices.StudentChoices` field: the student's own
+decisions in a draft (``--student-probe`` ... ``--student-rationale``)."""
 
 _BODY_SIZE = ("bmi", "height_cm", "weight_kg")
 
@@ -67,6 +75,15 @@ def add_input_arguments(p: argparse.ArgumentParser, *, bmi: bool = True) -> None
                    help="add Doppler planning for vessel targets")
     p.add_argument("--draft", action="store_true", default=None,
                    help="mark as a draft for supervised practice")
+    s = p.add_argument_group("the student's own decisions (drafts; compared with the plan)")
+    s.add_argument("--student-probe", metavar="PROBE", help="probe id or type the student chose")
+    s.add_argument("--student-start-mhz", type=finite_float, metavar="MHZ",
+                   help="start frequency the student chose [MHz]")
+    s.add_argument("--student-window", metavar="WINDOW", help="window id the student chose")
+    s.add_argument("--student-position", metavar="TEXT", help="patient position, in words")
+    s.add_argument("--student-harmonic", choices=("on", "off"), help="harmonic imaging on or off")
+    s.add_argument("--student-tilt", metavar="TEXT", help="tilt approach, in words")
+    s.add_argument("--student-rationale", metavar="TEXT", help="short rationale")
 
 
 def _conditions(texts: list[str]) -> tuple[tuple[str, int], ...]:
@@ -118,4 +135,14 @@ def inputs_from_args(args: argparse.Namespace, base=None):
         if doppler and not any(m.endswith("doppler") for m in modes):
             modes.append("pulsed_doppler")
         given["modes"] = tuple(modes)
+    choices = {field: getattr(args, dest) for dest, field in STUDENT_FLAGS.items()
+               if getattr(args, dest, None) is not None}
+    if "harmonic" in choices:
+        choices["harmonic"] = choices["harmonic"] == "on"
+    start = choices.get("start_mhz")
+    if start is not None and not 0 < start <= 100:
+        raise InputError(f"argument --student-start-mhz: must be above 0 and at most 100 MHz, "
+                         f"got {start:g}")
+    if choices:
+        given["choices"] = dataclasses.replace(base.choices, **choices)
     return dataclasses.replace(base, **given)

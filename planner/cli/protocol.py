@@ -1,9 +1,12 @@
 """``scanplan protocol``: department protocols: ``protocol check``, ``schema`` and ``sheet``.
 
-``scanplan protocol check FILE...`` prints every problem of every file on stdout,
-one per line (``file:line:col: key.path: message``), then one summary line; it
-exits 0 when every file is valid and 1 (:attr:`ExitCode.INVALID_FILE`) otherwise.
-A missing or unreadable file is a problem of that file, not a crash.
+``scanplan protocol check FILE... [--kind KIND]`` checks every department file against
+its own kind (protocol, probe inventory, local policy, plan file, trusted keys; recognised
+from its keys by :data:`planner.protocol.filekinds.FILE_KINDS`, or forced with ``--kind``),
+prints every problem on stdout, one per line (``file:line:col: key.path: message``), then
+one summary line; it exits 0 when every file is valid and 1
+(:attr:`ExitCode.INVALID_FILE`) otherwise. A missing or unreadable file is a problem of
+that file, not a crash.
 
 ``scanplan protocol schema [-o OUT] [--force]`` writes the JSON Schema of the
 protocol format to stdout or, atomically, to ``OUT``.
@@ -33,6 +36,11 @@ SHEET_FORMATS: tuple[str, ...] = ("md", "html", "json")
 """Formats of ``protocol sheet`` (the same as :data:`planner.protocol.sheet.FORMATS`)."""
 
 
+CHECK_KINDS: tuple[str, ...] = ("protocol", "plan", "probes", "policy", "trusted-keys")
+"""The kinds ``protocol check --kind`` takes, for its help without importing the table
+(:data:`planner.protocol.filekinds.KIND_NAMES`; a test keeps the two equal)."""
+
+
 def register(subparsers: argparse._SubParsersAction) -> argparse._SubParsersAction:
     """Add the ``protocol`` command (``check``, ``schema``, ``sheet``) to ``subparsers``.
 
@@ -48,11 +56,16 @@ def register(subparsers: argparse._SubParsersAction) -> argparse._SubParsersActi
     commands.required = True
 
     check = commands.add_parser(
-        "check", help="validate protocol files and list every problem",
-        description="Validate protocol files. Prints every problem as "
+        "check", help="validate department files (protocols, probe inventories, local "
+                      "policies, plan files, trusted keys) and list every problem",
+        description="Validate department files, each against its own kind (recognised from "
+                    "its keys, or --kind). Prints every problem as "
                     "file:line:col: key.path: message, then a summary. Exit status 0 when all "
                     "files are valid, 1 when any is not.")
-    check.add_argument("files", nargs="+", metavar="FILE", help="protocol YAML files")
+    check.add_argument("files", nargs="+", metavar="FILE", help="department YAML files")
+    check.add_argument("--kind", metavar="KIND",
+                       help="check every file as this kind instead of recognising it: "
+                            + ", ".join(CHECK_KINDS))
     check.add_argument("--json", action="store_true",
                        help="print {file: [problems]} as JSON instead of text")
     check.set_defaults(func=run_check)
@@ -89,10 +102,11 @@ def register(subparsers: argparse._SubParsersAction) -> argparse._SubParsersActi
 
 def run_check(args: argparse.Namespace, out: TextIO | None = None) -> int:
     """Run ``protocol check``; return the exit code."""
-    from planner.protocol.loader import check_files
+    from planner.protocol.filekinds import check_department_files
 
     out = out if out is not None else sys.stdout
-    results = check_files(list(args.files))
+    checked = check_department_files(list(args.files), kind=getattr(args, "kind", None))
+    results = {path: problems for path, (_, problems) in checked.items()}
     invalid = {path: problems for path, problems in results.items() if problems}
     if getattr(args, "json", False):
         out.write(json.dumps(results, indent=2, sort_keys=True) + "\n")
@@ -103,12 +117,21 @@ def run_check(args: argparse.Namespace, out: TextIO | None = None) -> int:
         count = sum(len(p) for p in invalid.values())
         files = len(results)
         noun = "file" if files == 1 else "files"
+        kinds = _kind_counts([kind for kind, _ in checked.values()])
         if invalid:
-            out.write(f"checked {files} {noun}: {files - len(invalid)} valid, {len(invalid)} "
-                      f"invalid, {count} problem{'s' if count != 1 else ''}\n")
+            out.write(f"checked {files} {noun}{kinds}: {files - len(invalid)} valid, "
+                      f"{len(invalid)} invalid, {count} problem{'s' if count != 1 else ''}\n")
         else:
-            out.write(f"checked {files} {noun}: all valid\n")
+            out.write(f"checked {files} {noun}{kinds}: all valid\n")
     return int(ExitCode.INVALID_FILE if invalid else ExitCode.OK)
+
+
+def _kind_counts(kinds: list[str]) -> str:
+    """`` (5 protocol, 2 probes)`` when the files are of more than one kind, else ``""``."""
+    if len(set(kinds)) <= 1:
+        return ""
+    counts = {k: kinds.count(k) for k in dict.fromkeys(kinds)}
+    return " (" + ", ".join(f"{n} {k}" for k, n in counts.items()) + ")"
 
 
 def run_schema(args: argparse.Namespace, out: TextIO | None = None) -> int:

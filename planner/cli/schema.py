@@ -1,8 +1,8 @@
 """``scanplan schema KIND``: the JSON Schema (draft 2020-12) of a file kind or of ``plan --json``.
 
 ``scanplan schema --list`` names the kinds: ``protocol``, ``probes`` (probe inventory),
-``policy`` (local safety policy), ``plan`` (a saved plan file) and ``plan-output`` (what
-``scanplan plan --json`` prints). The schemas are generated from the models the loaders use
+``policy`` (local safety policy), ``plan`` (a saved plan file), ``plan-output`` (what
+``scanplan plan --json`` prints) and ``trusted-keys`` (supervisors' public keys). The schemas are generated from the models the loaders use
 (:data:`planner.files.SCHEMA_KINDS`), so a file that validates against its schema loads, and
 the problems the loader reports are the ones an editor shows. An editor with a YAML language
 server checks a file as it is typed when the file's first line is
@@ -21,8 +21,9 @@ KIND_HELP: dict[str, str] = {
     "protocol": "a department protocol",
     "probes": "a probe inventory",
     "policy": "a local safety policy",
-    "plan": "a saved plan file (the plan's inputs)",
+    "plan": "a saved plan file (inputs, computed headline, decisions, signature)",
     "plan-output": "the JSON that `scanplan plan --json` prints",
+    "trusted-keys": "the supervisors' public keys (`scanplan draft keygen --public`)",
 }
 """What each schema kind describes, for ``--list``."""
 

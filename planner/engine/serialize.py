@@ -45,10 +45,14 @@ def to_json_data(value: Any) -> Any:
     return value
 
 
-def plan_to_json_data(plan: Plan) -> dict[str, Any]:
-    """The data of ``scanplan plan --json`` for ``plan`` (``schema_version`` included)."""
+def plan_to_json_data(plan: Plan, stamp: Any = None) -> dict[str, Any]:
+    """The data of ``scanplan plan --json`` for ``plan``: ``schema_version``, and
+    ``generated_by`` and ``generated_at`` from ``stamp`` (a :class:`planner.stamp.Stamp`;
+    None: made now)."""
+    from planner.stamp import current_stamp
     out: dict[str, Any] = to_json_data(plan)
     out["schema_version"] = SCHEMA_VERSION
+    out.update((stamp if stamp is not None else current_stamp()).as_data())
     return out
 
 
@@ -111,6 +115,13 @@ def plan_output_schema() -> dict[str, Any]:
     root = _record_schema(Plan, defs)
     root["properties"]["schema_version"] = {"const": SCHEMA_VERSION}
     root["required"].append("schema_version")
+    root["properties"]["generated_by"] = {
+        "type": "string", "pattern": "^scanplan [^ ]+$",
+        "description": "The tool and its version that made this output, e.g. 'scanplan 0.1.0'."}
+    root["properties"]["generated_at"] = {
+        "type": "string", "pattern": "^[0-9]{4}-[0-9]{2}-[0-9]{2}T[0-9]{2}:[0-9]{2}:[0-9]{2}Z$",
+        "description": "When it was made: UTC, ISO 8601 to the second."}
+    root["required"] += ["generated_by", "generated_at"]
     return {"$schema": "https://json-schema.org/draft/2020-12/schema",
             "$id": "https://scanplan.invalid/schema/plan-output.json",
             "title": "scanplan plan --json output", **root, "$defs": defs}

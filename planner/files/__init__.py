@@ -12,6 +12,8 @@ so every problem comes out at once as ``file:line:col: key.path: message``.
 - local policy: :class:`planner.files.policy.PolicyFile`;
   loader ``planner.safety.policy.load_local_policy``;
 - plan file: :class:`planner.files.plan.PlanFile`; loader ``planner.planfile.load_plan_inputs``;
+- trusted keys: :class:`planner.files.trusted.TrustedKeysFile`;
+  loader ``planner.signing.load_trusted_keys``;
 - target library: :class:`planner.files.targets.TargetsFile`;
   loader ``planner.library.targets.parse_library``;
 - package data (``planner/data``): :mod:`planner.files.package`; read fast at run time
@@ -49,6 +51,7 @@ SCHEMA_KINDS: dict[str, Callable[[], dict[str, Any]]] = {
     "policy": _lazy("planner.files.schemas:policy_schema"),
     "plan": _lazy("planner.files.schemas:plan_schema"),
     "plan-output": _lazy("planner.engine.serialize:plan_output_schema"),
+    "trusted-keys": _lazy("planner.files.schemas:trusted_keys_schema"),
 }
 """File kind -> function returning its JSON Schema (draft 2020-12), in listing order."""
 

@@ -15,7 +15,8 @@ from pydantic import Field
 from planner.datafiles import vocabulary
 from planner.files.base import FileModel, Finite, Text
 
-__all__ = ["PlanFile", "PatientSection", "ExamSection", "FilesSection", "SupervisionSection"]
+__all__ = ["PlanFile", "PatientSection", "ExamSection", "FilesSection", "SupervisionSection",
+           "ComputedSection", "BandSection", "StudentSection", "SignatureSection"]
 
 if TYPE_CHECKING:      # the ids come from planner/data/vocabulary.yaml at run time
     ExamId: TypeAlias = str
@@ -73,8 +74,57 @@ class SupervisionSection(FileModel):
     student_reflection: str | None = None
 
 
+GeneratedBy = Annotated[str, Field(pattern=r"^scanplan \S+$")]
+Timestamp = Annotated[str, Field(pattern=r"^[0-9]{4}-[0-9]{2}-[0-9]{2}T[0-9]{2}:[0-9]{2}:[0-9]{2}Z$")]
+
+
+class BandSection(FileModel):
+    """The recommended band as computed (null: no usable band). [MHz]"""
+
+    low: Finite | None = None
+    high: Finite | None = None
+    start: Finite | None = Field(None, description="Where to start (null: detail not reached).")
+
+
+class ComputedSection(FileModel):
+    """The plan's headline as computed when the file was saved (compared on reopening)."""
+
+    generated_by: GeneratedBy = Field(description="Tool and version, e.g. 'scanplan 0.1.0'.")
+    generated_at: Timestamp = Field(description="UTC, ISO 8601 to the second.")
+    band: BandSection
+    probe: Text | None = Field(None, description="Probe id (null: no probe fits).")
+    window: Text = Field(description="Chosen window id.")
+    harmonic: bool = Field(description="Harmonic imaging advised.")
+    findings: list[Text] = Field(description="Finding codes, in output order.")
+
+
+class StudentSection(FileModel):
+    """The student's own decisions in a supervised draft (empty or null: not decided)."""
+
+    probe: str | None = Field(None, description="Probe id or type the student chose.")
+    start_mhz: Finite | None = Field(None, description="Start frequency. [MHz]")
+    window: str | None = Field(None, description="Window id the student chose.")
+    position: str | None = Field(None, description="Patient position, in words.")
+    harmonic: bool | None = Field(None, description="Harmonic imaging on (null: not decided).")
+    tilt: str | None = Field(None, description="Tilt approach, in words.")
+    rationale: str | None = Field(None, description="Short rationale.")
+
+
+class SignatureSection(FileModel):
+    """A supervisor's Ed25519 signature over the file's canonical content."""
+
+    key_id: Annotated[str, Field(pattern=r"^[0-9a-f]{16}$")]
+    name: Text
+    role: str = ""
+    signed_at: Timestamp
+    comment: str = ""
+    public_key: Annotated[str, Field(min_length=1, description="Raw public key, base64.")]
+    signature: Annotated[str, Field(min_length=1, description="Ed25519 signature, base64.")]
+
+
 class PlanFile(FileModel):
-    """A saved plan's inputs."""
+    """A saved plan: its inputs, the headline as computed, the student's decisions and an
+    optional supervisor's signature."""
 
     schema_version: Literal[1] = Field(description="File format version; must be 1.")
     target: Text = Field(description="Target id of the target library.")
@@ -83,3 +133,6 @@ class PlanFile(FileModel):
     exam: ExamSection | None = None
     files: FilesSection | None = None
     supervision: SupervisionSection | None = None
+    decisions: StudentSection | None = None
+    computed: ComputedSection | None = None
+    signature: SignatureSection | None = None

@@ -10,7 +10,7 @@ from typing import Any
 
 from planner.files.base import json_schema_of
 
-__all__ = ["inventory_schema", "policy_schema", "plan_schema"]
+__all__ = ["inventory_schema", "policy_schema", "plan_schema", "trusted_keys_schema"]
 
 _ID = "https://scanplan.invalid/schemas/{}-v1.json"
 
@@ -30,7 +30,14 @@ def policy_schema() -> dict[str, Any]:
 
 
 def plan_schema() -> dict[str, Any]:
-    """Schema of a saved plan file (the plan's inputs)."""
+    """Schema of a saved plan file (inputs, computed headline, decisions, signature)."""
     from planner.files.plan import PlanFile
     return json_schema_of(PlanFile, title="scanplan plan inputs (schema_version 1)",
                           schema_id=_ID.format("plan"))
+
+
+def trusted_keys_schema() -> dict[str, Any]:
+    """Schema of a trusted-keys file (supervisors' public keys)."""
+    from planner.files.trusted import TrustedKeysFile
+    return json_schema_of(TrustedKeysFile, title="scanplan trusted keys (schema_version 1)",
+                          schema_id=_ID.format("trusted-keys"))

@@ -10,10 +10,11 @@ frozen, typed :class:`planner.protocol.sheet_model.Sheet`; the time limits are g
 live in :mod:`planner.protocol.sheet_render`, and the JSON data comes only from
 :func:`planner.protocol.sheet_model.sheet_to_json_data`.
 
-JSON keys (``scanplan protocol sheet --format json``; keys sorted, no timestamps)
-----------------------------------------------------------------------------------
+JSON keys (``scanplan protocol sheet --format json``; keys sorted)
+------------------------------------------------------------------
 ``kind``
-    ``"protocol_sheet"``; ``schema_version``: 1; ``statement``: the decision-support statement.
+    ``"protocol_sheet"``; ``schema_version``: 1; ``statement``: the decision-support statement;
+    ``generated_by`` (``scanplan X.Y.Z``) and ``generated_at`` (UTC, ISO 8601).
 ``protocol``
     ``id, title, department, version, owner, approved_by, review_date, exam_type,
     exam_type_label, scope, file`` (file name only).
@@ -247,7 +248,7 @@ def _plan_views(protocol: Protocol, classes: tuple[str, ...], inv_path: str | No
             if key not in memo:
                 memo[key] = make_plan(PlanRequest(view.target, patients[c], window_id=view.window,
                                                   context=ctx, probes_path=inv_path))
-            rows.append(sheet_row(c, REPRESENTATIVE_BMI[c], memo[key]))
+            rows.append(sheet_row(c, REPRESENTATIVE_BMI[c], memo[key], rows[-1] if rows else None))
         plots.append(memo[(view.target, view.window, plot_class, ctx)])
         views.append(SheetView(
             view.id, view.title, NamedRef(target.id, target.name), NamedRef(window.id, window.name),

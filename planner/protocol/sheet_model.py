@@ -267,8 +267,12 @@ class Sheet:
 
 
 def sheet_to_json_data(sheet: Sheet) -> dict[str, Any]:
-    """The JSON data of ``sheet``: every record field, plus ``kind`` and ``schema_version``."""
+    """The JSON data of ``sheet``: every record field, plus ``kind``, ``schema_version`` and
+    the stamp (``generated_by``, ``generated_at``: :mod:`planner.stamp`)."""
+    from planner.stamp import current_stamp
+
     out: dict[str, Any] = to_json_data(sheet)
     out["kind"] = SHEET_KIND
     out["schema_version"] = SHEET_SCHEMA_VERSION
+    out.update(current_stamp().as_data())
     return out

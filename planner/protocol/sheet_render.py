@@ -3,8 +3,9 @@
 Every renderer reads the typed, frozen :class:`planner.protocol.sheet_model.Sheet` built by
 :func:`planner.protocol.sheet.build_sheet`; only the HTML depth plots use the plans in
 ``sheet.plot_plans``, and the JSON is the data of
-:func:`planner.protocol.sheet_model.sheet_to_json_data`. No timestamps or absolute paths,
-so the output of a given protocol is the same on every run.
+:func:`planner.protocol.sheet_model.sheet_to_json_data`. No absolute paths; the one time
+is the stamp at the foot (tool version and generation time,
+:mod:`planner.stamp`), fixed by ``SCANPLAN_FIXED_TIME`` for output that must not change.
 """
 
 from __future__ import annotations
@@ -19,6 +20,7 @@ from planner.protocol.sheet_model import (LimitRow, ProbeRef, PublishedRow, Shee
 from planner.protocol.sheet_rows import SheetRow
 from planner.report.svg import depth_plot_svg
 from planner.safety.format import minutes_text, number_text
+from planner.stamp import current_stamp
 
 __all__ = ["sheet_markdown", "sheet_html", "sheet_json"]
 
@@ -171,7 +173,7 @@ def sheet_markdown(sheet: Sheet) -> str:
     out += [f"- **{f.title}** ({f.severity}): {f.message} "
             f"*Sources:* {'; '.join(f.sources)}" for f in sheet.safety.findings] + [""]
     out += ["## Assumptions", ""] + [f"- {a}" for a in sheet.assumptions] + [""]
-    out += [f"*{sheet.statement}*", ""]
+    out += [f"*{sheet.statement}*", "", current_stamp().line(), ""]
     return "\n".join(out)
 
 
@@ -260,8 +262,11 @@ def sheet_html(sheet: Sheet) -> str:
         for f in sheet.safety.findings)
     body.append(f"<h2>Safety</h2>{_html_list(_safety_items(sheet))}<ul>{findings}</ul>")
     body.append(f"<h2>Assumptions</h2>{_html_list(list(sheet.assumptions))}")
+    stamp = current_stamp()
     body.append(f"<p class='statement'>{e(sheet.statement)}</p>")
+    body.append(f"<p class='stamp'>{e(stamp.line())}</p>")
     return ("<!DOCTYPE html><html lang='en'><head><meta charset='utf-8'>"
+            f"<meta name='generator' content='{e(stamp.generated_by)}'>"
             f"<title>{e(title)}</title><style>{_CSS}</style></head><body>"
             + "".join(body) + "</body></html>\n")
 

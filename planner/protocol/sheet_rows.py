@@ -73,9 +73,36 @@ class SheetRow:
     warnings: tuple[RowWarning, ...]
 
 
-def sheet_row(class_id: str, bmi: float, plan: Plan) -> SheetRow:
-    """The row of habitus class ``class_id`` (BMI ``bmi`` [kg/m^2]) from its plan."""
-    main = [f for f in plan.findings if f.severity in LISTED_SEVERITIES]
+HABITUS_CODE = "habitus.limited_exam"
+"""The 'Large habitus' caution: listed in a row only where the habitus changes that view's
+plan (:func:`changes_plan`: the set-up differs from the next lighter class), not repeated in
+every heavy class of every view."""
+
+
+HABITUS_SUFFIX = ", this class and heavier"
+"""Added to the label where it is listed, as the heavier rows of the view do not repeat it."""
+
+
+def changes_plan(plan: Plan, reference: SheetRow | None) -> bool:
+    """True when ``plan`` differs from ``reference``, the view's row of the next lighter
+    class, in what the sonographer sets up: the probe, harmonic imaging, or whether the
+    detail is reached (None: no lighter row to compare with)."""
+    if reference is None:
+        return True
+    probe = plan.probe.id if plan.probe is not None else None
+    return (probe != (reference.probe.id if reference.probe else None)
+            or plan.harmonic.advised != reference.harmonic.advised
+            or plan.frequency_mhz.feasible != reference.band_mhz.feasible)
+
+
+def sheet_row(class_id: str, bmi: float, plan: Plan, reference: SheetRow | None = None
+              ) -> SheetRow:
+    """The row of habitus class ``class_id`` (BMI ``bmi`` [kg/m^2]) from its plan;
+    ``reference`` is the view's row of the next lighter class, for the 'Large habitus'
+    label (:data:`HABITUS_CODE`)."""
+    keep_habitus = changes_plan(plan, reference)
+    main = [f for f in plan.findings if f.severity in LISTED_SEVERITIES
+            and (keep_habitus or f.code != HABITUS_CODE)]
     main.sort(key=lambda f: LISTED_SEVERITIES.index(f.severity))
     probe, h = plan.probe, plan.harmonic
     return SheetRow(
@@ -83,4 +110,5 @@ def sheet_row(class_id: str, bmi: float, plan: Plan) -> SheetRow:
         None if probe is None else RowProbe(probe.id, probe.label, probe.type, probe.fit),
         plan.frequency_mhz, RowHarmonic(h.advised, HARMONIC_SHORT[h.basis], h.reason),
         plan.tilt.max_deviation_deg, plan.depth_cm, plan.displayed_depth_cm,
-        tuple(RowWarning(f.code, f.severity, f.title) for f in main[:MAIN_FINDINGS]))
+        tuple(RowWarning(f.code, f.severity, f.title + (HABITUS_SUFFIX if f.code == HABITUS_CODE
+                                                        else "")) for f in main[:MAIN_FINDINGS]))

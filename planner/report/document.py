@@ -53,8 +53,11 @@ def _sources(plan: Plan) -> list[str]:
     return keys
 
 
-def plan_markdown(plan: Plan, signoff: dict[str, str] | None = None) -> str:
-    """Render a Plan as Markdown (a draft carries the banner and the sign-off block)."""
+def plan_markdown(plan: Plan, signoff: dict[str, str] | None = None, stamp=None,
+                  review=None) -> str:
+    """Render a Plan as Markdown (a draft carries the banner, the student's decisions
+    against the plan, the signature status and the sign-off block; the foot the stamp)."""
+    from planner.stamp import current_stamp
     out = [f"# Scan plan: {plan.target.name}", ""]
     if plan.draft:
         out += [f"> **{DRAFT_BANNER}**", ""]
@@ -90,11 +93,15 @@ def plan_markdown(plan: Plan, signoff: dict[str, str] | None = None) -> str:
         out += ["## Pitfalls", ""] + [f"- {p}" for p in plan.pitfalls] + [""]
     out += ["## Assumptions", ""] + [f"- {a}" for a in plan.assumptions] + [""]
     out += ["## References", ""] + [f"- **{k}**: {_cite(k)}" for k in _sources(plan)] + [""]
+    if review is not None:
+        from planner.report.review import review_markdown
+        out += review_markdown(review)
     if plan.draft:
         filled = signoff or {}
         out += ["## Supervisor sign-off", ""] + [f"- {name}: {filled.get(name, '')}"
                                                  for name in SIGNOFF_FIELDS] + [""]
-    out += [f"*{plan.disclaimer}*", ""]
+    out += [f"*{plan.disclaimer}*", "", (stamp if stamp is not None else current_stamp()).line(),
+            ""]
     return "\n".join(out)
 
 
@@ -105,9 +112,13 @@ table{border-collapse:collapse;margin:.5rem 0}td,th{border:1px solid #bbb;paddin
 .signoff td{height:2rem;min-width:20rem}@media print{body{margin:0}}"""
 
 
-def plan_html(plan: Plan, signoff: dict[str, str] | None = None) -> str:
-    """Render a Plan as a self-contained, printable HTML page with an inline depth plot."""
+def plan_html(plan: Plan, signoff: dict[str, str] | None = None, stamp=None,
+              review=None) -> str:
+    """Render a Plan as a self-contained, printable HTML page with an inline depth plot
+    (drafts as in :func:`plan_markdown`; the foot carries the stamp)."""
     from planner.report.svg import depth_plot_svg
+    from planner.stamp import current_stamp
+    stamp = stamp if stamp is not None else current_stamp()
 
     e = escape
     rows = "".join(f"<tr><th>{e(k)}</th><td>{e(v)}</td></tr>" for k, v in _summary_rows(plan))
@@ -146,12 +157,17 @@ def plan_html(plan: Plan, signoff: dict[str, str] | None = None) -> str:
         body.append("<h2>Pitfalls</h2><ul>" + "".join(f"<li>{e(p)}</li>" for p in plan.pitfalls) + "</ul>")
     body.append("<h2>Assumptions</h2><ul>" + "".join(f"<li>{e(a)}</li>" for a in plan.assumptions) + "</ul>")
     body.append(f"<h2>References</h2><ul>{refs}</ul>")
+    if review is not None:
+        from planner.report.review import review_html
+        body.append(review_html(review))
     if plan.draft:
         filled = signoff or {}
         body.append("<h2>Supervisor sign-off</h2><table class='signoff'>" + "".join(
             f"<tr><th>{e(n)}</th><td>{e(str(filled.get(n, '')))}</td></tr>" for n in SIGNOFF_FIELDS)
             + "</table>")
     body.append(f"<p class='statement'>{e(plan.disclaimer)}</p>")
+    body.append(f"<p class='stamp'>{e(stamp.line())}</p>")
     return ("<!DOCTYPE html><html lang='en'><head><meta charset='utf-8'>"
+            f"<meta name='generator' content='{e(stamp.generated_by)}'>"
             f"<title>Scan plan: {e(plan.target.name)}</title><style>{_CSS}</style></head><body>"
             + "".join(body) + "</body></html>\n")

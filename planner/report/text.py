@@ -23,8 +23,11 @@ def _band(plan: Plan) -> str:
     return f"{f.low:.1f}-{f.high:.1f} MHz{tag}"
 
 
-def plan_text(plan: Plan) -> str:
-    """Render a Plan as plain text."""
+def plan_text(plan: Plan, stamp=None, review=None) -> str:
+    """Render a Plan as plain text; a draft's ``review`` (:class:`~planner.report.review.
+    DraftReview`) adds the student's decisions and the signature status; ``stamp``
+    (:class:`planner.stamp.Stamp`, None: made now) ends it."""
+    from planner.stamp import current_stamp
     t, p = plan.target, plan.patient
     lines: list[str] = []
     if plan.draft:
@@ -81,5 +84,9 @@ def plan_text(plan: Plan) -> str:
         lines += [_wrap(x, "  - ") for x in plan.pitfalls]
     lines += ["", "Assumptions:"]
     lines += [_wrap(x, "  - ") for x in plan.assumptions]
-    lines += ["", _wrap(plan.disclaimer, "")]
+    if review is not None:
+        from planner.report.review import review_text
+        lines += review_text(review)
+    lines += ["", _wrap(plan.disclaimer, ""),
+              (stamp if stamp is not None else current_stamp()).line()]
     return "\n".join(lines) + "\n"

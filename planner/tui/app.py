@@ -31,7 +31,7 @@ class ScanplanApp(App[int]):
     CSS_PATH = Path(__file__).with_name("app.tcss")
     TITLE = "scanplan"
     BINDINGS = [
-        Binding("ctrl+q", "quit", "Quit", priority=True),
+        Binding("ctrl+q", "request_quit", "Quit", priority=True),
         Binding("f1", "help", "Help"),
         Binding("f9", "toggle_theme", "Theme", show=False),
     ]
@@ -48,6 +48,18 @@ class ScanplanApp(App[int]):
     def on_ready(self) -> None:
         # The form, the views and the engine load only after the first frame is on screen.
         self.call_after_refresh(self.planning.build)
+
+    def action_request_quit(self) -> None:
+        """Ctrl+Q: quit at once, or ask (save, discard, cancel) when there are unsaved edits
+        (while the question is shown, Ctrl+Q waits for its answer)."""
+        from planner.tui.screens.decide import QuitDialog
+        if isinstance(self.screen, QuitDialog):
+            return
+        planning = getattr(self, "planning", None)
+        if planning is None or not planning.dirty:
+            self.exit()
+            return
+        planning.request_quit()
 
     def action_help(self) -> None:
         if not isinstance(self.screen, HelpScreen):

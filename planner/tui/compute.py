@@ -13,6 +13,7 @@ import time
 from dataclasses import dataclass, field
 from typing import Any
 
+from planner.choices import StudentChoices
 from planner.errors import PlannerError
 from planner.planfile import PlanInputs, SignOff
 
@@ -32,12 +33,23 @@ NUMBER_FIELDS: dict[str, str] = {
 
 FIELD_LABELS: dict[str, str] = {**NUMBER_FIELDS, "target_id": "target", "window_id": "window",
                                 "sex": "sex", "conditions": "conditions", "exam_type": "exam type",
-                                "modes": "modes", "pregnancy_possible": "pregnancy possible"}
+                                "modes": "modes", "pregnancy_possible": "pregnancy possible",
+                                "student_start_mhz": "start frequency"}
 """Every field the UI can mark, with its short label."""
 
 SIGNOFF_FIELDS: tuple[str, ...] = ("student", "supervisor", "date", "supervisor_comments",
                                    "student_reflection")
 """Free-text sign-off fields of a supervised draft."""
+
+SUPERVISOR_FIELDS: tuple[str, ...] = ("supervisor", "date", "supervisor_comments")
+"""Sign-off fields only a verified signature fills (read-only in the form; the file's own
+values are carried unchanged, so that saving does not alter what was signed)."""
+
+CHOICE_TEXT_FIELDS: dict[str, str] = {
+    "student_probe": "probe", "student_window": "window", "student_position": "position",
+    "student_tilt": "tilt", "student_rationale": "rationale"}
+"""Form field -> :class:`planner.choices.StudentChoices` field, for the student's typed
+decisions (``student_start_mhz`` and ``student_harmonic`` are read apart)."""
 
 
 _NUMBER_RE = re.compile(r"[+-]?[0-9]+(?:\.[0-9]+)?(?:[eE][+-]?[0-9]+)?", re.ASCII)
@@ -124,6 +136,15 @@ def parse_form(raw: dict[str, Any]) -> tuple[PlanInputs, dict[str, str]]:
     if not habitus_given:
         # a form whose BMI was cleared is being edited: never plan for an assumed patient
         problems["bmi"] = "give the BMI, or the height and weight, or a measured wall"
+    try:
+        start = parse_number(str(raw.get("student_start_mhz", "") or ""), "start frequency")
+    except ValueError as exc:
+        problems["student_start_mhz"] = str(exc)
+        start = None
+    harmonic = raw.get("student_harmonic")
+    choices = StudentChoices(start_mhz=start, harmonic=None if harmonic not in ("on", "off")
+                             else harmonic == "on",
+                             **{f: str(raw.get(k, "") or "") for k, f in CHOICE_TEXT_FIELDS.items()})
     modes = tuple(raw.get("modes") or ())
     if not modes:
         problems["modes"] = "choose at least one mode"
@@ -137,7 +158,7 @@ def parse_form(raw: dict[str, Any]) -> tuple[PlanInputs, dict[str, str]]:
         probes_path=raw.get("probes_path") or None, local_policy_path=raw.get("local_policy_path") or None,
         draft=bool(raw.get("draft")),
         signoff=SignOff(**{k: str(raw.get(k, "") or "") for k in SIGNOFF_FIELDS}),
-        **numbers)
+        choices=choices, **numbers)
     return inputs, problems
 
 
@@ -152,6 +173,10 @@ def form_values(inputs: PlanInputs) -> dict[str, Any]:
                probes_path=inputs.probes_path, local_policy_path=inputs.local_policy_path,
                draft=inputs.draft)
     out.update({k: getattr(inputs.signoff, k) for k in SIGNOFF_FIELDS})
+    c = inputs.choices
+    out.update({k: getattr(c, f) for k, f in CHOICE_TEXT_FIELDS.items()})
+    out["student_start_mhz"] = number_text(c.start_mhz)
+    out["student_harmonic"] = None if c.harmonic is None else ("on" if c.harmonic else "off")
     return out
 
 

@@ -21,12 +21,19 @@ def format_for(path: str | Path) -> str:
     return FORMATS[suffix]
 
 
-def report_text(plan, inputs: PlanInputs, fmt: str) -> str:
-    """Render ``plan`` as ``md`` or ``html``; a supervised draft carries its sign-off fields."""
+def report_text(plan, inputs: PlanInputs, fmt: str, verification=None) -> str:
+    """Render ``plan`` as ``md`` or ``html``; a supervised draft carries the student's
+    decisions against the plan, the signature's status (``verification``, a
+    :class:`planner.signing.Verification`, None: not signed) and the sign-off fields (the
+    supervisor's only from an unchanged signature)."""
     from planner.report.document import plan_html, plan_markdown
-    signoff = inputs.signoff.as_report_fields() if inputs.draft else None
+    from planner.report.review import draft_review, signed_fields
+    signoff = review = None
+    if inputs.draft:
+        signoff = signed_fields(inputs.signoff.as_report_fields(), verification)
+        review = draft_review(plan, inputs.choices, verification)
     if fmt == "md":
-        return plan_markdown(plan, signoff)
+        return plan_markdown(plan, signoff, review=review)
     if fmt == "html":
-        return plan_html(plan, signoff)
+        return plan_html(plan, signoff, review=review)
     raise ValueError(f"fmt must be 'md' or 'html', got {fmt!r}")

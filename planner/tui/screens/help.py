@@ -15,15 +15,15 @@ KEYS: tuple[tuple[str, str], ...] = (
     ("F2 … F6", "Plan, Findings, Safety, Depth profile, Doppler"),
     ("Enter", "in Findings or Safety: explain the highlighted item"),
     ("Esc", "back from a view to the inputs; closes a dialog"),
-    ("Ctrl+S / Ctrl+O", "save / open the plan's inputs (YAML)"),
+    ("Ctrl+S / Ctrl+O", "save / open a plan file (inputs and the plan as computed)"),
     ("Ctrl+R", "export a report (.md or .html)"),
-    ("Ctrl+G", "supervised draft on or off (adds sign-off fields)"),
+    ("Ctrl+G", "supervised draft: your own decisions, from the first field (Tab for the next)"),
     ("Ctrl+N", "new plan (clear the inputs)"),
     ("F7", "a department protocol: its problems or its sheet"),
     ("F9", "light or dark theme"),
     ("Ctrl+P", "command palette"),
     ("F1", "this help"),
-    ("Ctrl+Q", "quit"),
+    ("Ctrl+Q", "quit (asks first when there are unsaved edits)"),
 )
 """Key, what it does."""
 
@@ -35,7 +35,11 @@ ABOUT = (
     "plan until it is fixed.\n\n"
     "The plan is decision support. It defers to local protocols, licensed practice and the "
     "TI and MI the scanner displays; it never makes a diagnosis. Every finding names its "
-    "sources; open it for the numbers and the formula in words.")
+    "sources; open it for the numbers and the formula in words.\n\n"
+    "In a supervised draft, write your own decisions before you read the plan; the export "
+    "sets them beside the plan. Only a supervisor's signature (scanplan draft sign) fills "
+    "the supervisor's fields; with SCANPLAN_TRUSTED_KEYS naming the department's trusted-"
+    "keys file, the signer is checked too.")
 
 
 class HelpScreen(OnceModal[None]):

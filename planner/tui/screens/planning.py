@@ -12,31 +12,27 @@ exception escape.
 from __future__ import annotations
 
 import time
-from pathlib import Path
 
 from textual import work
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Horizontal
 from textual.markup import escape
-from textual.screen import Screen
 from textual.widgets import Checkbox, Footer, Input, Static
 
-from planner.atomicfile import user_path
-from planner.errors import DataError, InputError, PlannerError
 from planner.planfile import PlanInputs
 from planner.tui.compute import FIELD_LABELS, Outcome, compute, form_values
 from planner.tui.demo import DEMO_INPUTS, DEMO_LABEL
 from planner.tui.messages import EngineLoaded, FindingOpened, InputsEdited, PlanComputed
 from planner.tui.screens.explain import ExplainScreen
-from planner.tui.screens.path_dialog import PathDialog, PathRequest
+from planner.tui.screens.planning_files import FileActions
 from planner.tui.widgets import guards
 from planner.tui.widgets.masthead import Masthead
 
 guards.install()   # Textual 8.2.8: PageDown at 1x1, a burst of Enters in the palette
 
 
-class PlanningScreen(Screen):
+class PlanningScreen(FileActions):
     """Inputs, live plan, and the file actions."""
 
     AUTO_FOCUS = None
@@ -74,6 +70,7 @@ class PlanningScreen(Screen):
         self._library_info: tuple | None = None
         self._last_raw: dict | None = None
         self._protocol_path = "protocol.yaml"
+        self.signed = None          # planner.tui.signoff.SignedFile of the opened file
 
     def compose(self) -> ComposeResult:
         yield Masthead(id="masthead")
@@ -219,7 +216,24 @@ class PlanningScreen(Screen):
         library = self.panel.library if self.built else None
         if library is not None and inputs.target_id in library:
             name = library.get(inputs.target_id).name
-        self.query_one(Masthead).show(name, self.source, inputs != self.baseline, inputs.draft)
+        signature = ""
+        if self.signed is not None:
+            from planner.tui.signoff import state_for, supervisor_fields
+            state = state_for(self.signed, inputs)
+            signature = {"valid": f"signed by {state.name} at {state.signed_at}",
+                         "unchecked": f"signed by {state.name} at {state.signed_at}",
+                         "changed": "changed after signing",
+                         "unknown": "signed by an unknown key"}.get(state.status, "")
+            if self.built:
+                self.panel.show_signature(state.line(), supervisor_fields(state))
+        self.query_one(Masthead).show(name, self.source, inputs != self.baseline, inputs.draft,
+                                      signature)
+
+    @property
+    def dirty(self) -> bool:
+        """True when the form holds edits not saved (or opened) as they are."""
+        return bool(self.built and self.outcome is not None
+                    and self.outcome.inputs != self.baseline)
 
     # -- views and focus --------------------------------------------------------------------
     async def action_view(self, view: str) -> None:
@@ -248,116 +262,25 @@ class PlanningScreen(Screen):
         self.app.push_screen(ExplainScreen(event.finding))
 
     def action_toggle_draft(self) -> None:
-        if self.built:
-            box = self.query_one("#draft", Checkbox)
-            box.value = not box.value
+        """Turn the supervised draft on and put the cursor in the student's first field."""
+        if not self.built:
+            return
+        from planner.tui.widgets.input_panel import DRAFT_FIRST_FIELD
+        box = self.query_one("#draft", Checkbox)
+        if not box.value:
+            box.value = True
+        self.query_one("#signoff").display = True
+        first = self.query_one(f"#{DRAFT_FIRST_FIELD}", Input)
+        self.call_after_refresh(first.focus)
+        self.call_after_refresh(first.scroll_visible)
 
     def action_new_plan(self) -> None:
+        self.signed = None
         target = self.outcome.inputs.target_id if self.outcome else self.baseline.target_id
         self._adopt(PlanInputs(target_id=target), "new plan")
 
-    def _adopt(self, inputs: PlanInputs, source: str) -> None:
-        self.baseline, self.source = inputs, source
+    def _adopt(self, inputs: PlanInputs, source: str, signed=None) -> None:
+        self.baseline, self.source, self.signed = inputs, source, signed
         self.panel.fill(form_values(inputs))
         self.recompute()
 
-    # -- files ------------------------------------------------------------------------------
-    def _ready_inputs(self, verb: str) -> PlanInputs | None:
-        if not self.engine_ready or self.outcome is None:
-            self.notify("The planner is still loading.", severity="warning")
-            return None
-        if self.outcome.plan is None:
-            self.notify(f"Fix the marked fields before you {verb}.", severity="error")
-            return None
-        return self.outcome.inputs
-
-    def action_save(self) -> None:
-        inputs = self._ready_inputs("save")
-        if inputs is not None:
-            self._ask(PathRequest("Save the plan's inputs", "A YAML file; the plan is recomputed "
-                                  "when it is opened.", f"plan-{inputs.target_id}.yaml"),
-                      lambda path, confirm: self._save(path, inputs, confirm))
-
-    def _save(self, path: str, inputs: PlanInputs, overwrite: bool) -> str | None:
-        from planner.planfile import save_plan_inputs
-        save_plan_inputs(user_path(path), inputs, overwrite=overwrite)
-        self.baseline, self.source = inputs, Path(path).name
-        self._update_masthead(inputs)
-        self.notify(f"Saved {path}")
-        return None
-
-    def action_open(self) -> None:
-        if not self.engine_ready:
-            self.notify("The planner is still loading.", severity="warning")
-            return
-        self._ask(PathRequest("Open a saved plan", "A plan file saved with Ctrl+S.", "plan.yaml"),
-                  lambda path, confirm: self._open(path), must_exist=True)
-
-    def _open(self, path: str) -> str | None:
-        from planner.planfile import load_plan_inputs
-        inputs = load_plan_inputs(user_path(path))
-        self._adopt(inputs, Path(path).name)
-        self.notify(f"Opened {path}")
-        return None
-
-    def action_protocol(self) -> None:
-        self._ask(PathRequest("Open a department protocol", "A protocol file (YAML): its "
-                              "problems, or its sheet for every WHO habitus class.",
-                              self._protocol_path),
-                  lambda path, confirm: self._open_protocol(path), must_exist=True)
-
-    def _open_protocol(self, path: str) -> str | None:
-        from planner.tui.screens.protocol import ProtocolScreen
-        target = user_path(path)
-        if target.is_dir():
-            raise InputError(f"{path}: is a folder, not a protocol file")
-        if not target.exists():
-            raise InputError(f"{path}: no such file")
-        self._protocol_path = path
-        self.app.push_screen(ProtocolScreen(target))
-        return None
-
-    def action_export(self) -> None:
-        inputs = self._ready_inputs("export")
-        if inputs is not None:
-            plan = self.plan
-            self._ask(PathRequest("Export a report", "Markdown (.md) or HTML (.html).",
-                                  f"plan-{inputs.target_id}.md"),
-                      lambda path, confirm: self._export(path, plan, inputs, confirm))
-
-    def _export(self, path: str, plan, inputs: PlanInputs, overwrite: bool) -> str | None:
-        from planner.tui.exporting import format_for, report_text
-        from planner.yamlio import atomic_write_text
-        text = report_text(plan, inputs, format_for(path))
-        atomic_write_text(user_path(path), text, overwrite=overwrite)
-        self.notify(f"Exported {path}")
-        return None
-
-    def _ask(self, request: PathRequest, act, *, must_exist: bool = False) -> None:
-        """Ask for a path and run ``act(path, overwrite)``; on a problem, ask again showing it."""
-        def done(path: str | None) -> None:
-            if not path:
-                return
-            try:
-                target = user_path(path)      # ~ expanded; ~nosuchuser, long names refused
-                confirm = request.confirm and path == request.path
-                if not must_exist and target.is_file() and not confirm:
-                    self._ask(PathRequest(request.title, request.hint, path,
-                                          (f"{path} exists: press Enter again to replace it",),
-                                          confirm=True), act, must_exist=must_exist)
-                    return
-                act(path, confirm)
-            except DataError as exc:
-                self._retry(request, path, tuple(exc.problems), act, must_exist)
-            except (PlannerError, ValueError, OSError) as exc:
-                self._retry(request, path, (getattr(exc, "message", None) or str(exc),), act,
-                            must_exist)
-            except Exception as exc:  # noqa: BLE001 - never crash on a file action
-                self._retry(request, path, (f"unexpected error: {type(exc).__name__}: {exc}",),
-                            act, must_exist)
-        self.app.push_screen(PathDialog(request), done)
-
-    def _retry(self, request: PathRequest, path: str, problems: tuple[str, ...], act,
-               must_exist: bool) -> None:
-        self._ask(PathRequest(request.title, request.hint, path, problems), act,
-                  must_exist=must_exist)

@@ -16,7 +16,7 @@ from textual.containers import Vertical, VerticalScroll
 from textual.suggester import Suggester
 from textual.widgets import Checkbox, Input, Select, Static
 
-from planner.tui.compute import SIGNOFF_FIELDS
+from planner.tui.compute import CHOICE_TEXT_FIELDS, SUPERVISOR_FIELDS
 from planner.tui.messages import InputsEdited, TargetPicked
 from planner.tui.widgets.form_input import FormInput
 from planner.tui.widgets.field import FieldRow
@@ -28,9 +28,14 @@ AUTO = "auto"
 
 FLAGS = ("pregnancy_possible", "contrast_agent", "febrile", "lung_in_beam", "doppler", "draft")
 _TEXT_INPUTS = ("bmi", "height_cm", "weight_kg", "wall_mm", "fat_mm", "depth_cm", "conditions",
-                "gestation_weeks", "expected_ti", "expected_mi", "planned_minutes") + SIGNOFF_FIELDS
-CARRIED = ("probes_path", "local_policy_path")
-"""Inputs a plan file may hold that the form keeps but does not edit (department files)."""
+                "gestation_weeks", "expected_ti", "expected_mi", "planned_minutes", "student",
+                "student_reflection", "student_start_mhz", *CHOICE_TEXT_FIELDS)
+CARRIED = ("probes_path", "local_policy_path", *SUPERVISOR_FIELDS)
+"""Inputs a plan file may hold that the form keeps but does not edit (department files, and
+the supervisor's fields, which only a verified signature fills)."""
+_SELECTS = ("sex", "window_id", "exam_type", "student_harmonic")
+DRAFT_FIRST_FIELD = "student"
+"""The field Ctrl+G moves the focus to: the first of the student's own."""
 _EVENTS = (Input.Changed, Select.Changed, Checkbox.Changed, TargetPicked)
 
 
@@ -113,9 +118,27 @@ class InputPanel(VerticalScroll):
         yield Static("Supervision", classes="section")
         yield Tick("Supervised draft", v["draft"], id="draft", compact=True)
         with Vertical(id="signoff"):
-            for name, label in zip(SIGNOFF_FIELDS, ("Student", "Supervisor", "Date",
-                                                    "Comments", "Reflection")):
-                yield FieldRow(label, _text(name, v[name]), field=name)
+            yield FieldRow("Student", _text("student", v["student"], "your name"), field="student")
+            yield Static("Your own decisions, first", classes="hint")
+            for name, label, hint in (
+                    ("student_probe", "Probe", "id or type, e.g. curved"),
+                    ("student_start_mhz", "Start MHz", "frequency to start at"),
+                    ("student_window", "Window", "window id"),
+                    ("student_position", "Position", "patient position"),
+                    ("student_harmonic", "Harmonic", ""),
+                    ("student_tilt", "Tilt", "tilt approach"),
+                    ("student_rationale", "Rationale", "why, in a line"),
+                    ("student_reflection", "Reflection", "after the scan")):
+                control = (Select([("not decided", AUTO), ("on", "on"), ("off", "off")],
+                                  value=v.get(name) or AUTO, allow_blank=False, compact=True,
+                                  id=name) if name == "student_harmonic"
+                           else _text(name, v.get(name) or "", hint))
+                yield FieldRow(label, control, field=name)
+            yield Static("Sign-off: not signed", id="signature-status", classes="hint")
+            for name, label in zip(SUPERVISOR_FIELDS, ("Supervisor", "Date", "Comments")):
+                box = FormInput(value="", id=name, compact=True, disabled=True,
+                                placeholder="from a verified signature")
+                yield FieldRow(label, box, field=name)
 
     def on_mount(self) -> None:
         self.query_one("#signoff").display = bool(self.values["draft"])
@@ -151,7 +174,7 @@ class InputPanel(VerticalScroll):
         """What the form holds now, as :func:`planner.tui.compute.parse_form` reads it."""
         out: dict[str, Any] = {name: self.query_one(f"#{name}", Input).value
                                for name in _TEXT_INPUTS}
-        for name in ("sex", "window_id", "exam_type"):
+        for name in _SELECTS:
             value = self.query_one(f"#{name}", Select).value
             out[name] = None if value in (AUTO, Select.NULL) else value
         out["target_id"] = self.query_one(TargetPicker).chosen_id
@@ -179,6 +202,8 @@ class InputPanel(VerticalScroll):
             ids = [value for _, value in self._window_options(values["target_id"])]
             window.value = values.get("window_id") if values.get("window_id") in ids else AUTO
             self.query_one("#sex", Select).value = values.get("sex") or AUTO
+            self.query_one("#student_harmonic", Select).value = \
+                values.get("student_harmonic") or AUTO
             exam = self.query_one("#exam_type", Select)
             known = values.get("exam_type") in self._exam_ids
             exam.value = values["exam_type"] if known else AUTO
@@ -187,6 +212,13 @@ class InputPanel(VerticalScroll):
             for name in FLAGS:
                 self.query_one(f"#{name}", Checkbox).value = bool(values.get(name))
         self.query_one("#signoff").display = bool(values.get("draft"))
+
+    def show_signature(self, status: str, signed: dict[str, str] | None) -> None:
+        """Show the signature's status line and, from a signature whose content is unchanged,
+        the supervisor's name, time and comment (read-only fields; empty otherwise)."""
+        self.query_one("#signature-status", Static).update(f"Sign-off: {status}")
+        for name in SUPERVISOR_FIELDS:
+            self.query_one(f"#{name}", Input).value = (signed or {}).get(name, "")
 
     def show_problems(self, problems: dict[str, str]) -> dict[str, str]:
         """Mark each field with its problem; return the problems no field shows."""

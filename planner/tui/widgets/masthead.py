@@ -6,7 +6,8 @@ from textual.markup import escape
 from textual.widgets import Static
 
 
-def masthead_markup(target_name: str, source: str, edited: bool, draft: bool) -> str:
+def masthead_markup(target_name: str, source: str, edited: bool, draft: bool,
+                    signature: str = "") -> str:
     """The masthead text: the tool, the draft mark, where the plan came from, the target
     (most important first, as a narrow terminal cuts the end)."""
     parts = ["[b]scanplan[/b]"]
@@ -14,6 +15,8 @@ def masthead_markup(target_name: str, source: str, edited: bool, draft: bool) ->
         parts.append("[bold reverse] DRAFT [/] for supervisor review")
     if source:
         parts.append(f"[bold $warning]{escape(source)}[/]" + (" (edited)" if edited else ""))
+    if signature:
+        parts.append(escape(signature))
     parts.append(escape(target_name))
     return " │ ".join(parts)
 
@@ -21,9 +24,10 @@ def masthead_markup(target_name: str, source: str, edited: bool, draft: bool) ->
 class Masthead(Static):
     """Shows :func:`masthead_markup`."""
 
-    def show(self, target_name: str, source: str, edited: bool, draft: bool) -> None:
+    def show(self, target_name: str, source: str, edited: bool, draft: bool,
+             signature: str = "") -> None:
         """Update the strip (one line: no layout pass needed)."""
-        markup = masthead_markup(target_name, source, edited, draft)
+        markup = masthead_markup(target_name, source, edited, draft, signature)
         if markup != getattr(self, "_shown", None):
             self._shown = markup
             self.update(markup, layout=False)
