@@ -32,6 +32,10 @@ from planner.tui.widgets.masthead import Masthead
 guards.install()   # Textual 8.2.8: PageDown at 1x1, a burst of Enters in the palette
 
 
+FORM_DELAY_S = 0.05
+"""Pause between the first plan and mounting the form, so the plan is painted first. [s]"""
+
+
 class PlanningScreen(FileActions):
     """Inputs, live plan, and the file actions."""
 
@@ -157,7 +161,9 @@ class PlanningScreen(FileActions):
             first = compute(form_values(self.baseline))   # the opening inputs, before the form
             if first.plan is not None:
                 self._show_plan(first.plan)
-        self.call_after_refresh(self._mount_form)
+        # Give the first plan a few frames to reach the terminal before the form's hundred
+        # widgets are mounted (a refresh callback alone runs before that frame is written).
+        self.set_timer(FORM_DELAY_S, self._mount_form)
 
     # -- recompute --------------------------------------------------------------------------
     def on_inputs_edited(self, event: InputsEdited) -> None:
