@@ -32,10 +32,6 @@ from planner.tui.widgets.masthead import Masthead
 guards.install()   # Textual 8.2.8: PageDown at 1x1, a burst of Enters in the palette
 
 
-FORM_DELAY_S = 0.05
-"""Pause between the first plan and mounting the form, so the plan is painted first. [s]"""
-
-
 class PlanningScreen(FileActions):
     """Inputs, live plan, and the file actions."""
 
@@ -73,6 +69,8 @@ class PlanningScreen(FileActions):
         self._pending_engine: EngineLoaded | None = None
         self._library_info: tuple | None = None
         self._last_raw: dict | None = None
+        self.mounting_form = False
+        self.quit_pending = False
         self._protocol_path = "protocol.yaml"
         self.signed = None          # planner.tui.signoff.SignedFile of the opened file
 
@@ -108,14 +106,21 @@ class PlanningScreen(FileActions):
 
     async def _mount_form(self) -> None:
         """Mount the input form (after the first plan is on screen) and plan from it."""
-        if self.built:
-            return
+        if self.built or self.quit_pending or not self.is_attached:
+            return              # quit (Ctrl+Q) before the form came: nothing to mount
         from planner.tui.widgets.input_panel import InputPanel
         panel = InputPanel(form_values(self.baseline))
         body = self.query_one("#body")
-        await self.query_one("#inputs-placeholder").remove()
-        await body.mount(panel, before=self.pane)
+        self.mounting_form = True       # a quit now waits: exiting mid-mount breaks widgets
+        try:
+            await self.query_one("#inputs-placeholder").remove()
+            await body.mount(panel, before=self.pane)
+        finally:
+            self.mounting_form = False
         self.built = True
+        if self.quit_pending:
+            self.call_after_refresh(self.app.exit)
+            return
         if self._library_info is not None:
             panel.set_library(*self._library_info)
             self.engine_ready = True
@@ -161,9 +166,7 @@ class PlanningScreen(FileActions):
             first = compute(form_values(self.baseline))   # the opening inputs, before the form
             if first.plan is not None:
                 self._show_plan(first.plan)
-        # Give the first plan a few frames to reach the terminal before the form's hundred
-        # widgets are mounted (a refresh callback alone runs before that frame is written).
-        self.set_timer(FORM_DELAY_S, self._mount_form)
+        self.call_after_refresh(self._mount_form)
 
     # -- recompute --------------------------------------------------------------------------
     def on_inputs_edited(self, event: InputsEdited) -> None:

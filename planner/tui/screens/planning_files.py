@@ -27,6 +27,8 @@ class FileActions(Screen):
     source: str
     signed: Any
     _protocol_path: str
+    mounting_form: bool
+    quit_pending: bool
 
     @property
     def dirty(self) -> bool:  # defined by the planning screen
@@ -69,6 +71,9 @@ class FileActions(Screen):
 
     def request_quit(self) -> None:
         """Quit, asking first (save, discard, cancel) when there are unsaved edits."""
+        if self.mounting_form:
+            self.quit_pending = True        # the form mounts, then the app quits
+            return
         if not self.dirty:
             self.app.exit()
             return
