@@ -94,15 +94,12 @@ def compiled_status() -> dict[str, str]:
     """``{name: "current" | "stale" | "missing"}`` for every package YAML file's twin."""
     out: dict[str, str] = {}
     for name in package_yaml_names():
-        text = (_data_dir() / name).read_text(encoding="utf-8")
-        try:
-            twin = json.loads(_twin(name).read_text(encoding="utf-8"))
-        except (OSError, ValueError):
+        if not _twin(name).is_file():
             out[name] = "missing"
             continue
-        current = (twin.get("source_sha256") == _sha256(text)
-                   and twin.get("data") == _yaml_load(text))
-        out[name] = "current" if current else "stale"
+        text = (_data_dir() / name).read_text(encoding="utf-8")
+        data = _read_twin(name, _sha256(text))
+        out[name] = "current" if data is not _MISSING and data == _yaml_load(text) else "stale"
     return out
 
 

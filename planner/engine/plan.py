@@ -19,7 +19,7 @@ from planner.engine.doppler_plan import DOPPLER_PLAN_MODES, plan_doppler
 from planner.engine.model import (SCHEMA_VERSION, ChosenWindow, InputsSummary, PatientSummary, Plan,
                                   PlanLayer, ProbeSummary, TargetSummary, WindowBand, WindowSummary)
 from planner.engine.registry import ENGINE_RULES
-from planner.engine.request import PlanRequest, exam_type_of, patient_for_exam
+from planner.engine.request import FEMALE_EXAMS, PlanRequest, exam_type_of, patient_for_exam
 from planner.errors import InputError
 from planner.findings import severity_rank
 from planner.library.probes import ProbeInventory, load_inventory
@@ -88,13 +88,14 @@ def default_exam_context(request: PlanRequest, target: Any, window: Any,
     if request.context is not None:
         return request.context
     overrides = dict(request.context_overrides or {})
-    exam_type = overrides.pop("exam_type", None) or target.exam_type
+    overrides.pop("exam_type", None)
+    exam_type = exam_type_of(request, target)
     weeks = request.patient.gestation_weeks
     bone = bone_near_focus(target, window) \
         or bool(doppler and doppler.safety.bone_near_gate)
     fields: dict[str, Any] = {"exam_type": exam_type, "bone_near_focus": bone,
                     "modes": DOPPLER_PLAN_MODES if request.doppler else ("b_mode",)}
-    if exam_type in ("obstetric", "gynaecological"):
+    if exam_type in FEMALE_EXAMS:
         fields.update(gestation_weeks=weeks,
                       pregnancy_possible=weeks is not None and exam_type == "gynaecological")
     else:

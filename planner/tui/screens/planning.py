@@ -171,17 +171,20 @@ class PlanningScreen(FileActions):
     # -- recompute --------------------------------------------------------------------------
     def on_inputs_edited(self, event: InputsEdited) -> None:
         event.stop()
-        if self.engine_ready and self.panel.raw_values() == self._last_raw:
+        if not self.engine_ready:
+            return
+        raw = self.panel.raw_values()
+        if raw == self._last_raw:
             return              # e.g. the Changed events of the form's own first fill
-        self.recompute()
+        self.recompute(raw)
 
-    def recompute(self) -> Outcome | None:
+    def recompute(self, raw: dict | None = None) -> Outcome | None:
         """Read the form, make the plan, show it or the problems. Never raises."""
         if not self.engine_ready:
             return None
         start = time.perf_counter()
         panel, pane = self.panel, self.pane
-        self._last_raw = panel.raw_values()
+        self._last_raw = panel.raw_values() if raw is None else raw
         outcome = compute(self._last_raw)
         self.outcome = outcome
         unplaced = panel.show_problems(outcome.problems)
