@@ -12,10 +12,10 @@ import numpy as np
 
 from planner.body.stack import LayerStack, StackBatch
 from planner.engine.batch import (FIT_CODES, STRONG_TISSUES, WindowBatch, assess_batch,  # noqa: F401
-                                  probe_fit, signal_budget_db)
+                                  loss_terms, probe_fit, signal_budget_db)
 from planner.library.probes import Probe, ProbeInventory
 from planner.library.targets import Window
-from planner.physics import attenuation, beam
+from planner.physics import aberration, beam, broadband
 
 
 @dataclass(frozen=True)
@@ -55,20 +55,38 @@ class WindowAssessment:
     best: ProbeOption | None
     arrays: dict = field(default_factory=dict, repr=False, compare=False)
     memo: dict = field(default_factory=dict, repr=False, compare=False)
+    sigma_ns: float = 0.0
+    """rms arrival-time fluctuation of the body wall. [ns]"""
+    bandwidth_fraction: float = 0.0
+    """Fractional bandwidth of the chosen probe's pulse (0: narrowband). [-]"""
+    low_edge_mhz: float = 0.0
+    """Lowest frequency of the chosen probe. [MHz]"""
 
     @property
     def feasible(self) -> bool:
         return self.best is not None and self.best.feasible
 
-    def loss_db(self, frequency_mhz: float) -> float:
-        """Round-trip loss to the target at a frequency, interfaces included. [dB]"""
+    def _pulse(self, frequency_mhz: float) -> tuple[float, float]:
         memo = self.memo
         if frequency_mhz not in memo:
-            arr = self.arrays
-            memo[frequency_mhz] = float(attenuation.stack_round_trip_loss_db(
-                arr["thickness_cm"], frequency_mhz, arr["attenuation_db_per_cm_mhz"],
-                arr["attenuation_exponent"])) + self.interface_loss_db
+            k, y = loss_terms(self.arrays, self.sigma_ns)
+            loss, centre = broadband.broadband_loss_db(k, y, frequency_mhz, self.bandwidth_fraction,
+                                                       self.low_edge_mhz)
+            memo[frequency_mhz] = (float(loss) + self.interface_loss_db, float(centre))
         return memo[frequency_mhz]
+
+    def loss_db(self, frequency_mhz: float) -> float:
+        """Round-trip broadband loss to the target at a centre frequency: layers, wall
+        aberration and interfaces. [dB]"""
+        return self._pulse(frequency_mhz)[0]
+
+    def received_centre_mhz(self, frequency_mhz: float) -> float:
+        """Mean frequency of the echo received from the target (downshifted). [MHz]"""
+        return self._pulse(frequency_mhz)[1]
+
+    def aberration_db(self, frequency_mhz: float) -> float:
+        """Round-trip focusing loss of the body wall at a frequency (narrowband). [dB]"""
+        return float(aberration.aberration_loss_db(frequency_mhz, self.sigma_ns))
 
 
 def option_at(batch: WindowBatch, row: int, index: int) -> ProbeOption:
@@ -90,7 +108,10 @@ def assessment_at(batch: WindowBatch, row: int, window, stack: LayerStack | None
                             float(batch.displayed_depth_cm[row]),
                             10.0 * float(batch.displayed_depth_cm[row] - batch.depth_cm[row]),
                             float(batch.fat_error_mm[row]), options,
-                            options[best_index] if best_index >= 0 else None, arr)
+                            options[best_index] if best_index >= 0 else None, arr,
+                            sigma_ns=float(batch.sigma_ns[row]),
+                            bandwidth_fraction=float(batch.bandwidth_fraction[row]),
+                            low_edge_mhz=float(batch.low_edge_mhz[row]))
 
 
 def assess_window(stack: LayerStack, window, target, inventory: ProbeInventory) -> WindowAssessment:

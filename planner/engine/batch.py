@@ -15,9 +15,13 @@ import numpy as np
 
 from planner.body.stack import StackBatch
 from planner.library.probes import Probe
-from planner.physics import attenuation, beam, sound_speed
+from planner.body.stack import FAT_ROLES
+from planner.physics import aberration, attenuation, beam, broadband, sound_speed
 from planner.physics.constants import (HARMONIC_CONVERSION_LOSS_DB, SIGNAL_BUDGET_DIFFUSE_DB,
                                        SPECULAR_ALLOWANCE_DB)
+
+ABERRATING_ROLES = FAT_ROLES | {"muscle"}
+"""Wall layers whose fat lobules, septa and muscle make the phase screen (HinkelmanAbdominal)."""
 
 STRONG_TISSUES = frozenset({"cortical_bone", "cartilage", "tendon", "lung", "air"})
 """Target tissues whose decisive echo is a strong specular interface (bone surfaces, fibrillar
@@ -54,21 +58,58 @@ def fit_codes(probes, window) -> np.ndarray:
     return np.array([FIT_CODES.index(probe_fit(p, window)) for p in probes], dtype=int)
 
 
-def ceilings_mhz(arrays: dict, budget_db: float, interface_db) -> tuple[np.ndarray, np.ndarray]:
-    """Fundamental and harmonic (transmit) reach ceilings for N stacks, solved together. [MHz]
+def loss_terms(arrays: dict, sigma_ns, harmonic: bool = False) -> tuple[np.ndarray, np.ndarray]:
+    """Round-trip loss terms ``(k, y)`` of N stacks, wall aberration as one more term. (N, n+1)
 
-    The harmonic loss per cm is alpha(f0) + alpha(2 f0), i.e. ``(1 + 2**y) / 2`` times the
-    fundamental's round-trip coefficient (Szabo2004 ch. 4 power law), plus the stated
-    conversion loss.
+    Layers: ``k = 2 alpha0 d`` with the layer's exponent (harmonic: times ``(1 + 2**y) / 2``,
+    down at f0 and back at 2 f0). Aberration: ``c f^2`` (:mod:`planner.physics.aberration`;
+    the harmonic gets its reduced share).
     """
-    y = arrays["attenuation_exponent"]
-    k = 2.0 * arrays["attenuation_db_per_cm_mhz"] * arrays["thickness_cm"]          # (N, n)
+    y = np.broadcast_to(arrays["attenuation_exponent"], arrays["thickness_cm"].shape)
+    k = 2.0 * arrays["attenuation_db_per_cm_mhz"] * arrays["thickness_cm"]
+    ab = aberration.round_trip_coefficient_db_per_mhz2(sigma_ns)
+    if harmonic:
+        k = k * 0.5 * (1.0 + 2.0 ** y)
+        ab = ab * aberration.HARMONIC_ABERRATION_FACTOR.value * 2.5
+    ab = np.broadcast_to(ab, k.shape[:-1])[..., None]
+    return np.concatenate([k, ab], axis=-1), np.concatenate([y, np.full(ab.shape, 2.0)], axis=-1)
+
+
+def pulse_groups(probes) -> list[tuple[float, float]]:
+    """The distinct pulses of an inventory: (bandwidth fraction, lowest frequency) pairs."""
+    return sorted({(p.bandwidth_fraction, p.low_mhz) for p in probes})
+
+
+def ceilings_mhz(arrays: dict, budget_db: float, interface_db, sigma_ns=0.0,
+                 pulses=((0.0, 0.0),)) -> tuple[np.ndarray, np.ndarray]:
+    """Fundamental and harmonic (transmit) reach ceilings for N stacks and each pulse. [MHz]
+
+    Returns two arrays of shape (N, G), one column per ``(bandwidth, low edge)`` pulse: the
+    highest centre frequency whose broadband round-trip loss (layers and wall aberration,
+    :func:`planner.physics.broadband.broadband_loss_db`) plus the interface losses stays within
+    the budget; the harmonic also pays the stated conversion loss.
+    """
     iface = np.asarray(interface_db, dtype=float)
-    budget = np.stack([np.broadcast_to(budget_db - iface, k.shape[:-1]),
-                       np.broadcast_to(budget_db - iface - HARMONIC_CONVERSION_LOSS_DB.value,
-                                       k.shape[:-1])])
-    both = attenuation.solve_power_sum_mhz(np.stack([k, k * 0.5 * (1.0 + 2.0 ** y)]), y, budget)
-    return both[0], both[1]
+    kf, yf = loss_terms(arrays, sigma_ns)
+    kh, yh = loss_terms(arrays, sigma_ns, harmonic=True)
+    n = kf.shape[0]
+    budget = np.stack([np.broadcast_to(budget_db - iface, (n,)),
+                       np.broadcast_to(budget_db - iface - HARMONIC_CONVERSION_LOSS_DB.value, (n,))])
+    k, y = np.stack([kf, kh]), np.stack([yf, yh])
+    cols_f, cols_h = [], []
+    for bandwidth, edge in pulses:
+        edges = np.array([[edge], [edge / 2.0]])      # the harmonic is received at 2 f
+        both = broadband.broadband_ceiling_mhz(k, y, budget, bandwidth, low_edge_mhz=edges)
+        cols_f.append(both[0])
+        cols_h.append(both[1])
+    return np.stack(cols_f, axis=-1), np.stack(cols_h, axis=-1)
+
+
+def wall_sigma_ns(stacks: StackBatch) -> np.ndarray:
+    """rms arrival-time fluctuation of each patient's body wall (fat and muscle). (N,) [ns]"""
+    cols = np.array([lay.role in ABERRATING_ROLES for lay in stacks.layers], dtype=bool)
+    wall_mm = 10.0 * np.where(cols[None, :], stacks.thickness_cm, 0.0).sum(axis=1)
+    return np.asarray(aberration.arrival_time_rms_ns(wall_mm), dtype=float)
 
 
 @dataclass(frozen=True)
@@ -103,7 +144,8 @@ def probe_arrays(probes, window, depth_cm, detail_mm: float, ceiling_mhz,
     """
     probes = tuple(probes)
     depth = np.atleast_1d(np.asarray(depth_cm, dtype=float))[:, None]                 # (N, 1)
-    ceiling = np.atleast_1d(np.asarray(ceiling_mhz, dtype=float))[:, None]
+    ceiling = np.asarray(ceiling_mhz, dtype=float)
+    ceiling = ceiling if ceiling.ndim == 2 else np.atleast_1d(ceiling)[:, None]     # (N, P) or (N, 1)
     fit = np.broadcast_to(window if isinstance(window, np.ndarray) else fit_codes(probes, window),
                           (depth.shape[0], len(probes)))
     rf = np.array([p.receive_f_number for p in probes])[None, :]
@@ -163,13 +205,29 @@ class WindowBatch:
     fat_error_mm: np.ndarray
     probes: ProbeArrays
     arrays: dict
+    sigma_ns: np.ndarray
+    """(N,) rms arrival-time fluctuation of the body wall. [ns]"""
+    bandwidth_fraction: np.ndarray
+    """(N,) fractional bandwidth of the chosen probe's pulse (the first probe's when none)."""
+    low_edge_mhz: np.ndarray
+    """(N,) lowest frequency of the chosen probe. [MHz]"""
 
     def loss_db(self, frequency_mhz) -> np.ndarray:
-        """Round-trip loss to the target at a frequency per patient, interfaces included. [dB]"""
-        arr = self.arrays
-        return attenuation.stack_round_trip_loss_db(
-            arr["thickness_cm"], frequency_mhz, arr["attenuation_db_per_cm_mhz"],
-            arr["attenuation_exponent"]) + self.interface_loss_db
+        """Round-trip broadband loss to the target at a centre frequency per patient: layers,
+        wall aberration and interfaces (the chosen probe's pulse). [dB]"""
+        k, y = loss_terms(self.arrays, self.sigma_ns)
+        return broadband.broadband_loss_db(k, y, frequency_mhz, self.bandwidth_fraction,
+                                           self.low_edge_mhz)[0] + self.interface_loss_db
+
+    def received_centre_mhz(self, frequency_mhz) -> np.ndarray:
+        """Mean frequency of the echo received from the target (the downshifted centre). [MHz]"""
+        k, y = loss_terms(self.arrays, self.sigma_ns)
+        return broadband.broadband_loss_db(k, y, frequency_mhz, self.bandwidth_fraction,
+                                           self.low_edge_mhz)[1]
+
+    def aberration_db(self, frequency_mhz) -> np.ndarray:
+        """Round-trip focusing loss of the wall at a frequency (narrowband value). [dB]"""
+        return np.asarray(aberration.aberration_loss_db(frequency_mhz, self.sigma_ns))
 
     @property
     def feasible(self) -> np.ndarray:
@@ -212,12 +270,21 @@ def assess_batches(stacks_list: list[StackBatch], target, inventory) -> list[Win
              "attenuation_db_per_cm_mhz": _padded(arrays, "attenuation_db_per_cm_mhz", 0.0, sizes, width),
              "attenuation_exponent": _padded(arrays, "attenuation_exponent", 1.0, sizes, width)}
     iface_rows = np.concatenate([np.full(n, i) for n, i in zip(sizes, ifaces)])
-    ceil_f, ceil_h = ceilings_mhz(joint, budget, iface_rows)
+    sigma = np.concatenate([wall_sigma_ns(st) for st in stacks_list])
+    pulses = pulse_groups(inventory.probes)
+    group = np.array([pulses.index((p.bandwidth_fraction, p.low_mhz)) for p in inventory.probes])
+    ceil_fg, ceil_hg = ceilings_mhz(joint, budget, iface_rows, sigma, pulses)
+    ceil_fp, ceil_hp = ceil_fg[:, group], ceil_hg[:, group]                         # (N, P)
     depth = np.cumsum(thick, axis=1)[:, -1]        # in layer order, as LayerStack.depth_cm
     windows = [_window_of(s, target) for s in stacks_list]
     fit = np.concatenate([np.broadcast_to(fit_codes(inventory.probes, w), (n, len(inventory.probes)))
                           for w, n in zip(windows, sizes)], axis=0)
-    probes = probe_arrays(inventory.probes, fit, depth, target.detail_mm, ceil_f, target.probe_types)
+    probes = probe_arrays(inventory.probes, fit, depth, target.detail_mm, ceil_fp, target.probe_types)
+    col = np.maximum(probes.best, 0)
+    rows_all = np.arange(col.size)
+    ceil_f, ceil_h = ceil_fp[rows_all, col], ceil_hp[rows_all, col]
+    bandwidth = np.array([p.bandwidth_fraction for p in inventory.probes])[col]
+    edge = np.array([p.low_mhz for p in inventory.probes])[col]
     out, start = [], 0
     for stacks, arr, iface, n in zip(stacks_list, arrays, ifaces, sizes):
         rows = slice(start, start + n)
@@ -232,7 +299,8 @@ def assess_batches(stacks_list: list[StackBatch], target, inventory) -> list[Win
                          probes.best[rows])
         out.append(WindowBatch(stacks, budget, iface, ceil_f[rows], ceil_h[rows], depth[rows],
                                np.asarray(shown, dtype=float),
-                               np.broadcast_to(np.asarray(fat_err, dtype=float), (n,)), pa, arr))
+                               np.broadcast_to(np.asarray(fat_err, dtype=float), (n,)), pa, arr,
+                               sigma[rows], bandwidth[rows], edge[rows]))
     return out
 
 
