@@ -19,7 +19,7 @@ __all__ = ["LIMITS", "doppler_result", "interface_result", "parse_layers", "path
 ANGLE_ERROR_DEG = 5.0
 """Angle uncertainty used for the velocity-error figures. [deg]"""
 
-LIMITS = {"--frequency-mhz": (0.01, 100.0), "--depth-cm": (0.01, 100.0), "thickness": (1e-4, 100.0),
+LIMITS = {"--frequency-mhz": (0.01, 100.0), "--bandwidth-fraction": (0.0, 1.5), "--depth-cm": (0.01, 100.0), "thickness": (1e-4, 100.0),
           "--velocity-cm-s": (-2000.0, 2000.0), "--z1": (1e-5, 100.0), "--z2": (1e-5, 100.0),
           "--c1": (1.0, 20000.0), "--c2": (1.0, 20000.0)}
 """Plausibility ranges of the quick calculations (inclusive): far wider than any diagnostic
@@ -55,6 +55,9 @@ def register(sub: argparse._SubParsersAction) -> None:
     p.add_argument("--layers", required=True, metavar="TISSUE:CM,...",
                    help="layers from the skin, e.g. fat:3,liver:10 (thickness in cm)")
     p.add_argument("--frequency-mhz", type=finite_float, required=True)
+    p.add_argument("--bandwidth-fraction", type=finite_float, default=0.0, metavar="B",
+                   help="fractional -6 dB bandwidth of the pulse-echo spectrum, e.g. 0.6 "
+                        "(0 or absent: a single frequency)")
     p.add_argument("--json", action="store_true")
     p.set_defaults(func=run_path)
 
@@ -156,13 +159,21 @@ def parse_layers(text: str) -> list[tuple[str, float]]:
     return layers
 
 
-def path_result(layers: list[tuple[str, float]], frequency_mhz: float) -> dict:
-    """The quick path calculation as a JSON-ready dict."""
+def path_result(layers: list[tuple[str, float]], frequency_mhz: float,
+                bandwidth_fraction: float = 0.0) -> dict:
+    """The quick path calculation as a JSON-ready dict.
+
+    With a bandwidth, ``round_trip_loss_db`` is the broadband (Gaussian pulse) energy loss
+    through the layers plus the interface losses, and ``received_centre_mhz`` the downshifted
+    centre frequency of the echo (:mod:`planner.physics.broadband`); per-layer losses stay
+    at the centre frequency.
+    """
     import numpy as np
 
-    from planner.physics import attenuation, sound_speed
+    from planner.physics import attenuation, broadband, sound_speed
     from planner.physics.tissues import get_tissue
     _in_range("--frequency-mhz", frequency_mhz)
+    _in_range("--bandwidth-fraction", bandwidth_fraction)
     tissues = [get_tissue(name) for name, _ in layers]
     d = np.array([t for _, t in layers])
     c = np.array([t.speed_m_per_s for t in tissues])
@@ -170,12 +181,17 @@ def path_result(layers: list[tuple[str, float]], frequency_mhz: float) -> dict:
     y = np.array([t.attenuation_exponent for t in tissues])
     z = np.array([t.impedance_mrayl for t in tissues])
     per_layer = attenuation.round_trip_attenuation_db(d, frequency_mhz, a0, y)
-    total = float(attenuation.stack_round_trip_loss_db(d, frequency_mhz, a0, y, z))
+    iface = float(attenuation.interface_round_trip_loss_db(z))
+    broad, centre = broadband.broadband_loss_db(2.0 * a0 * d, y, frequency_mhz, bandwidth_fraction)
+    total = float(broad) + iface
     shown = float(sound_speed.displayed_depth_cm(d, c))
     return {
         "frequency_mhz": frequency_mhz,
+        "bandwidth_fraction": bandwidth_fraction,
         "round_trip_loss_db": total,
-        "interface_loss_db": float(attenuation.interface_round_trip_loss_db(z)),
+        "narrowband_loss_db": float(per_layer.sum()) + iface,
+        "received_centre_mhz": float(centre),
+        "interface_loss_db": iface,
         "true_depth_cm": float(d.sum()), "displayed_depth_cm": shown,
         "depth_error_mm": 10.0 * (shown - float(d.sum())),
         "layers": [{"tissue": t.id, "thickness_cm": float(th), "speed_m_per_s": t.speed_m_per_s,
@@ -186,15 +202,19 @@ def path_result(layers: list[tuple[str, float]], frequency_mhz: float) -> dict:
 
 
 def run_path(args) -> int:
-    result = path_result(parse_layers(args.layers), args.frequency_mhz)
+    result = path_result(parse_layers(args.layers), args.frequency_mhz, args.bandwidth_fraction)
     if args.json:
         emit_json(result)
         return 0
-    print(f"Round trip at {args.frequency_mhz:g} MHz")
+    pulse = (f" ({100 * args.bandwidth_fraction:g} % bandwidth pulse)" if args.bandwidth_fraction else "")
+    print(f"Round trip at {args.frequency_mhz:g} MHz{pulse}")
     for lay in result["layers"]:
         print(f"  {lay['tissue']:<16} {lay['thickness_cm']:6.2f} cm  {lay['speed_m_per_s']:6.0f} m/s  "
               f"{lay['attenuation_db_per_cm_mhz']:5.2f} dB/cm/MHz  {lay['loss_db']:6.1f} dB")
     print(f"  interfaces {result['interface_loss_db']:.2f} dB; total {result['round_trip_loss_db']:.1f} dB")
+    if args.bandwidth_fraction:
+        print(f"  single-frequency total {result['narrowband_loss_db']:.1f} dB; echo centre "
+              f"{result['received_centre_mhz']:.2f} MHz (shifted down from {args.frequency_mhz:g})")
     print(f"  true depth {result['true_depth_cm']:.2f} cm, displayed {result['displayed_depth_cm']:.2f} cm "
           f"(error {result['depth_error_mm']:+.1f} mm at 1540 m/s)")
     return 0

@@ -42,11 +42,18 @@ def band_decision(ctx: RuleContext) -> tuple[FrequencyBand, list[Finding]]:
     values: dict[str, float | None] = {"detail_mm": target.detail_mm, "detail_floor_mhz": _r(opt.floor_mhz, 2),
               "reach_ceiling_mhz": _r(a.ceiling_mhz, 2), "budget_db": a.budget_db,
               "depth_cm": _r(a.stack.depth_cm), "probe_low_mhz": opt.probe.low_mhz,
-              "probe_high_mhz": opt.probe.high_mhz, "f_number": _r(opt.f_number, 2)}
-    sources = ("Kremkau2015", "RadiologyPhysicsSummary", SIGNAL_BUDGET_DIFFUSE_DB.source)
+              "probe_high_mhz": opt.probe.high_mhz, "f_number": _r(opt.f_number, 2),
+              "bandwidth_fraction": opt.probe.bandwidth_fraction,
+              "received_centre_mhz": _r(a.received_centre_mhz(max(reach_high, opt.probe.low_mhz)), 2),
+              "wall_aberration_db": _r(a.aberration_db(max(reach_high, opt.probe.low_mhz)))}
+    sources = ("Kremkau2015", "RadiologyPhysicsSummary", SIGNAL_BUDGET_DIFFUSE_DB.source, "Kuc1984",
+               "NarayanaOphir1983", "Hinkelman1997Chest")
     explanation = (
-        "Reach: the highest frequency whose round-trip loss 2 x sum(alpha0_i f^y_i d_i) plus the "
-        f"interface losses stays within the {a.budget_db:g} dB signal budget"
+        "Reach: the highest centre frequency whose round-trip loss stays within the "
+        f"{a.budget_db:g} dB signal budget. The loss integrates the probe's pulse spectrum "
+        f"(Gaussian, {100 * opt.probe.bandwidth_fraction:.0f} % bandwidth) through the layers, "
+        "each losing 2 alpha0_i f^y_i d_i, so the echo's centre shifts down with depth; it adds "
+        "the body wall's aberration (phase-screen focusing loss) and the interface losses"
         + (f" (diffuse {SIGNAL_BUDGET_DIFFUSE_DB.value:g} dB + {SPECULAR_ALLOWANCE_DB.value:g} dB "
            "for strong specular echoes)" if a.budget_db > SIGNAL_BUDGET_DIFFUSE_DB.value else "")
         + ". Detail: the lowest frequency at which both the axial resolution (pulse cycles x "
