@@ -95,14 +95,31 @@ def ceilings_mhz(arrays: dict, budget_db: float, interface_db, sigma_ns=0.0,
     n = kf.shape[0]
     budget = np.stack([np.broadcast_to(budget_db - iface, (n,)),
                        np.broadcast_to(budget_db - iface - HARMONIC_CONVERSION_LOSS_DB.value, (n,))])
-    k, y = np.stack([kf, kh]), np.stack([yf, yh])
-    cols_f, cols_h = [], []
-    for bandwidth, edge in pulses:
-        edges = np.array([[edge], [edge / 2.0]])      # the harmonic is received at 2 f
-        both = broadband.broadband_ceiling_mhz(k, y, budget, bandwidth, low_edge_mhz=edges)
-        cols_f.append(both[0])
-        cols_h.append(both[1])
-    return np.stack(cols_f, axis=-1), np.stack(cols_h, axis=-1)
+    k, y = np.stack([kf, kh])[:, None], np.stack([yf, yh])[:, None]              # (2, 1, N, n)
+    bandwidth = np.array([bw for bw, _ in pulses])[None, :, None]                 # (1, G, 1)
+    edge = np.array([e for _, e in pulses])[None, :, None] * np.array([1.0, 0.5])[:, None, None]
+    both = broadband.broadband_ceiling_mhz(k, y, budget[:, None, :], bandwidth, edge)  # (2, G, N)
+    return np.moveaxis(both[0], 0, -1), np.moveaxis(both[1], 0, -1)
+
+
+def probe_ceilings_mhz(arrays: dict, budget_db: float, interface_db, sigma_ns, probes,
+                       usual_types) -> tuple[np.ndarray, np.ndarray]:
+    """Fundamental and harmonic ceilings of every probe, shape (N, P). [MHz]
+
+    The broadband solution is computed once per distinct pulse of the probes the target is
+    examined with (:func:`choose_probe_index` never picks another type while one of them is
+    available); the other probes get the single-frequency ceiling (used only for a row where
+    none of the usual probes is available). When the inventory has none of those types, every
+    probe gets its broadband ceiling.
+    """
+    probes = tuple(probes)
+    usual = [p for p in probes if p.type in usual_types] or list(probes)
+    pulses = pulse_groups(usual)
+    cf, ch = ceilings_mhz(arrays, budget_db, interface_db, sigma_ns,
+                          pulses + ([(0.0, 0.0)] if len(usual) < len(probes) else []))
+    index = [pulses.index((p.bandwidth_fraction, p.low_mhz)) if p in usual else len(pulses)
+             for p in probes]
+    return cf[:, index], ch[:, index]
 
 
 def wall_sigma_ns(stacks: StackBatch) -> np.ndarray:
@@ -271,10 +288,8 @@ def assess_batches(stacks_list: list[StackBatch], target, inventory) -> list[Win
              "attenuation_exponent": _padded(arrays, "attenuation_exponent", 1.0, sizes, width)}
     iface_rows = np.concatenate([np.full(n, i) for n, i in zip(sizes, ifaces)])
     sigma = np.concatenate([wall_sigma_ns(st) for st in stacks_list])
-    pulses = pulse_groups(inventory.probes)
-    group = np.array([pulses.index((p.bandwidth_fraction, p.low_mhz)) for p in inventory.probes])
-    ceil_fg, ceil_hg = ceilings_mhz(joint, budget, iface_rows, sigma, pulses)
-    ceil_fp, ceil_hp = ceil_fg[:, group], ceil_hg[:, group]                         # (N, P)
+    ceil_fp, ceil_hp = probe_ceilings_mhz(joint, budget, iface_rows, sigma, inventory.probes,
+                                          target.probe_types)
     depth = np.cumsum(thick, axis=1)[:, -1]        # in layer order, as LayerStack.depth_cm
     windows = [_window_of(s, target) for s in stacks_list]
     fit = np.concatenate([np.broadcast_to(fit_codes(inventory.probes, w), (n, len(inventory.probes)))

@@ -75,10 +75,16 @@ def _log_erfcx(z):
     return np.where(z >= 0, log_pos, log_neg)
 
 
-def _power_sum(k, y, f):
+def _weights(y):
+    """``[1, y, y (y - 1)]`` per term, shape (..., n, 3): the derivative weights of f^y."""
+    return np.stack(np.broadcast_arrays(np.ones_like(y), y, y * (y - 1.0)), axis=-1)
+
+
+def _power_sum(k, y, f, weights=None):
     """``sum_i k_i f^y_i`` and its first two f-derivatives (last axis = terms)."""
     fy = k * np.exp(y * np.log(f)[..., None])
-    weights = np.stack(np.broadcast_arrays(np.ones_like(y), y, y * (y - 1.0)), axis=-1)
+    if weights is None:
+        weights = _weights(y)
     if weights.ndim == 2:                              # exponents shared by every row
         sums = fy @ weights
     else:
@@ -139,31 +145,40 @@ def broadband_loss_db(k, y, centre_mhz, bandwidth_fraction, low_edge_mhz=0.0, pa
     y = np.asarray(_non_negative("y", y), dtype=float)
     f0 = np.asarray(_positive("centre_mhz", centre_mhz), dtype=float)
     b = np.asarray(_non_negative("bandwidth_fraction", bandwidth_fraction), dtype=float)
-    shape = np.broadcast_shapes(k.shape[:-1], y.shape[:-1], f0.shape, b.shape)
+    edge = np.asarray(_non_negative("low_edge_mhz", low_edge_mhz), dtype=float)
+    shape = np.broadcast_shapes(k.shape[:-1], y.shape[:-1], f0.shape, b.shape, edge.shape)
     f0 = np.broadcast_to(f0, shape)
-    narrow_loss = _power_sum(k, y, f0)[0]
     broad = b >= NARROWBAND_BELOW
     if not np.any(broad):
-        return np.broadcast_to(narrow_loss, shape).copy(), f0.copy()
-    s = np.maximum(spectrum_sigma_mhz(f0, b), 1e-12)
+        return np.broadcast_to(_power_sum(k, y, f0)[0], shape).copy(), f0.copy()
+    loss, centre = _loss(k, y, f0, np.maximum(b, NARROWBAND_BELOW), edge, passes)
+    if np.all(broad):
+        return loss, centre
+    return np.where(broad, loss, _power_sum(k, y, f0)[0]), np.where(broad, centre, f0)
+
+
+def _loss(k, y, f0, b, edge, passes: int, weights=None):
+    """The closed form of :func:`broadband_loss_db` without checks (every B > 0). [dB], [MHz]"""
+    weights = _weights(y) if weights is None else weights
+    s = spectrum_sigma_mhz(f0, b)
     inv_s2 = 1.0 / (s * s)
-    edge = np.minimum(np.asarray(low_edge_mhz, dtype=float), 0.999 * f0)
+    edge = np.minimum(edge, 0.999 * f0)
     z_ref = (edge - f0) / s
-    log_ref = _log_erfcx(z_ref) - z_ref ** 2                              # ln erfc((edge-f0)/s)
+    log_ref = _log_erfcx(z_ref) - z_ref * z_ref                          # ln erfc((edge-f0)/s)
     fe = f0
     for _ in range(passes):
-        a0, a1, a2 = _power_sum(k, y, fe)
+        a0, a1, a2 = _power_sum(k, y, fe, weights)
         a2 = np.maximum(a2, -DB_ENERGY * inv_s2)
-        p = inv_s2 + a2 / (2.0 * DB_ENERGY)
-        m = (2.0 * f0 * inv_s2 - a1 / DB_ENERGY + a2 * fe / DB_ENERGY) / (2.0 * p)
-        z = (edge - m) * np.sqrt(p)
+        p = inv_s2 + a2 * (0.5 / DB_ENERGY)
+        m = (2.0 * f0 * inv_s2 + (a2 * fe - a1) / DB_ENERGY) / (2.0 * p)
+        root_p = np.sqrt(p)
+        z = (edge - m) * root_p
         lx = _log_erfcx(z)
-        centre = m + np.exp(-lx) / np.sqrt(np.pi * p)
+        centre = m + np.exp(-lx) / (np.sqrt(np.pi) * root_p)
         c0 = -f0 * f0 * inv_s2 - (a0 - a1 * fe + 0.5 * a2 * fe * fe) / DB_ENERGY
         log_ratio = lx - z * z + p * m * m + c0 - 0.5 * np.log(p * s * s) - log_ref
         fe = np.maximum(centre, np.maximum(edge, 1e-6 * f0))
-    loss = -DB_ENERGY * log_ratio
-    return np.where(broad, loss, narrow_loss), np.where(broad, centre, f0)
+    return -DB_ENERGY * log_ratio, centre
 
 
 def broadband_loss_numeric_db(k, y, centre_mhz, bandwidth_fraction, low_edge_mhz: float = 0.0,
@@ -218,8 +233,8 @@ def linear_broadband_loss_db(alpha_np_per_cm_mhz, depth_cm, centre_mhz, bandwidt
 
 
 def broadband_ceiling_mhz(k, y, budget_db, bandwidth_fraction, low_edge_mhz=0.0,
-                          low_mhz: float = 0.25,
-                          high_mhz: float = 40.0, grid: int = 7, refine: int = 6):
+                          low_mhz: float = 0.25, high_mhz: float = 40.0, iterations: int = 8,
+                          tolerance_db: float = 0.02, passes: int = 2):
     """Highest centre frequency whose broadband loss fits a budget (any exponents). [MHz]
 
     Parameters
@@ -228,9 +243,10 @@ def broadband_ceiling_mhz(k, y, budget_db, bandwidth_fraction, low_edge_mhz=0.0,
         Round-trip coefficients and exponents of the loss terms (:func:`broadband_loss_db`).
     budget_db : float or array, shape (...)
         Budget left for the frequency-dependent loss. [dB]
-    bandwidth_fraction : float
-        Fractional -6 dB bandwidth; below :data:`NARROWBAND_BELOW` the narrowband power sum
-        is solved exactly (:func:`planner.physics.attenuation.solve_power_sum_mhz`).
+    bandwidth_fraction : float or array, shape (...)
+        Fractional -6 dB bandwidth; where it is below :data:`NARROWBAND_BELOW` the
+        narrowband power sum is solved exactly
+        (:func:`planner.physics.attenuation.solve_power_sum_mhz`).
     low_edge_mhz : float or array, shape (...)
         Lowest frequency received (:func:`broadband_loss_db`). [MHz]
 
@@ -241,36 +257,55 @@ def broadband_ceiling_mhz(k, y, budget_db, bandwidth_fraction, low_edge_mhz=0.0,
 
     Notes
     -----
-    The loss rises with the centre frequency (every spectral component moves up with f0),
-    so the root is bracketed on ``grid`` log-spaced frequencies and refined by ``refine``
-    Illinois (modified regula falsi) steps in ln f.
+    The loss rises with the centre frequency (every spectral component moves up with f0).
+    The narrowband root starts a safeguarded secant iteration in ``ln f`` (a bracket is kept;
+    a step leaving it bisects), stopped when the loss is within ``tolerance_db`` of the
+    budget; the answer is interpolated inside the final bracket. ``passes`` expansions of the
+    closed form are used (2 keep it within 0.3 dB of the integrated spectrum).
     """
     from planner.physics.attenuation import solve_power_sum_mhz
-    b = float(bandwidth_fraction)
-    if b < NARROWBAND_BELOW:
-        return solve_power_sum_mhz(k, y, budget_db, low_mhz, high_mhz)
     k, y = group_exponents(k, y)
+    b = np.asarray(bandwidth_fraction, dtype=float)
     budget = np.asarray(budget_db, dtype=float)
-    shape = np.broadcast_shapes(budget.shape, k.shape[:-1])
+    edge = np.asarray(low_edge_mhz, dtype=float)
+    shape = np.broadcast_shapes(budget.shape, k.shape[:-1], b.shape, edge.shape)
     k = np.broadcast_to(k, shape + k.shape[-1:])
     budget = np.broadcast_to(budget, shape)
-    edge = np.broadcast_to(np.asarray(low_edge_mhz, dtype=float), shape)
-    u = np.linspace(np.log(low_mhz), np.log(high_mhz), grid)
-    g = broadband_loss_db(k[..., None, :], y, np.exp(u), b, edge[..., None], passes=2)[0] - budget[..., None]
-    fits = g <= 0.0
-    index = np.clip(fits.sum(axis=-1) - 1, 0, grid - 2)          # last grid point that fits
-    ua, ub = u[index], u[index + 1]
-    ga = np.take_along_axis(g, index[..., None], -1)[..., 0]
-    gb = np.take_along_axis(g, index[..., None] + 1, -1)[..., 0]
-    uc = ua
-    for _ in range(refine):
+    narrow = solve_power_sum_mhz(k, y, budget, low_mhz, high_mhz)
+    if np.all(b < NARROWBAND_BELOW):
+        return narrow
+    b = np.broadcast_to(np.maximum(b, NARROWBAND_BELOW), shape)
+    edge = np.broadcast_to(edge, shape)
+    lo, hi = np.log(low_mhz), np.log(high_mhz)
+    u0 = np.clip(np.log(np.maximum(narrow, low_mhz)), lo, hi)
+    u1 = np.minimum(u0 + 0.3, hi)
+    u1 = np.where(u1 - u0 < 0.05, u0 - 0.3, u1)
+    start = np.stack(np.broadcast_arrays(lo, hi, u0, u1), axis=-1)
+    weights = _weights(y)
+    g = _loss(k[..., None, :], y, np.exp(start), b[..., None], edge[..., None], passes,
+              weights)[0] - budget[..., None]
+    ga, gb, g0, g1 = g[..., 0], g[..., 1], g[..., 2], g[..., 3]
+    top_fits, low_fits = gb <= 0.0, ga <= 0.0
+    a = np.full(shape, lo)
+    bb = np.full(shape, hi)
+    for u, gu in ((u0, g0), (u1, g1)):
+        a, ga = np.where((gu <= 0) & (u > a), u, a), np.where((gu <= 0) & (u > a), gu, ga)
+        bb, gb = np.where((gu > 0) & (u < bb), u, bb), np.where((gu > 0) & (u < bb), gu, gb)
+    active = ~(top_fits | ~low_fits)
+    for _ in range(iterations):
+        if not np.any(active & (np.minimum(-ga, gb) > tolerance_db)):
+            break
         with np.errstate(divide="ignore", invalid="ignore"):
-            uc = np.where(gb > ga, ub - gb * (ub - ua) / (gb - ga), ua)
-        uc = np.clip(uc, ua, ub)
-        gc = broadband_loss_db(k, y, np.exp(uc), b, edge)[0] - budget
-        left = gc <= 0.0
-        ua, ga, ub, gb = (np.where(left, uc, ua), np.where(left, gc, 0.5 * ga),
-                          np.where(left, ub, uc), np.where(left, 0.5 * gb, gc))
-    result = np.exp(uc)
-    result = np.where(fits[..., -1], high_mhz, result)
-    return np.where(fits[..., 0], result, 0.0)
+            u2 = u1 - g1 * (u1 - u0) / (g1 - g0)
+        inside = np.isfinite(u2) & (u2 > a) & (u2 < bb)
+        u2 = np.where(inside, u2, 0.5 * (a + bb))
+        g2 = _loss(k, y, np.exp(u2), b, edge, passes, weights)[0] - budget
+        a, ga = np.where(g2 <= 0, u2, a), np.where(g2 <= 0, g2, ga)
+        bb, gb = np.where(g2 > 0, u2, bb), np.where(g2 > 0, g2, gb)
+        u0, g0, u1, g1 = u1, g1, u2, g2
+    with np.errstate(divide="ignore", invalid="ignore"):
+        root = np.where(gb > ga, a - ga * (bb - a) / (gb - ga), a)
+    result = np.exp(np.clip(root, a, bb))
+    result = np.where(top_fits, high_mhz, result)
+    result = np.where(low_fits, result, 0.0)
+    return np.where(np.asarray(bandwidth_fraction) < NARROWBAND_BELOW, narrow, result)
