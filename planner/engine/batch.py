@@ -27,6 +27,9 @@ STRONG_TISSUES = frozenset({"cortical_bone", "cartilage", "tendon", "lung", "air
 """Target tissues whose decisive echo is a strong specular interface (bone surfaces, fibrillar
 tendon, the lung or diaphragm surface); vessel and cyst walls are specular but weak."""
 
+DETAIL_TOP_SAMPLES: int = 9
+"""Transmit centres tried between the band's ends when the band top's echo is too low. [-]"""
+
 FIT_CODES: tuple[str, ...] = ("fits", "aligned", "blocked", "n/a")
 """Footprint fit of a probe at a window, as codes 0-3 in the arrays."""
 
@@ -145,10 +148,12 @@ class ProbeArrays:
     feasible: np.ndarray
     best: np.ndarray
     """(N,) index of the chosen probe, -1 when no probe can be used."""
+    received_mhz: np.ndarray | None = None
+    """(N, P) centre frequency of the echo from the target at the band top (downshifted). [MHz]"""
 
 
 def probe_arrays(probes, window, depth_cm, detail_mm: float, ceiling_mhz,
-                 preferred) -> ProbeArrays:
+                 preferred, received=None) -> ProbeArrays:
     """Detail floor, band, feasibility and the chosen probe for N depths and reach ceilings.
 
     ``window`` is the window (every row) or an (N, P) array of fit codes (rows from several
@@ -158,6 +163,13 @@ def probe_arrays(probes, window, depth_cm, detail_mm: float, ceiling_mhz,
     x wavelength / 2) and the lateral resolution at focus (wavelength x F-number, the receive
     F-number or depth over aperture when deeper) are as fine as ``detail_mm``
     (:func:`planner.physics.beam.min_frequency_axial_mhz`, ``min_frequency_lateral_mhz``).
+    ``received(rows, cols, f0)``, when given, is the centre frequency of the echo that returns
+    from the target for transmit centres ``f0`` (shape (m, J)) of the (row, probe) pairs
+    ``rows, cols`` (the broadband downshift). The detail is only given where that received
+    centre is not below the floor. As the transmit centre rises, the received centre first
+    rises and then falls (deep paths eat the top of the spectrum), so where the band top's echo
+    is too low the band top moves down to the highest of :data:`DETAIL_TOP_SAMPLES` transmit
+    centres between the band's ends whose echo still gives the detail.
     """
     probes = tuple(probes)
     depth = np.atleast_1d(np.asarray(depth_cm, dtype=float))[:, None]                 # (N, 1)
@@ -177,8 +189,26 @@ def probe_arrays(probes, window, depth_cm, detail_mm: float, ceiling_mhz,
     low = np.maximum(p_low, floor)
     usable = fit <= 1
     feasible = usable & (high >= p_low) & (low <= high)
+    high = np.broadcast_to(high, feasible.shape).copy()
+    received_mhz = high.copy()
+    if received is not None:
+        rows, cols = np.indices(feasible.shape).reshape(2, -1)
+        top = np.maximum(high, np.broadcast_to(p_low, high.shape)).ravel()
+        received_mhz = received(rows, cols, top[:, None])[:, 0].reshape(high.shape)
+        short = feasible & (received_mhz < floor - 1e-9)
+        if short.any():
+            r, c = np.nonzero(short)
+            f0 = np.geomspace(low[r, c] if low.ndim == 2 else np.broadcast_to(low, high.shape)[r, c],
+                              high[r, c], DETAIL_TOP_SAMPLES, axis=-1)
+            rx = received(r, c, f0)
+            ok = rx >= floor[r, c][:, None] - 1e-9
+            last = DETAIL_TOP_SAMPLES - 1 - np.argmax(ok[:, ::-1], axis=1)
+            found = ok.any(axis=1)
+            high[r[found], c[found]] = f0[found, last[found]]
+            received_mhz[r[found], c[found]] = rx[found, last[found]]
+        feasible &= received_mhz >= floor - 1e-9
     best = choose_probe_index(probes, fit, feasible, high, list(preferred))
-    return ProbeArrays(probes, fit, floor, low, high, f_num, feasible, best)
+    return ProbeArrays(probes, fit, floor, low, high, f_num, feasible, best, received_mhz)
 
 
 def choose_probe_index(probes, fit: np.ndarray, feasible: np.ndarray, high_mhz: np.ndarray,
@@ -294,7 +324,17 @@ def assess_batches(stacks_list: list[StackBatch], target, inventory) -> list[Win
     windows = [_window_of(s, target) for s in stacks_list]
     fit = np.concatenate([np.broadcast_to(fit_codes(inventory.probes, w), (n, len(inventory.probes)))
                           for w, n in zip(windows, sizes)], axis=0)
-    probes = probe_arrays(inventory.probes, fit, depth, target.detail_mm, ceil_fp, target.probe_types)
+    k_all, y_all = loss_terms(joint, sigma)
+    bw_p = np.array([p.bandwidth_fraction for p in inventory.probes])[None, :]
+    edge_p = np.array([p.low_mhz for p in inventory.probes])[None, :]
+
+    def received(rows, cols, f0):
+        return broadband.broadband_loss_db(k_all[rows][:, None, :], y_all[rows][:, None, :], f0,
+                                           bw_p[0, cols][:, None], edge_p[0, cols][:, None],
+                                           passes=2)[1]
+
+    probes = probe_arrays(inventory.probes, fit, depth, target.detail_mm, ceil_fp, target.probe_types,
+                          received)
     col = np.maximum(probes.best, 0)
     rows_all = np.arange(col.size)
     ceil_f, ceil_h = ceil_fp[rows_all, col], ceil_hp[rows_all, col]
@@ -311,7 +351,8 @@ def assess_batches(stacks_list: list[StackBatch], target, inventory) -> list[Win
                    if fat_cols.any() else np.zeros(n))
         pa = ProbeArrays(probes.probes, probes.fit[rows], probes.floor_mhz[rows], probes.low_mhz[rows],
                          probes.high_mhz[rows], probes.f_number[rows], probes.feasible[rows],
-                         probes.best[rows])
+                         probes.best[rows], None if probes.received_mhz is None
+                         else probes.received_mhz[rows])
         out.append(WindowBatch(stacks, budget, iface, ceil_f[rows], ceil_h[rows], depth[rows],
                                np.asarray(shown, dtype=float),
                                np.broadcast_to(np.asarray(fat_err, dtype=float), (n,)), pa, arr,

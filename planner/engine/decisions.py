@@ -77,9 +77,12 @@ def band_decision(ctx: RuleContext) -> tuple[FrequencyBand, list[Finding]]:
                f"{a.stack.depth_cm:.1f} cm (reach ceiling {a.ceiling_mhz:.1f} MHz): expect a weak, noisy "
                "far field at the target.")
     else:
+        rx = a.received_centre_mhz(reach_high)
         msg = (f"{target.detail_mm:g} mm detail needs {opt.floor_mhz:.1f} MHz, but the echo from "
-               f"{a.stack.depth_cm:.1f} cm only reaches up to {reach_high:.1f} MHz; at that frequency the "
-               f"finest detail is about {best_detail:.1f} mm.")
+               f"{a.stack.depth_cm:.1f} cm only reaches up to {reach_high:.1f} MHz"
+               + (f", and returns centred near {rx:.1f} MHz as the path eats the top of the pulse's "
+                  "spectrum" if rx < opt.floor_mhz <= reach_high else "")
+               + f"; at that frequency the finest detail is about {best_detail:.1f} mm.")
     return summary, [Finding("band.detail_unreachable", "warning",
                              "Needed detail not reachable from this window", msg, values, sources,
                              explanation)]
