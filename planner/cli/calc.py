@@ -14,12 +14,13 @@ from planner.errors import InputError
 from planner.numbers import NumberError, parse_number
 
 __all__ = ["LIMITS", "doppler_result", "interface_result", "parse_layers", "path_result",
-           "register"]
+           "register", "tilt_result"]
 
 ANGLE_ERROR_DEG = 5.0
 """Angle uncertainty used for the velocity-error figures. [deg]"""
 
-LIMITS = {"--frequency-mhz": (0.01, 100.0), "--bandwidth-fraction": (0.0, 1.5), "--depth-cm": (0.01, 100.0), "thickness": (1e-4, 100.0),
+LIMITS = {"--frequency-mhz": (0.01, 100.0), "--bandwidth-fraction": (0.0, 1.5),
+          "--aperture-mm": (0.1, 200.0), "--focus-cm": (0.01, 100.0), "--depth-cm": (0.01, 100.0), "thickness": (1e-4, 100.0),
           "--velocity-cm-s": (-2000.0, 2000.0), "--z1": (1e-5, 100.0), "--z2": (1e-5, 100.0),
           "--c1": (1.0, 20000.0), "--c2": (1.0, 20000.0)}
 """Plausibility ranges of the quick calculations (inclusive): far wider than any diagnostic
@@ -35,7 +36,7 @@ def _in_range(option: str, value: float | None) -> None:
 
 
 def register(sub: argparse._SubParsersAction) -> None:
-    """Add ``calc interface``, ``calc path`` and ``calc doppler`` to ``sub``."""
+    """Add ``calc interface``, ``calc path``, ``calc tilt`` and ``calc doppler`` to ``sub``."""
     calc = sub.add_parser("calc", help="quick physics calculations")
     calc_sub = calc.add_subparsers(dest="calc_command", required=True)
 
@@ -60,6 +61,16 @@ def register(sub: argparse._SubParsersAction) -> None:
                         "(0 or absent: a single frequency)")
     p.add_argument("--json", action="store_true")
     p.set_defaults(func=run_path)
+
+    p = calc_sub.add_parser("tilt", help="specular tilt tolerance of a focused aperture (wave model)")
+    p.add_argument("--aperture-mm", type=finite_float, required=True,
+                   help="width of the 1-D aperture (scan plane: active aperture; elevation: lens) [mm]")
+    p.add_argument("--depth-cm", type=finite_float, required=True, help="depth of the mirror [cm]")
+    p.add_argument("--frequency-mhz", type=finite_float, required=True)
+    p.add_argument("--focus-cm", type=finite_float,
+                   help="fixed focus, e.g. the elevation lens [cm] (default: focused at the depth)")
+    p.add_argument("--json", action="store_true")
+    p.set_defaults(func=run_tilt)
 
     p = calc_sub.add_parser("doppler", help="Nyquist limit, shift and angle error at a depth")
     p.add_argument("--depth-cm", type=finite_float, required=True)
@@ -217,6 +228,32 @@ def run_path(args) -> int:
               f"{result['received_centre_mhz']:.2f} MHz (shifted down from {args.frequency_mhz:g})")
     print(f"  true depth {result['true_depth_cm']:.2f} cm, displayed {result['displayed_depth_cm']:.2f} cm "
           f"(error {result['depth_error_mm']:+.1f} mm at 1540 m/s)")
+    return 0
+
+
+def tilt_result(aperture_mm: float, depth_cm: float, frequency_mhz: float,
+                focus_cm: float | None) -> dict:
+    """The quick tilt calculation as a JSON-ready dict (:mod:`planner.physics.specular`)."""
+    from planner.physics import beam, specular
+    for option, value in (("--aperture-mm", aperture_mm), ("--depth-cm", depth_cm),
+                          ("--frequency-mhz", frequency_mhz), ("--focus-cm", focus_cm)):
+        _in_range(option, value)
+    tol = specular.specular_tolerance_wave_deg(aperture_mm, depth_cm, frequency_mhz, focus_cm)
+    return {"aperture_mm": aperture_mm, "depth_cm": depth_cm, "frequency_mhz": frequency_mhz,
+            "focus_cm": focus_cm, "tolerance_deg": tol,
+            "geometric_tolerance_deg": float(beam.specular_tolerance_deg(aperture_mm / 2.0, depth_cm))}
+
+
+def run_tilt(args) -> int:
+    result = tilt_result(args.aperture_mm, args.depth_cm, args.frequency_mhz, args.focus_cm)
+    if args.json:
+        emit_json(result)
+        return 0
+    focus = f"focus {args.focus_cm:g} cm" if args.focus_cm is not None else "focused at the depth"
+    print(f"Flat mirror at {args.depth_cm:g} cm, {args.aperture_mm:g} mm aperture ({focus}), "
+          f"{args.frequency_mhz:g} MHz")
+    print(f"  echo halves at a tilt of {result['tolerance_deg']:.1f} deg (wave model)")
+    print(f"  geometric rule 0.5 atan(a/z): {result['geometric_tolerance_deg']:.1f} deg")
     return 0
 
 

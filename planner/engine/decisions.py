@@ -13,7 +13,7 @@ from planner.engine.context import RuleContext
 from planner.engine.model import (DisplayDecision, FrequencyBand, HarmonicDecision, TiltDecision,
                                   TransmitBand)
 from planner.findings import Finding
-from planner.physics import beam
+from planner.physics import beam, specular
 from planner.physics.constants import HARMONIC_CONVERSION_LOSS_DB, SIGNAL_BUDGET_DIFFUSE_DB, \
     SPECULAR_ALLOWANCE_DB
 
@@ -142,9 +142,11 @@ def tilt_decision(ctx: RuleContext) -> tuple[TiltDecision, list[Finding]]:
                             "Diffuse echoes do not depend on the beam angle: choose the tilt for the "
                             "window (shortest path, fewest shadows), not for the target."), []
     probe = opt.probe
-    half_scan = min(probe.aperture_mm / 2.0, depth * 10.0 / (2.0 * probe.receive_f_number))
-    scan = float(beam.specular_tolerance_deg(half_scan, depth))
-    elev = float(beam.specular_tolerance_deg(probe.elevation_aperture_mm / 2.0, depth))
+    freq = max(min(opt.high_mhz, probe.high_mhz), probe.low_mhz)
+    scan_mm = min(probe.aperture_mm, depth * 10.0 / probe.receive_f_number)
+    scan = specular.specular_tolerance_wave_deg(scan_mm, depth, freq)
+    elev = specular.specular_tolerance_wave_deg(probe.elevation_aperture_mm, depth, freq,
+                                                probe.elevation_focus_cm)
     tol = min(scan, elev)
     names = ", ".join(s.name for s in surfaces)
     angled = [s for s in surfaces if s.tilt_from_skin_deg > tol]
@@ -156,13 +158,19 @@ def tilt_decision(ctx: RuleContext) -> tuple[TiltDecision, list[Finding]]:
         advice += (f" The {s.name} lies about {s.tilt_from_skin_deg:.0f} deg to the skin: angle the probe by "
                    "that much to meet it square on.")
     values = {"scan_plane_deg": _r(scan), "elevation_plane_deg": _r(elev), "depth_cm": _r(depth),
-              "half_aperture_scan_mm": _r(half_scan), "half_aperture_elevation_mm":
-              _r(probe.elevation_aperture_mm / 2.0)}
+              "frequency_mhz": _r(freq, 2), "aperture_scan_mm": _r(scan_mm),
+              "aperture_elevation_mm": _r(probe.elevation_aperture_mm),
+              "elevation_focus_cm": probe.elevation_focus_cm,
+              "geometric_scan_plane_deg": _r(beam.specular_tolerance_deg(scan_mm / 2.0, depth)),
+              "geometric_elevation_plane_deg": _r(beam.specular_tolerance_deg(
+                  probe.elevation_aperture_mm / 2.0, depth))}
     findings = [Finding("tilt.specular", "advice", "Tilt tolerance for mirror-like surfaces", advice,
-                        values, ("Crass1988", "RCEMSpecular"),
-                        "A flat mirror-like surface tilted by theta returns its echo at 2 theta; the echo "
-                        "still meets the receive aperture of half-width a at depth z while "
-                        "tan(2 theta) <= a/z, so the tolerance is 0.5 atan(a/z) in each plane.")]
+                        values, ("Crass1988", "RCEMSpecular", "KinslerFrey2000"),
+                        "A flat mirror-like surface tilted by theta returns its echo at 2 theta. The "
+                        "tolerance is the tilt that halves the echo in a wave (Fresnel) model of each "
+                        "plane: the scan plane's active aperture focused at the depth on receive, the "
+                        "elevation lens with its fixed focus. Near a focus it is about 0.5 atan(a/z); "
+                        "away from the lens focus the beam's divergence sets it.")]
     if target.target_tissue == "tendon":
         findings.append(Finding(
             "tilt.anisotropy", "caution", "Anisotropy can mimic a tear",
