@@ -168,8 +168,8 @@ def probe_arrays(probes, window, depth_cm, detail_mm: float, ceiling_mhz,
     ``rows, cols`` (the broadband downshift). The detail is only given where that received
     centre is not below the floor. As the transmit centre rises, the received centre first
     rises and then falls (deep paths eat the top of the spectrum), so where the band top's echo
-    is too low the band top moves down to the highest of :data:`DETAIL_TOP_SAMPLES` transmit
-    centres between the band's ends whose echo still gives the detail.
+    is too low the best of :data:`DETAIL_TOP_SAMPLES` transmit centres between the band's ends
+    decides. The band's top stays the reach ceiling.
     """
     probes = tuple(probes)
     depth = np.atleast_1d(np.asarray(depth_cm, dtype=float))[:, None]                 # (N, 1)
@@ -198,14 +198,10 @@ def probe_arrays(probes, window, depth_cm, detail_mm: float, ceiling_mhz,
         short = feasible & (received_mhz < floor - 1e-9)
         if short.any():
             r, c = np.nonzero(short)
-            f0 = np.geomspace(low[r, c] if low.ndim == 2 else np.broadcast_to(low, high.shape)[r, c],
-                              high[r, c], DETAIL_TOP_SAMPLES, axis=-1)
+            f0 = np.geomspace(np.broadcast_to(low, high.shape)[r, c], high[r, c], DETAIL_TOP_SAMPLES,
+                              axis=-1)
             rx = received(r, c, f0)
-            ok = rx >= floor[r, c][:, None] - 1e-9
-            last = DETAIL_TOP_SAMPLES - 1 - np.argmax(ok[:, ::-1], axis=1)
-            found = ok.any(axis=1)
-            high[r[found], c[found]] = f0[found, last[found]]
-            received_mhz[r[found], c[found]] = rx[found, last[found]]
+            received_mhz[r, c] = rx.max(axis=1)      # the best echo centre the band can give
         feasible &= received_mhz >= floor - 1e-9
     best = choose_probe_index(probes, fit, feasible, high, list(preferred))
     return ProbeArrays(probes, fit, floor, low, high, f_num, feasible, best, received_mhz)
