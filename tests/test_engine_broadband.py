@@ -14,7 +14,7 @@ from planner.body.patient import Patient
 from planner.cli import main
 from planner.engine import PlanRequest, make_plan
 from planner.engine.serialize import plan_to_json_data
-from planner.physics import aberration
+from planner.physics import aberration, broadband
 
 
 def _plan(target, **kw):
@@ -69,13 +69,50 @@ def test_broadband_pulse_reaches_higher_than_a_single_frequency(tmp_path):
     assert broad.window.reach_ceiling_mhz > narrow.window.reach_ceiling_mhz * 1.2
 
 
-def test_deep_obese_path_keeps_detail_unreachable_when_the_echo_shifts_down():
-    """BMI 60 with severe steatosis: the pulse's top is eaten, its echo returns centred below the
-    detail floor, so the detail stays out of reach (Kuc1984 downshift)."""
+def test_linear_loss_moves_the_spectrum_without_narrowing_it():
+    """Kuc1984: |S|^2 exp(-K f / 4.343) of a Gaussian |S|^2 is a Gaussian of the same width, so the
+    received pulse is as long as the transmitted one and axial resolution (half the spatial pulse
+    length, Kremkau2015) holds; checked by direct integration of the spectrum."""
+    import numpy as np
+    f = np.linspace(0.0, 20.0, 200001)
+    s = broadband.spectrum_sigma_mhz(5.0, 0.6)
+    sent = np.exp(-((f - 5.0) / s) ** 2)
+    got = sent * 10 ** (-(2 * 0.5 * 8.0) * f / 10.0)            # 8 cm of 0.5 dB/cm/MHz, y = 1
+
+    def spread(p):
+        m = np.trapezoid(p * f, f) / np.trapezoid(p, f)
+        return m, np.sqrt(np.trapezoid(p * (f - m) ** 2, f) / np.trapezoid(p, f))
+    (m0, w0), (m1, w1) = spread(sent), spread(got)
+    assert m1 < m0 - 1.0 and w1 == pytest.approx(w0, rel=1e-3)
+
+
+def test_deep_obese_path_keeps_the_best_band_with_a_downshift_caution():
+    """BMI 60 with severe steatosis: the pulse's top is eaten and its echo returns centred below the
+    detail floor (Kuc1984 downshift). The detail is judged at the transmit centre (axial =
+    spatial pulse length / 2, lateral = wavelength x F-number at the transmit frequency;
+    Kremkau2015), so the band stays recommended, with a caution giving the coarser lateral
+    detail of the two-way beam (Gaussian product of transmit and receive beams, derived)."""
     plan = _plan("hepatic-veins", bmi=60, conditions={"steatosis": 3})
-    assert plan.frequency_mhz.feasible is False
-    band = next(f for f in plan.findings if f.code == "band.detail_unreachable")
-    assert band.values["received_centre_mhz"] < band.values["detail_floor_mhz"]
+    assert plan.frequency_mhz.feasible is True
+    caution = next(f for f in plan.findings if f.code == "band.echo_downshift")
+    v = caution.values
+    assert caution.severity == "caution"
+    assert v["received_centre_mhz"] < v["detail_floor_mhz"] <= v["band_top_mhz"]
+    ratio = v["received_centre_mhz"] / v["band_top_mhz"]
+    assert v["lateral_detail_two_way_mm"] == pytest.approx(
+        v["lateral_detail_transmit_mm"] * math.sqrt(2 / (1 + ratio ** 2)), abs=0.02)
+    lam_f = 1.54 / v["band_top_mhz"] * v["f_number"]               # wavelength x F-number [mm]
+    assert v["lateral_detail_transmit_mm"] == pytest.approx(lam_f, abs=0.02)
+
+
+def test_fetal_head_through_a_thick_wall_is_planned_at_low_frequency():
+    """Fetal head biometry is done transabdominally at 6-14 cm (deeper when obese) with a 2-6 MHz
+    curved array (PRACTICE.md table, common practice): through a BMI 45 wall the plan recommends
+    a band at the low end of that range, not "detail not reachable"."""
+    plan = _plan("fetal-head", bmi=45)
+    assert plan.frequency_mhz.feasible is True
+    assert plan.frequency_mhz.low <= 3.0
+    assert not any(f.code == "band.detail_unreachable" for f in plan.findings)
 
 
 def test_calc_path_broadband_matches_kuc_shift(capsys):

@@ -12,7 +12,7 @@ import numpy as np
 
 from planner.body.stack import LayerStack, StackBatch
 from planner.engine.batch import (FIT_CODES, STRONG_TISSUES, WindowBatch, assess_batch,  # noqa: F401
-                                  loss_terms, probe_fit, signal_budget_db)
+                                  grouped_terms, loss_terms, probe_fit, signal_budget_db)
 from planner.library.probes import Probe, ProbeInventory
 from planner.library.targets import Window
 from planner.physics import aberration, beam, broadband
@@ -61,6 +61,9 @@ class WindowAssessment:
     """Fractional bandwidth of the chosen probe's pulse (0: narrowband). [-]"""
     low_edge_mhz: float = 0.0
     """Lowest frequency of the chosen probe. [MHz]"""
+    probe_ceiling_mhz: float = 0.0
+    """Reach ceiling with the chosen probe's own pulse; ``ceiling_mhz`` is the window's (the
+    highest of the probes the engine chooses from, :class:`planner.engine.batch.WindowBatch`). [MHz]"""
 
     @property
     def feasible(self) -> bool:
@@ -69,7 +72,9 @@ class WindowAssessment:
     def _pulse(self, frequency_mhz: float) -> tuple[float, float]:
         memo = self.memo
         if frequency_mhz not in memo:
-            k, y = loss_terms(self.arrays, self.sigma_ns)
+            if "terms" not in memo:
+                memo["terms"] = grouped_terms(self.arrays, self.sigma_ns)
+            k, y = memo["terms"]
             loss, centre = broadband.broadband_loss_db(k, y, frequency_mhz, self.bandwidth_fraction,
                                                        self.low_edge_mhz)
             memo[frequency_mhz] = (float(loss) + self.interface_loss_db, float(centre))
@@ -111,7 +116,8 @@ def assessment_at(batch: WindowBatch, row: int, window, stack: LayerStack | None
                             options[best_index] if best_index >= 0 else None, arr,
                             sigma_ns=float(batch.sigma_ns[row]),
                             bandwidth_fraction=float(batch.bandwidth_fraction[row]),
-                            low_edge_mhz=float(batch.low_edge_mhz[row]))
+                            low_edge_mhz=float(batch.low_edge_mhz[row]),
+                            probe_ceiling_mhz=float(batch.probe_ceiling_mhz[row]))
 
 
 def assess_window(stack: LayerStack, window, target, inventory: ProbeInventory) -> WindowAssessment:

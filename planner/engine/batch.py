@@ -10,12 +10,12 @@ same probe choice and the same feasibility test. Every number comes from
 from __future__ import annotations
 
 from dataclasses import dataclass
+from functools import lru_cache
 
 import numpy as np
 
-from planner.body.stack import StackBatch
+from planner.body.stack import FAT_ROLES, StackBatch
 from planner.library.probes import Probe
-from planner.body.stack import FAT_ROLES
 from planner.physics import aberration, attenuation, beam, broadband, sound_speed
 from planner.physics.constants import (HARMONIC_CONVERSION_LOSS_DB, SIGNAL_BUDGET_DIFFUSE_DB,
                                        SPECULAR_ALLOWANCE_DB)
@@ -26,9 +26,6 @@ ABERRATING_ROLES = FAT_ROLES | {"muscle"}
 STRONG_TISSUES = frozenset({"cortical_bone", "cartilage", "tendon", "lung", "air"})
 """Target tissues whose decisive echo is a strong specular interface (bone surfaces, fibrillar
 tendon, the lung or diaphragm surface); vessel and cyst walls are specular but weak."""
-
-DETAIL_TOP_SAMPLES: int = 9
-"""Transmit centres tried between the band's ends when the band top's echo is too low. [-]"""
 
 FIT_CODES: tuple[str, ...] = ("fits", "aligned", "blocked", "n/a")
 """Footprint fit of a probe at a window, as codes 0-3 in the arrays."""
@@ -78,51 +75,70 @@ def loss_terms(arrays: dict, sigma_ns, harmonic: bool = False) -> tuple[np.ndarr
     return np.concatenate([k, ab], axis=-1), np.concatenate([y, np.full(ab.shape, 2.0)], axis=-1)
 
 
+def grouped_terms(arrays: dict, sigma_ns, harmonic: bool = False) -> tuple[np.ndarray, np.ndarray]:
+    """:func:`loss_terms` with the terms of equal exponent summed: ``K`` (N, U), ``Y`` (U,).
+
+    The sum ``sum_i k_i f^y_i`` is unchanged; fewer terms make every loss evaluation cheaper.
+    """
+    return broadband.group_exponents(*loss_terms(arrays, sigma_ns, harmonic))
+
+
 def pulse_groups(probes) -> list[tuple[float, float]]:
     """The distinct pulses of an inventory: (bandwidth fraction, lowest frequency) pairs."""
     return sorted({(p.bandwidth_fraction, p.low_mhz) for p in probes})
 
 
-def ceilings_mhz(arrays: dict, budget_db: float, interface_db, sigma_ns=0.0,
-                 pulses=((0.0, 0.0),)) -> tuple[np.ndarray, np.ndarray]:
-    """Fundamental and harmonic (transmit) reach ceilings for N stacks and each pulse. [MHz]
+def ceilings_mhz(terms: tuple[np.ndarray, np.ndarray], budget_db, pulses, edge_factor: float = 1.0,
+                 narrow_mhz=None) -> np.ndarray:
+    """Reach ceilings of N stacks for each pulse, shape (N, G). [MHz]
 
-    Returns two arrays of shape (N, G), one column per ``(bandwidth, low edge)`` pulse: the
-    highest centre frequency whose broadband round-trip loss (layers and wall aberration,
-    :func:`planner.physics.broadband.broadband_loss_db`) plus the interface losses stays within
-    the budget; the harmonic also pays the stated conversion loss.
+    ``terms`` are the grouped loss terms (:func:`grouped_terms`), ``budget_db`` (N,) the budget
+    left after the interface (and, for the harmonic, conversion) losses, ``pulses`` G
+    ``(bandwidth, low edge)`` pairs (``edge_factor`` scales the edges: 0.5 for a harmonic
+    transmit). The ceiling is the highest centre frequency whose broadband round-trip loss
+    (layers and wall aberration, :func:`planner.physics.broadband.broadband_loss_db`) fits;
+    all pulses are solved in one vectorised call from the shared narrowband root.
     """
-    iface = np.asarray(interface_db, dtype=float)
-    kf, yf = loss_terms(arrays, sigma_ns)
-    kh, yh = loss_terms(arrays, sigma_ns, harmonic=True)
-    n = kf.shape[0]
-    budget = np.stack([np.broadcast_to(budget_db - iface, (n,)),
-                       np.broadcast_to(budget_db - iface - HARMONIC_CONVERSION_LOSS_DB.value, (n,))])
-    k, y = np.stack([kf, kh])[:, None], np.stack([yf, yh])[:, None]              # (2, 1, N, n)
-    bandwidth = np.array([bw for bw, _ in pulses])[None, :, None]                 # (1, G, 1)
-    edge = np.array([e for _, e in pulses])[None, :, None] * np.array([1.0, 0.5])[:, None, None]
-    both = broadband.broadband_ceiling_mhz(k, y, budget[:, None, :], bandwidth, edge)  # (2, G, N)
-    return np.moveaxis(both[0], 0, -1), np.moveaxis(both[1], 0, -1)
+    k, y = terms
+    budget = np.broadcast_to(np.asarray(budget_db, dtype=float), k.shape[:-1])
+    if narrow_mhz is None:
+        narrow_mhz = attenuation.solve_power_sum_mhz(k, y, budget)
+    bw = np.array([p[0] for p in pulses], dtype=float)[None, :]
+    edge = np.array([p[1] for p in pulses], dtype=float)[None, :] * edge_factor
+    return broadband.broadband_ceiling_mhz(k[:, None, :], y, budget[:, None], bw, edge,
+                                           narrow_mhz=np.asarray(narrow_mhz)[:, None])
 
 
-def probe_ceilings_mhz(arrays: dict, budget_db: float, interface_db, sigma_ns, probes,
-                       usual_types) -> tuple[np.ndarray, np.ndarray]:
-    """Fundamental and harmonic ceilings of every probe, shape (N, P). [MHz]
+def choice_pool(probes, fit: np.ndarray, usual_types) -> np.ndarray:
+    """(N, P) the probes :func:`choose_probe_index` chooses from: the available probes of the
+    target's usual types, or every available probe when none of them is available."""
+    available = fit != 3
+    usual = available & np.array([p.type in usual_types for p in probes], dtype=bool)[None, :]
+    return np.where(usual.any(axis=1, keepdims=True), usual, available)
 
-    The broadband solution is computed once per distinct pulse of the probes the target is
-    examined with (:func:`choose_probe_index` never picks another type while one of them is
-    available); the other probes get the single-frequency ceiling (used only for a row where
-    none of the usual probes is available). When the inventory has none of those types, every
-    probe gets its broadband ceiling.
+
+def probe_ceilings_mhz(terms, budget_db, probes, candidates: np.ndarray,
+                       narrow_mhz=None) -> np.ndarray:
+    """Fundamental reach ceiling of every probe, shape (N, P). [MHz]
+
+    Each probe's own pulse (bandwidth, and its lowest frequency as the edge of the received
+    spectrum) is integrated for the ``candidates`` (P,) (the probes any row may choose, see
+    :func:`choice_pool`), once per distinct pulse; the other probes, which no row can choose,
+    get the single-frequency ceiling (they are shown, never used).
     """
-    probes = tuple(probes)
-    usual = [p for p in probes if p.type in usual_types] or list(probes)
-    pulses = pulse_groups(usual)
-    cf, ch = ceilings_mhz(arrays, budget_db, interface_db, sigma_ns,
-                          pulses + ([(0.0, 0.0)] if len(usual) < len(probes) else []))
-    index = [pulses.index((p.bandwidth_fraction, p.low_mhz)) if p in usual else len(pulses)
-             for p in probes]
-    return cf[:, index], ch[:, index]
+    k, _ = terms
+    budget = np.broadcast_to(np.asarray(budget_db, dtype=float), k.shape[:-1])
+    if narrow_mhz is None:
+        narrow_mhz = attenuation.solve_power_sum_mhz(k, terms[1], budget)
+    pulses = pulse_groups([p for p, c in zip(probes, candidates) if c])
+    out = np.repeat(np.asarray(narrow_mhz, dtype=float)[:, None], len(probes), axis=1)
+    if not pulses:
+        return out
+    solved = ceilings_mhz(terms, budget, pulses, narrow_mhz=narrow_mhz)
+    for j, (p, c) in enumerate(zip(probes, candidates)):
+        if c:
+            out[:, j] = solved[:, pulses.index((p.bandwidth_fraction, p.low_mhz))]
+    return out
 
 
 def wall_sigma_ns(stacks: StackBatch) -> np.ndarray:
@@ -148,28 +164,45 @@ class ProbeArrays:
     feasible: np.ndarray
     best: np.ndarray
     """(N,) index of the chosen probe, -1 when no probe can be used."""
-    received_mhz: np.ndarray | None = None
-    """(N, P) centre frequency of the echo from the target at the band top (downshifted). [MHz]"""
+
+    def rows(self, rows: slice) -> "ProbeArrays":
+        """The same arrays for a slice of the rows."""
+        return ProbeArrays(self.probes, self.fit[rows], self.floor_mhz[rows], self.low_mhz[rows],
+                           self.high_mhz[rows], self.f_number[rows], self.feasible[rows],
+                           self.best[rows])
+
+
+@lru_cache(maxsize=64)
+def probe_constants(probes: tuple[Probe, ...]) -> dict[str, np.ndarray]:
+    """Per-probe constants as (1, P) arrays, computed once per inventory."""
+    row = lambda name: np.array([getattr(p, name) for p in probes], dtype=float)[None, :]  # noqa: E731
+    return {name: row(name) for name in ("receive_f_number", "aperture_mm", "pulse_cycles", "low_mhz",
+                                          "high_mhz", "bandwidth_fraction")}
 
 
 def probe_arrays(probes, window, depth_cm, detail_mm: float, ceiling_mhz,
-                 preferred, received=None) -> ProbeArrays:
+                 preferred) -> ProbeArrays:
     """Detail floor, band, feasibility and the chosen probe for N depths and reach ceilings.
 
     ``window`` is the window (every row) or an (N, P) array of fit codes (rows from several
-    windows).
+    windows); ``ceiling_mhz`` is (N,) or each probe's own ceiling (N, P).
 
-    The detail floor is the lowest frequency at which both the axial resolution (pulse cycles
-    x wavelength / 2) and the lateral resolution at focus (wavelength x F-number, the receive
-    F-number or depth over aperture when deeper) are as fine as ``detail_mm``
-    (:func:`planner.physics.beam.min_frequency_axial_mhz`, ``min_frequency_lateral_mhz``).
-    ``received(rows, cols, f0)``, when given, is the centre frequency of the echo that returns
-    from the target for transmit centres ``f0`` (shape (m, J)) of the (row, probe) pairs
-    ``rows, cols`` (the broadband downshift). The detail is only given where that received
-    centre is not below the floor. As the transmit centre rises, the received centre first
-    rises and then falls (deep paths eat the top of the spectrum), so where the band top's echo
-    is too low the best of :data:`DETAIL_TOP_SAMPLES` transmit centres between the band's ends
-    decides. The band's top stays the reach ceiling.
+    The detail floor is the lowest transmit centre frequency at which both the axial
+    resolution (pulse cycles x wavelength / 2, half the spatial pulse length) and the lateral
+    resolution at focus (wavelength x F-number, the receive F-number or depth over aperture
+    when deeper) are as fine as ``detail_mm`` (:func:`planner.physics.beam.min_frequency_axial_mhz`,
+    ``min_frequency_lateral_mhz``; Kremkau2015, from memory). A probe gives the detail when
+    its band, cut at the reach ceiling, still reaches the floor.
+
+    Decision: the detail is judged at the transmit centre, not at the downshifted centre of
+    the echo. Axial resolution is half the spatial pulse length, and the pulse length is set
+    by the bandwidth in Hz: a Gaussian spectrum through a loss linear in frequency keeps its
+    width and only moves down (Kuc1984: ``f0 - 4 alpha sigma^2 z`` with sigma unchanged), so
+    the received pulse is as short as the transmitted one and judging it as "the same number
+    of cycles at the lower centre" would lengthen it twice over. The lateral beam is formed on
+    transmit at the transmit frequency; only the receive half of the two-way beam widens with
+    the downshift. The plan reports that as a caution (``band.echo_downshift``), without
+    turning a band a sonographer would use into an infeasible one.
     """
     probes = tuple(probes)
     depth = np.atleast_1d(np.asarray(depth_cm, dtype=float))[:, None]                 # (N, 1)
@@ -177,34 +210,16 @@ def probe_arrays(probes, window, depth_cm, detail_mm: float, ceiling_mhz,
     ceiling = ceiling if ceiling.ndim == 2 else np.atleast_1d(ceiling)[:, None]     # (N, P) or (N, 1)
     fit = np.broadcast_to(window if isinstance(window, np.ndarray) else fit_codes(probes, window),
                           (depth.shape[0], len(probes)))
-    rf = np.array([p.receive_f_number for p in probes])[None, :]
-    aperture = np.array([p.aperture_mm for p in probes])[None, :]
-    cycles = np.array([p.pulse_cycles for p in probes])[None, :]
-    p_low = np.array([p.low_mhz for p in probes])[None, :]
-    p_high = np.array([p.high_mhz for p in probes])[None, :]
-    f_num = np.maximum(rf, depth * 10.0 / aperture)
-    floor = np.maximum(beam.min_frequency_axial_mhz(detail_mm, cycles),
+    const = probe_constants(probes)
+    p_low, p_high = const["low_mhz"], const["high_mhz"]
+    f_num = np.maximum(const["receive_f_number"], depth * 10.0 / const["aperture_mm"])
+    floor = np.maximum(beam.min_frequency_axial_mhz(detail_mm, const["pulse_cycles"]),
                        beam.min_frequency_lateral_mhz(detail_mm, f_num))
-    high = np.minimum(p_high, ceiling)
+    high = np.broadcast_to(np.minimum(p_high, ceiling), fit.shape)
     low = np.maximum(p_low, floor)
-    usable = fit <= 1
-    feasible = usable & (high >= p_low) & (low <= high)
-    high = np.broadcast_to(high, feasible.shape).copy()
-    received_mhz = high.copy()
-    if received is not None:
-        rows, cols = np.indices(feasible.shape).reshape(2, -1)
-        top = np.maximum(high, np.broadcast_to(p_low, high.shape)).ravel()
-        received_mhz = received(rows, cols, top[:, None])[:, 0].reshape(high.shape)
-        short = feasible & (received_mhz < floor - 1e-9)
-        if short.any():
-            r, c = np.nonzero(short)
-            f0 = np.geomspace(np.broadcast_to(low, high.shape)[r, c], high[r, c], DETAIL_TOP_SAMPLES,
-                              axis=-1)
-            rx = received(r, c, f0)
-            received_mhz[r, c] = rx.max(axis=1)      # the best echo centre the band can give
-        feasible &= received_mhz >= floor - 1e-9
+    feasible = (fit <= 1) & (high >= p_low) & (low <= high)
     best = choose_probe_index(probes, fit, feasible, high, list(preferred))
-    return ProbeArrays(probes, fit, floor, low, high, f_num, feasible, best, received_mhz)
+    return ProbeArrays(probes, fit, floor, low, high, f_num, feasible, best)
 
 
 def choose_probe_index(probes, fit: np.ndarray, feasible: np.ndarray, high_mhz: np.ndarray,
@@ -212,17 +227,15 @@ def choose_probe_index(probes, fit: np.ndarray, feasible: np.ndarray, high_mhz: 
     """The probe a sonographer would pick, for N patients at once: index per row, -1 for none.
 
     Only the target's usual probe types are considered when the inventory has any of them
-    (a linear array is not a cardiac probe, however well it reaches); among them a usable
-    footprint comes first, then a band that gives the needed detail, then one that reaches at
-    all, then the usual order (or, when nothing reaches, the most penetrating probe: the
-    lowest band), then a clean footprint fit, then the highest reachable frequency. The keys
-    are compared in that order (lexicographic minimum per row).
+    (a linear array is not a cardiac probe, however well it reaches; :func:`choice_pool`);
+    among them a usable footprint comes first, then a band that gives the needed detail, then
+    one that reaches at all, then the usual order (or, when nothing reaches, the most
+    penetrating probe: the lowest band), then a clean footprint fit, then the highest
+    reachable frequency. The keys are compared in that order (lexicographic minimum per row).
     """
     types = [p.type for p in probes]
-    available = fit != 3                                                                 # (N, P)
-    usual = available & np.array([t in preferred for t in types], dtype=bool)[None, :]
-    pool = np.where(usual.any(axis=1, keepdims=True), usual, available)
-    p_low = np.array([p.low_mhz for p in probes])[None, :]
+    pool = choice_pool(probes, fit, preferred)
+    p_low = probe_constants(tuple(probes))["low_mhz"]
     pref = np.array([preferred.index(t) if t in preferred else len(preferred) for t in types],
                     dtype=float)[None, :]
     reaches = high_mhz >= p_low
@@ -242,7 +255,11 @@ class WindowBatch:
     budget_db: float
     interface_loss_db: float
     ceiling_mhz: np.ndarray
+    """(N,) the window's reach ceiling: the highest of the reach ceilings of the probes the
+    engine chooses from (:func:`choice_pool`), so it depends on the window, the patient and the
+    inventory but not on which probe is chosen. [MHz]"""
     harmonic_ceiling_mhz: np.ndarray
+    """(N,) harmonic transmit ceiling with the chosen probe's pulse. [MHz]"""
     depth_cm: np.ndarray
     displayed_depth_cm: np.ndarray
     fat_error_mm: np.ndarray
@@ -254,19 +271,22 @@ class WindowBatch:
     """(N,) fractional bandwidth of the chosen probe's pulse (the first probe's when none)."""
     low_edge_mhz: np.ndarray
     """(N,) lowest frequency of the chosen probe. [MHz]"""
+    probe_ceiling_mhz: np.ndarray
+    """(N,) reach ceiling with the chosen probe's own pulse (its band's top is cut there). [MHz]"""
+
+    def _pulse(self, frequency_mhz):
+        k, y = grouped_terms(self.arrays, self.sigma_ns)
+        return broadband.broadband_loss_db(k, y, frequency_mhz, self.bandwidth_fraction,
+                                           self.low_edge_mhz)
 
     def loss_db(self, frequency_mhz) -> np.ndarray:
         """Round-trip broadband loss to the target at a centre frequency per patient: layers,
         wall aberration and interfaces (the chosen probe's pulse). [dB]"""
-        k, y = loss_terms(self.arrays, self.sigma_ns)
-        return broadband.broadband_loss_db(k, y, frequency_mhz, self.bandwidth_fraction,
-                                           self.low_edge_mhz)[0] + self.interface_loss_db
+        return self._pulse(frequency_mhz)[0] + self.interface_loss_db
 
     def received_centre_mhz(self, frequency_mhz) -> np.ndarray:
         """Mean frequency of the echo received from the target (the downshifted centre). [MHz]"""
-        k, y = loss_terms(self.arrays, self.sigma_ns)
-        return broadband.broadband_loss_db(k, y, frequency_mhz, self.bandwidth_fraction,
-                                           self.low_edge_mhz)[1]
+        return self._pulse(frequency_mhz)[1]
 
     def aberration_db(self, frequency_mhz) -> np.ndarray:
         """Round-trip focusing loss of the wall at a frequency (narrowband value). [dB]"""
@@ -280,9 +300,9 @@ class WindowBatch:
         return (best >= 0) & self.probes.feasible[rows, np.maximum(best, 0)]
 
 
-def assess_batch(stacks: StackBatch, target, inventory) -> WindowBatch:
+def assess_batch(stacks: StackBatch, target, inventory, also=()) -> WindowBatch:
     """Reach ceilings, depth errors and probe choice of one window for N patients."""
-    return assess_batches([stacks], target, inventory)[0]
+    return assess_batches([stacks], target, inventory, also)[0]
 
 
 def _padded(arrays: list[dict], key: str, fill: float, sizes: list[int], width: int) -> np.ndarray:
@@ -296,12 +316,14 @@ def _padded(arrays: list[dict], key: str, fill: float, sizes: list[int], width: 
     return out
 
 
-def assess_batches(stacks_list: list[StackBatch], target, inventory) -> list[WindowBatch]:
+def assess_batches(stacks_list: list[StackBatch], target, inventory, also=()) -> list[WindowBatch]:
     """Assess several windows (each for N patients) in one pass.
 
     The windows' rows are stacked (layers padded with zero thickness, which adds no loss),
     so the reach of every window and patient is solved at once and the probe choice made
-    once; the result is split back into one :class:`WindowBatch` per window.
+    once; the result is split back into one :class:`WindowBatch` per window. Each probe any
+    row may choose (and the probe ids in ``also``) gets its own broadband ceiling
+    (:func:`probe_ceilings_mhz`); the harmonic ceiling is solved for the chosen probe's pulse.
     """
     arrays = [s.arrays() for s in stacks_list]
     sizes = [a["thickness_cm"].shape[0] for a in arrays]
@@ -314,28 +336,28 @@ def assess_batches(stacks_list: list[StackBatch], target, inventory) -> list[Win
              "attenuation_exponent": _padded(arrays, "attenuation_exponent", 1.0, sizes, width)}
     iface_rows = np.concatenate([np.full(n, i) for n, i in zip(sizes, ifaces)])
     sigma = np.concatenate([wall_sigma_ns(st) for st in stacks_list])
-    ceil_fp, ceil_hp = probe_ceilings_mhz(joint, budget, iface_rows, sigma, inventory.probes,
-                                          target.probe_types)
+    probes = tuple(inventory.probes)
+    fit = np.concatenate([np.broadcast_to(fit_codes(probes, w), (n, len(probes)))
+                          for w, n in zip((_window_of(s, target) for s in stacks_list), sizes)], axis=0)
+    pool = choice_pool(probes, fit, target.probe_types)
+    candidates = pool.any(axis=0) | np.array([p.id in also for p in probes], dtype=bool)
+    terms_f = grouped_terms(joint, sigma)
+    terms_h = grouped_terms(joint, sigma, harmonic=True)
+    budget_f = budget - iface_rows
+    budget_h = budget_f - HARMONIC_CONVERSION_LOSS_DB.value
+    narrow = attenuation.solve_power_sum_mhz(np.stack([terms_f[0], terms_h[0]]),
+                                             np.stack([terms_f[1], terms_h[1]])[:, None, :],
+                                             np.stack([budget_f, budget_h]))
+    ceil_p = probe_ceilings_mhz(terms_f, budget_f, probes, candidates, narrow[0])
     depth = np.cumsum(thick, axis=1)[:, -1]        # in layer order, as LayerStack.depth_cm
-    windows = [_window_of(s, target) for s in stacks_list]
-    fit = np.concatenate([np.broadcast_to(fit_codes(inventory.probes, w), (n, len(inventory.probes)))
-                          for w, n in zip(windows, sizes)], axis=0)
-    k_all, y_all = loss_terms(joint, sigma)
-    bw_p = np.array([p.bandwidth_fraction for p in inventory.probes])[None, :]
-    edge_p = np.array([p.low_mhz for p in inventory.probes])[None, :]
-
-    def received(rows, cols, f0):
-        return broadband.broadband_loss_db(k_all[rows][:, None, :], y_all[rows][:, None, :], f0,
-                                           bw_p[0, cols][:, None], edge_p[0, cols][:, None],
-                                           passes=2)[1]
-
-    probes = probe_arrays(inventory.probes, fit, depth, target.detail_mm, ceil_fp, target.probe_types,
-                          received)
-    col = np.maximum(probes.best, 0)
-    rows_all = np.arange(col.size)
-    ceil_f, ceil_h = ceil_fp[rows_all, col], ceil_hp[rows_all, col]
-    bandwidth = np.array([p.bandwidth_fraction for p in inventory.probes])[col]
-    edge = np.array([p.low_mhz for p in inventory.probes])[col]
+    pa = probe_arrays(probes, fit, depth, target.detail_mm, ceil_p, target.probe_types)
+    rows_all = np.arange(depth.size)
+    col = np.maximum(pa.best, 0)
+    window_ceiling = np.where(pool.any(axis=1), np.where(pool, ceil_p, -np.inf).max(axis=1), narrow[0])
+    const = probe_constants(probes)
+    bandwidth, edge = const["bandwidth_fraction"][0, col], const["low_mhz"][0, col]
+    ceil_h = broadband.broadband_ceiling_mhz(terms_h[0], terms_h[1], budget_h, bandwidth, 0.5 * edge,
+                                             narrow_mhz=narrow[1])
     out, start = [], 0
     for stacks, arr, iface, n in zip(stacks_list, arrays, ifaces, sizes):
         rows = slice(start, start + n)
@@ -345,14 +367,11 @@ def assess_batches(stacks_list: list[StackBatch], target, inventory) -> list[Win
         fat_cols = np.array([lay.tissue.id == "fat" for lay in stacks.layers], dtype=bool)
         fat_err = (sound_speed.depth_error_mm(t[:, fat_cols], arr["speed_m_per_s"][fat_cols])
                    if fat_cols.any() else np.zeros(n))
-        pa = ProbeArrays(probes.probes, probes.fit[rows], probes.floor_mhz[rows], probes.low_mhz[rows],
-                         probes.high_mhz[rows], probes.f_number[rows], probes.feasible[rows],
-                         probes.best[rows], None if probes.received_mhz is None
-                         else probes.received_mhz[rows])
-        out.append(WindowBatch(stacks, budget, iface, ceil_f[rows], ceil_h[rows], depth[rows],
+        out.append(WindowBatch(stacks, budget, iface, window_ceiling[rows], ceil_h[rows], depth[rows],
                                np.asarray(shown, dtype=float),
-                               np.broadcast_to(np.asarray(fat_err, dtype=float), (n,)), pa, arr,
-                               sigma[rows], bandwidth[rows], edge[rows]))
+                               np.broadcast_to(np.asarray(fat_err, dtype=float), (n,)), pa.rows(rows),
+                               arr, sigma[rows], bandwidth[rows], edge[rows],
+                               ceil_p[rows_all, col][rows]))
     return out
 
 

@@ -264,7 +264,8 @@ def plan_depth_curves(assessment, band_low: float | None, band_high: float | Non
     and one frequency above it (None when the stack has no depth)."""
     option = assessment.best
     probe_band = (option.probe.low_mhz, option.probe.high_mhz) if option is not None else None
-    freqs = candidate_frequencies_mhz(band_low, band_high, assessment.ceiling_mhz, probe_band)
+    ceiling = assessment.ceiling_mhz if option is None else assessment.probe_ceiling_mhz
+    freqs = candidate_frequencies_mhz(band_low, band_high, ceiling, probe_band)
     if not freqs or assessment.stack.depth_cm <= 0:
         return None
     return DepthCurves(tuple(stack_acoustics(assessment.stack)), freqs, float(assessment.budget_db),

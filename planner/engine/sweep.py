@@ -68,7 +68,7 @@ def sweep(target_id: str, bmi, *, window_id: str | None = None, sex: str | None 
     patient = Patient(sex=sex, conditions=dict(conditions or {}), gestation_weeks=gestation_weeks)
     depth = None if depth_cm is None else np.broadcast_to(np.asarray(depth_cm, dtype=float), b.shape)
     stacks = build_stack_batch(patient, window, bmi=b, depth_cm=depth)
-    batch = assess_batch(stacks, target, inventory)
+    batch = assess_batch(stacks, target, inventory, also=(probe_id,) if probe_id else ())
     pa = batch.probes
     rows = np.arange(b.size)
     if probe_id:
@@ -168,7 +168,7 @@ def sweep_plans(request: PlanRequest, bmi) -> list[SweepRow]:
             low, high = float(wb.probes.low_mhz[i, col]), float(wb.probes.high_mhz[i, col])
         else:
             low = probe.low_mhz
-            high = max(low, min(probe.high_mhz, float(wb.ceiling_mhz[i])))
+            high = max(low, min(probe.high_mhz, float(wb.probe_ceiling_mhz[i])))
         harmonic = bool(harmonic_advised(wb, np.array([i]), np.array([col]), b[i:i + 1],
                                          target.harmonic_contraindicated)[0])
         out.append(SweepRow(float(b[i]), windows[chosen[i]].id, probe.id, round(high, 1), round(high, 1),

@@ -234,7 +234,7 @@ def linear_broadband_loss_db(alpha_np_per_cm_mhz, depth_cm, centre_mhz, bandwidt
 
 def broadband_ceiling_mhz(k, y, budget_db, bandwidth_fraction, low_edge_mhz=0.0,
                           low_mhz: float = 0.25, high_mhz: float = 40.0, iterations: int = 8,
-                          tolerance_db: float = 0.02, passes: int = 2):
+                          tolerance_db: float = 0.02, passes: int = 2, narrow_mhz=None):
     """Highest centre frequency whose broadband loss fits a budget (any exponents). [MHz]
 
     Parameters
@@ -249,6 +249,8 @@ def broadband_ceiling_mhz(k, y, budget_db, bandwidth_fraction, low_edge_mhz=0.0,
         (:func:`planner.physics.attenuation.solve_power_sum_mhz`).
     low_edge_mhz : float or array, shape (...)
         Lowest frequency received (:func:`broadband_loss_db`). [MHz]
+    narrow_mhz : array, shape (...), optional
+        The narrowband root of the same budget, when the caller has it already.
 
     Returns
     -------
@@ -258,54 +260,86 @@ def broadband_ceiling_mhz(k, y, budget_db, bandwidth_fraction, low_edge_mhz=0.0,
     Notes
     -----
     The loss rises with the centre frequency (every spectral component moves up with f0).
-    The narrowband root starts a safeguarded secant iteration in ``ln f`` (a bracket is kept;
-    a step leaving it bisects), stopped when the loss is within ``tolerance_db`` of the
-    budget; the answer is interpolated inside the final bracket. ``passes`` expansions of the
-    closed form are used (2 keep it within 0.3 dB of the integrated spectrum).
+    In ``u = ln f0`` the narrowband root starts a Newton step with the narrowband slope
+    ``sum y_i k_i f^y_i``, followed by at most ``iterations`` safeguarded secant steps (a
+    bracket is kept; a step leaving it bisects; steps are clipped to ``[low, high]`` so a
+    root outside the range ends on its boundary). Each step works only on the rows not yet
+    within ``tolerance_db`` of the budget; the answer is interpolated inside the final
+    bracket. ``passes`` expansions of the closed form are used (2 keep it within 0.3 dB of
+    the integrated spectrum).
     """
     from planner.physics.attenuation import solve_power_sum_mhz
     k, y = group_exponents(k, y)
-    b = np.asarray(bandwidth_fraction, dtype=float)
+    b_in = np.asarray(bandwidth_fraction, dtype=float)
     budget = np.asarray(budget_db, dtype=float)
     edge = np.asarray(low_edge_mhz, dtype=float)
-    shape = np.broadcast_shapes(budget.shape, k.shape[:-1], b.shape, edge.shape)
-    k = np.broadcast_to(k, shape + k.shape[-1:])
-    budget = np.broadcast_to(budget, shape)
-    narrow = solve_power_sum_mhz(k, y, budget, low_mhz, high_mhz)
-    if np.all(b < NARROWBAND_BELOW):
-        return narrow
-    b = np.broadcast_to(np.maximum(b, NARROWBAND_BELOW), shape)
-    edge = np.broadcast_to(edge, shape)
-    lo, hi = np.log(low_mhz), np.log(high_mhz)
-    u0 = np.clip(np.log(np.maximum(narrow, low_mhz)), lo, hi)
-    u1 = np.minimum(u0 + 0.3, hi)
-    u1 = np.where(u1 - u0 < 0.05, u0 - 0.3, u1)
-    start = np.stack(np.broadcast_arrays(lo, hi, u0, u1), axis=-1)
+    shape = np.broadcast_shapes(budget.shape, k.shape[:-1], b_in.shape, edge.shape)
+    kf = np.broadcast_to(k, shape + k.shape[-1:]).reshape(-1, k.shape[-1])
+    bud = np.broadcast_to(budget, shape).ravel()
+    narrow = (solve_power_sum_mhz(kf, y, bud, low_mhz, high_mhz) if narrow_mhz is None
+              else np.broadcast_to(np.asarray(narrow_mhz, dtype=float), shape).ravel())
+    b = np.broadcast_to(b_in, shape).ravel()
+    broad = b >= NARROWBAND_BELOW
+    result = narrow.astype(float).copy()
+    if not broad.any():
+        return result.reshape(shape)
+    idx = np.nonzero(broad)[0]
+    result[idx] = _ceiling_rows(kf[idx], y, bud[idx], b[idx],
+                                np.broadcast_to(edge, shape).ravel()[idx], narrow[idx],
+                                low_mhz, high_mhz, iterations, tolerance_db, passes)
+    return result.reshape(shape)
+
+
+def _ceiling_rows(k, y, budget, b, edge, narrow, low_mhz, high_mhz, iterations, tolerance_db,
+                  passes):
+    """:func:`broadband_ceiling_mhz` for flat rows (k of shape (M, U), the rest (M,))."""
     weights = _weights(y)
-    g = _loss(k[..., None, :], y, np.exp(start), b[..., None], edge[..., None], passes,
-              weights)[0] - budget[..., None]
-    ga, gb, g0, g1 = g[..., 0], g[..., 1], g[..., 2], g[..., 3]
-    top_fits, low_fits = gb <= 0.0, ga <= 0.0
-    a = np.full(shape, lo)
-    bb = np.full(shape, hi)
-    for u, gu in ((u0, g0), (u1, g1)):
-        a, ga = np.where((gu <= 0) & (u > a), u, a), np.where((gu <= 0) & (u > a), gu, ga)
-        bb, gb = np.where((gu > 0) & (u < bb), u, bb), np.where((gu > 0) & (u < bb), gu, gb)
-    active = ~(top_fits | ~low_fits)
-    for _ in range(iterations):
-        if not np.any(active & (np.minimum(-ga, gb) > tolerance_db)):
-            break
-        with np.errstate(divide="ignore", invalid="ignore"):
-            u2 = u1 - g1 * (u1 - u0) / (g1 - g0)
-        inside = np.isfinite(u2) & (u2 > a) & (u2 < bb)
-        u2 = np.where(inside, u2, 0.5 * (a + bb))
-        g2 = _loss(k, y, np.exp(u2), b, edge, passes, weights)[0] - budget
-        a, ga = np.where(g2 <= 0, u2, a), np.where(g2 <= 0, g2, ga)
-        bb, gb = np.where(g2 > 0, u2, bb), np.where(g2 > 0, g2, gb)
-        u0, g0, u1, g1 = u1, g1, u2, g2
+    lo, hi = float(np.log(low_mhz)), float(np.log(high_mhz))
+    m = budget.size
+    u0 = np.clip(np.log(np.maximum(narrow, low_mhz)), lo, hi)
+
+    def g_at(rows, u):
+        return _loss(k[rows], y, np.exp(u), b[rows], edge[rows], passes, weights)[0] - budget[rows]
+
+    rows = np.arange(m)
+    g0 = g_at(rows, u0)
+    a, ga = np.full(m, lo), np.full(m, np.nan)          # fits (g <= 0); NaN: not evaluated
+    bb, gb = np.full(m, hi), np.full(m, np.nan)         # does not fit (g > 0)
+    fit0 = g0 <= 0
+    a, ga = np.where(fit0, u0, a), np.where(fit0, g0, ga)
+    bb, gb = np.where(fit0, bb, u0), np.where(fit0, gb, g0)
+    slope = _power_sum(k, y, np.exp(u0), weights)[1] * np.exp(u0)          # dA / d ln f
     with np.errstate(divide="ignore", invalid="ignore"):
-        root = np.where(gb > ga, a - ga * (bb - a) / (gb - ga), a)
-    result = np.exp(np.clip(root, a, bb))
-    result = np.where(top_fits, high_mhz, result)
-    result = np.where(low_fits, result, 0.0)
-    return np.where(np.asarray(bandwidth_fraction) < NARROWBAND_BELOW, narrow, result)
+        u1 = u0 - g0 / np.maximum(slope, 1e-9)
+    u_prev, g_prev, u = u0, g0, np.clip(u1, lo, hi)
+    active = np.abs(g0) > tolerance_db
+    for _ in range(iterations + 1):
+        rows = np.nonzero(active)[0]
+        if rows.size == 0:
+            break
+        ur = u[rows]
+        gr = g_at(rows, ur)
+        fits = gr <= 0
+        a[rows] = np.where(fits, ur, a[rows])
+        ga[rows] = np.where(fits, gr, ga[rows])
+        bb[rows] = np.where(fits, bb[rows], ur)
+        gb[rows] = np.where(fits, gb[rows], gr)
+        done = (np.abs(gr) <= tolerance_db) | (fits & (ur >= hi)) | (~fits & (ur <= lo))
+        with np.errstate(divide="ignore", invalid="ignore"):
+            step = ur - gr * (ur - u_prev[rows]) / (gr - g_prev[rows])
+        ar, br = a[rows], bb[rows]
+        inside = np.isfinite(step) & (step > ar) & (step < br)
+        # outside the bracket: bisect a known bracket, else go to the unevaluated boundary
+        known = ~np.isnan(ga[rows]) & ~np.isnan(gb[rows])
+        step = np.where(inside, step, np.where(known, 0.5 * (ar + br),
+                                               np.where(np.isnan(ga[rows]), lo, hi)))
+        u_prev[rows], g_prev[rows] = ur, gr
+        u[rows] = step
+        active[rows] = ~done
+    both = ~np.isnan(ga) & ~np.isnan(gb)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        root = np.where(both & (gb > ga), a - ga * (bb - a) / (gb - ga), np.where(np.isnan(ga), bb, a))
+    out = np.exp(np.clip(root, a, bb))
+    top_fits = ~np.isnan(ga) & (a >= hi)                   # even the highest frequency fits
+    low_fails = ~np.isnan(gb) & (bb <= lo)                 # not even the lowest fits
+    return np.where(top_fits, high_mhz, np.where(low_fails, 0.0, out))
