@@ -60,7 +60,7 @@ class WindowAssessment:
     bandwidth_fraction: float = 0.0
     """Fractional bandwidth of the chosen probe's pulse (0: narrowband). [-]"""
     low_edge_mhz: float = 0.0
-    """Lowest frequency of the chosen probe. [MHz]"""
+    """Lower limit of the received spectrum (:data:`planner.engine.reach.RECEIVE_EDGE_MHZ`). [MHz]"""
     probe_ceiling_mhz: float = 0.0
     """Reach ceiling with the chosen probe's own pulse; ``ceiling_mhz`` is the window's (the
     highest of the probes the engine chooses from, :class:`planner.engine.batch.WindowBatch`). [MHz]"""
@@ -75,8 +75,8 @@ class WindowAssessment:
             if "terms" not in memo:
                 memo["terms"] = grouped_terms(self.arrays, self.sigma_ns)
             k, y = memo["terms"]
-            loss, centre = broadband.broadband_loss_db(k, y, frequency_mhz, self.bandwidth_fraction,
-                                                       self.low_edge_mhz)
+            loss, centre = broadband.pulse_loss_db(k, y, float(frequency_mhz), self.bandwidth_fraction,
+                                                   self.low_edge_mhz)
             memo[frequency_mhz] = (float(loss) + self.interface_loss_db, float(centre))
         return memo[frequency_mhz]
 

@@ -14,14 +14,13 @@ from functools import lru_cache
 
 import numpy as np
 
-from planner.body.stack import FAT_ROLES, StackBatch
+from planner.body.stack import StackBatch
+from planner.engine.reach import (ABERRATING_ROLES, RECEIVE_EDGE_MHZ, grouped_terms, joint_terms,  # noqa: F401
+                                  loss_terms, probe_ceilings_mhz, pulse_groups, wall_sigma_ns)
 from planner.library.probes import Probe
 from planner.physics import aberration, attenuation, beam, broadband, sound_speed
 from planner.physics.constants import (HARMONIC_CONVERSION_LOSS_DB, SIGNAL_BUDGET_DIFFUSE_DB,
                                        SPECULAR_ALLOWANCE_DB)
-
-ABERRATING_ROLES = FAT_ROLES | {"muscle"}
-"""Wall layers whose fat lobules, septa and muscle make the phase screen (HinkelmanAbdominal)."""
 
 STRONG_TISSUES = frozenset({"cortical_bone", "cartilage", "tendon", "lung", "air"})
 """Target tissues whose decisive echo is a strong specular interface (bone surfaces, fibrillar
@@ -58,94 +57,12 @@ def fit_codes(probes, window) -> np.ndarray:
     return np.array([FIT_CODES.index(probe_fit(p, window)) for p in probes], dtype=int)
 
 
-def loss_terms(arrays: dict, sigma_ns, harmonic: bool = False) -> tuple[np.ndarray, np.ndarray]:
-    """Round-trip loss terms ``(k, y)`` of N stacks, wall aberration as one more term. (N, n+1)
-
-    Layers: ``k = 2 alpha0 d`` with the layer's exponent (harmonic: times ``(1 + 2**y) / 2``,
-    down at f0 and back at 2 f0). Aberration: ``c f^2`` (:mod:`planner.physics.aberration`;
-    the harmonic gets its reduced share).
-    """
-    y = np.broadcast_to(arrays["attenuation_exponent"], arrays["thickness_cm"].shape)
-    k = 2.0 * arrays["attenuation_db_per_cm_mhz"] * arrays["thickness_cm"]
-    ab = aberration.round_trip_coefficient_db_per_mhz2(sigma_ns)
-    if harmonic:
-        k = k * 0.5 * (1.0 + 2.0 ** y)
-        ab = ab * aberration.HARMONIC_ABERRATION_FACTOR.value * 2.5
-    ab = np.broadcast_to(ab, k.shape[:-1])[..., None]
-    return np.concatenate([k, ab], axis=-1), np.concatenate([y, np.full(ab.shape, 2.0)], axis=-1)
-
-
-def grouped_terms(arrays: dict, sigma_ns, harmonic: bool = False) -> tuple[np.ndarray, np.ndarray]:
-    """:func:`loss_terms` with the terms of equal exponent summed: ``K`` (N, U), ``Y`` (U,).
-
-    The sum ``sum_i k_i f^y_i`` is unchanged; fewer terms make every loss evaluation cheaper.
-    """
-    return broadband.group_exponents(*loss_terms(arrays, sigma_ns, harmonic))
-
-
-def pulse_groups(probes) -> list[tuple[float, float]]:
-    """The distinct pulses of an inventory: (bandwidth fraction, lowest frequency) pairs."""
-    return sorted({(p.bandwidth_fraction, p.low_mhz) for p in probes})
-
-
-def ceilings_mhz(terms: tuple[np.ndarray, np.ndarray], budget_db, pulses, edge_factor: float = 1.0,
-                 narrow_mhz=None) -> np.ndarray:
-    """Reach ceilings of N stacks for each pulse, shape (N, G). [MHz]
-
-    ``terms`` are the grouped loss terms (:func:`grouped_terms`), ``budget_db`` (N,) the budget
-    left after the interface (and, for the harmonic, conversion) losses, ``pulses`` G
-    ``(bandwidth, low edge)`` pairs (``edge_factor`` scales the edges: 0.5 for a harmonic
-    transmit). The ceiling is the highest centre frequency whose broadband round-trip loss
-    (layers and wall aberration, :func:`planner.physics.broadband.broadband_loss_db`) fits;
-    all pulses are solved in one vectorised call from the shared narrowband root.
-    """
-    k, y = terms
-    budget = np.broadcast_to(np.asarray(budget_db, dtype=float), k.shape[:-1])
-    if narrow_mhz is None:
-        narrow_mhz = attenuation.solve_power_sum_mhz(k, y, budget)
-    bw = np.array([p[0] for p in pulses], dtype=float)[None, :]
-    edge = np.array([p[1] for p in pulses], dtype=float)[None, :] * edge_factor
-    return broadband.broadband_ceiling_mhz(k[:, None, :], y, budget[:, None], bw, edge,
-                                           narrow_mhz=np.asarray(narrow_mhz)[:, None])
-
-
 def choice_pool(probes, fit: np.ndarray, usual_types) -> np.ndarray:
     """(N, P) the probes :func:`choose_probe_index` chooses from: the available probes of the
     target's usual types, or every available probe when none of them is available."""
     available = fit != 3
     usual = available & np.array([p.type in usual_types for p in probes], dtype=bool)[None, :]
     return np.where(usual.any(axis=1, keepdims=True), usual, available)
-
-
-def probe_ceilings_mhz(terms, budget_db, probes, candidates: np.ndarray,
-                       narrow_mhz=None) -> np.ndarray:
-    """Fundamental reach ceiling of every probe, shape (N, P). [MHz]
-
-    Each probe's own pulse (bandwidth, and its lowest frequency as the edge of the received
-    spectrum) is integrated for the ``candidates`` (P,) (the probes any row may choose, see
-    :func:`choice_pool`), once per distinct pulse; the other probes, which no row can choose,
-    get the single-frequency ceiling (they are shown, never used).
-    """
-    k, _ = terms
-    budget = np.broadcast_to(np.asarray(budget_db, dtype=float), k.shape[:-1])
-    if narrow_mhz is None:
-        narrow_mhz = attenuation.solve_power_sum_mhz(k, terms[1], budget)
-    pulses = pulse_groups([p for p, c in zip(probes, candidates) if c])
-    out = np.repeat(np.asarray(narrow_mhz, dtype=float)[:, None], len(probes), axis=1)
-    if not pulses:
-        return out
-    solved = ceilings_mhz(terms, budget, pulses, narrow_mhz=narrow_mhz)
-    for j, (p, c) in enumerate(zip(probes, candidates)):
-        if c:
-            out[:, j] = solved[:, pulses.index((p.bandwidth_fraction, p.low_mhz))]
-    return out
-
-
-def wall_sigma_ns(stacks: StackBatch) -> np.ndarray:
-    """rms arrival-time fluctuation of each patient's body wall (fat and muscle). (N,) [ns]"""
-    cols = np.array([lay.role in ABERRATING_ROLES for lay in stacks.layers], dtype=bool)
-    wall_mm = 10.0 * np.where(cols[None, :], stacks.thickness_cm, 0.0).sum(axis=1)
-    return np.asarray(aberration.arrival_time_rms_ns(wall_mm), dtype=float)
 
 
 @dataclass(frozen=True)
@@ -270,14 +187,14 @@ class WindowBatch:
     bandwidth_fraction: np.ndarray
     """(N,) fractional bandwidth of the chosen probe's pulse (the first probe's when none)."""
     low_edge_mhz: np.ndarray
-    """(N,) lowest frequency of the chosen probe. [MHz]"""
+    """(N,) lower limit of the received spectrum (:data:`planner.engine.reach.RECEIVE_EDGE_MHZ`). [MHz]"""
     probe_ceiling_mhz: np.ndarray
     """(N,) reach ceiling with the chosen probe's own pulse (its band's top is cut there). [MHz]"""
 
     def _pulse(self, frequency_mhz):
         k, y = grouped_terms(self.arrays, self.sigma_ns)
-        return broadband.broadband_loss_db(k, y, frequency_mhz, self.bandwidth_fraction,
-                                           self.low_edge_mhz)
+        f0 = np.broadcast_to(np.asarray(frequency_mhz, dtype=float), k.shape[:-1])
+        return broadband.pulse_loss_db(k, y, f0, self.bandwidth_fraction, self.low_edge_mhz)
 
     def loss_db(self, frequency_mhz) -> np.ndarray:
         """Round-trip broadband loss to the target at a centre frequency per patient: layers,
@@ -305,21 +222,10 @@ def assess_batch(stacks: StackBatch, target, inventory, also=()) -> WindowBatch:
     return assess_batches([stacks], target, inventory, also)[0]
 
 
-def _padded(arrays: list[dict], key: str, fill: float, sizes: list[int], width: int) -> np.ndarray:
-    """Per-row layer values of several windows, padded to the longest stack."""
-    out = np.full((sum(sizes), width), fill)
-    start = 0
-    for a, n in zip(arrays, sizes):
-        v = a[key]
-        out[start:start + n, :v.shape[-1]] = v
-        start += n
-    return out
-
-
 def assess_batches(stacks_list: list[StackBatch], target, inventory, also=()) -> list[WindowBatch]:
     """Assess several windows (each for N patients) in one pass.
 
-    The windows' rows are stacked (layers padded with zero thickness, which adds no loss),
+    The windows' rows are stacked (their loss terms grouped by exponent over the union of the windows' exponents),
     so the reach of every window and patient is solved at once and the probe choice made
     once; the result is split back into one :class:`WindowBatch` per window. Each probe any
     row may choose (and the probe ids in ``also``) gets its own broadband ceiling
@@ -329,11 +235,6 @@ def assess_batches(stacks_list: list[StackBatch], target, inventory, also=()) ->
     sizes = [a["thickness_cm"].shape[0] for a in arrays]
     budget = signal_budget_db(target)
     ifaces = [float(attenuation.interface_round_trip_loss_db(a["impedance_mrayl"])) for a in arrays]
-    width = max(a["thickness_cm"].shape[1] for a in arrays)
-    thick = _padded(arrays, "thickness_cm", 0.0, sizes, width)
-    joint = {"thickness_cm": thick,
-             "attenuation_db_per_cm_mhz": _padded(arrays, "attenuation_db_per_cm_mhz", 0.0, sizes, width),
-             "attenuation_exponent": _padded(arrays, "attenuation_exponent", 1.0, sizes, width)}
     iface_rows = np.concatenate([np.full(n, i) for n, i in zip(sizes, ifaces)])
     sigma = np.concatenate([wall_sigma_ns(st) for st in stacks_list])
     probes = tuple(inventory.probes)
@@ -341,23 +242,21 @@ def assess_batches(stacks_list: list[StackBatch], target, inventory, also=()) ->
                           for w, n in zip((_window_of(s, target) for s in stacks_list), sizes)], axis=0)
     pool = choice_pool(probes, fit, target.probe_types)
     candidates = pool.any(axis=0) | np.array([p.id in also for p in probes], dtype=bool)
-    terms_f = grouped_terms(joint, sigma)
-    terms_h = grouped_terms(joint, sigma, harmonic=True)
+    terms_f = joint_terms(arrays, sigma)
+    terms_h = joint_terms(arrays, sigma, harmonic=True)
     budget_f = budget - iface_rows
     budget_h = budget_f - HARMONIC_CONVERSION_LOSS_DB.value
-    narrow = attenuation.solve_power_sum_mhz(np.stack([terms_f[0], terms_h[0]]),
-                                             np.stack([terms_f[1], terms_h[1]])[:, None, :],
-                                             np.stack([budget_f, budget_h]))
-    ceil_p = probe_ceilings_mhz(terms_f, budget_f, probes, candidates, narrow[0])
-    depth = np.cumsum(thick, axis=1)[:, -1]        # in layer order, as LayerStack.depth_cm
+    ceil_p, ceil_hp = probe_ceilings_mhz(terms_f, terms_h, budget_f, budget_h, probes, candidates)
+    depth = np.concatenate([np.cumsum(a["thickness_cm"], axis=1)[:, -1] if a["thickness_cm"].shape[1]
+                            else np.zeros(n) for a, n in zip(arrays, sizes)])     # as LayerStack
     pa = probe_arrays(probes, fit, depth, target.detail_mm, ceil_p, target.probe_types)
     rows_all = np.arange(depth.size)
     col = np.maximum(pa.best, 0)
-    window_ceiling = np.where(pool.any(axis=1), np.where(pool, ceil_p, -np.inf).max(axis=1), narrow[0])
+    window_ceiling = np.where(pool.any(axis=1), np.where(pool, ceil_p, -np.inf).max(axis=1),
+                              ceil_p.min(axis=1))
     const = probe_constants(probes)
-    bandwidth, edge = const["bandwidth_fraction"][0, col], const["low_mhz"][0, col]
-    ceil_h = broadband.broadband_ceiling_mhz(terms_h[0], terms_h[1], budget_h, bandwidth, 0.5 * edge,
-                                             narrow_mhz=narrow[1])
+    bandwidth, edge = const["bandwidth_fraction"][0, col], np.full(col.size, RECEIVE_EDGE_MHZ)
+    ceil_h = ceil_hp[rows_all, col]
     out, start = [], 0
     for stacks, arr, iface, n in zip(stacks_list, arrays, ifaces, sizes):
         rows = slice(start, start + n)

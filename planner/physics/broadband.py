@@ -96,16 +96,41 @@ def _power_sum(k, y, f, weights=None):
 def group_exponents(k, y):
     """Sum the coefficients of terms that share an exponent: ``(K, Y)`` with Y of shape (U,).
 
-    ``sum_i k_i f^y_i = sum_u K_u f^Y_u`` exactly; fewer terms make the loss cheaper.
+    ``sum_i k_i f^y_i = sum_u K_u f^Y_u`` exactly; fewer terms make the loss cheaper. With a
+    1-D ``y`` (one exponent per column, as for one window's layers) the grouping is a single
+    matrix product.
     """
     k = np.asarray(k, dtype=float)
     y = np.asarray(y, dtype=float)
+    if y.ndim == 1:
+        exps, inverse = np.unique(y, return_inverse=True)
+        onehot = (inverse[:, None] == np.arange(exps.size)[None, :]).astype(float)
+        return k @ onehot, exps
     shape = np.broadcast_shapes(k.shape, y.shape)
     k = np.broadcast_to(k, shape)
     y = np.broadcast_to(y, shape)
     exps = np.unique(y)
     grouped = np.stack([np.where(y == e, k, 0.0).sum(axis=-1) for e in exps], axis=-1)
     return grouped, exps
+
+
+def pulse_loss_db(k, y, centre_mhz, bandwidth_fraction, low_edge_mhz=0.0, passes: int = 3):
+    """:func:`broadband_loss_db` without the argument checks, for the engine's inner loops.
+
+    ``y`` of shape (U,) shared by every row (:func:`group_exponents`); the inputs must already
+    be valid (finite, k and edges >= 0, centre > 0). Narrowband where B < :data:`NARROWBAND_BELOW`.
+    """
+    f0 = np.asarray(centre_mhz, dtype=float)
+    b = np.asarray(bandwidth_fraction, dtype=float)
+    if b.ndim == 0 and b < NARROWBAND_BELOW:
+        loss = _power_sum(k, y, np.broadcast_to(f0, np.shape(k)[:-1]))[0]
+        return loss, np.broadcast_to(f0, loss.shape).astype(float)
+    loss, centre = _loss(k, y, f0, np.maximum(b, NARROWBAND_BELOW),
+                         np.asarray(low_edge_mhz, dtype=float), passes)
+    if np.all(b >= NARROWBAND_BELOW):
+        return loss, centre
+    narrow = _power_sum(k, y, np.broadcast_to(f0, loss.shape))[0]
+    return np.where(b >= NARROWBAND_BELOW, loss, narrow), np.where(b >= NARROWBAND_BELOW, centre, f0)
 
 
 def broadband_loss_db(k, y, centre_mhz, bandwidth_fraction, low_edge_mhz=0.0, passes: int = 3):
@@ -284,15 +309,16 @@ def broadband_ceiling_mhz(k, y, budget_db, bandwidth_fraction, low_edge_mhz=0.0,
     if not broad.any():
         return result.reshape(shape)
     idx = np.nonzero(broad)[0]
-    result[idx] = _ceiling_rows(kf[idx], y, bud[idx], b[idx],
+    result[idx] = ceiling_rows(kf[idx], y, bud[idx], b[idx],
                                 np.broadcast_to(edge, shape).ravel()[idx], narrow[idx],
                                 low_mhz, high_mhz, iterations, tolerance_db, passes)
     return result.reshape(shape)
 
 
-def _ceiling_rows(k, y, budget, b, edge, narrow, low_mhz, high_mhz, iterations, tolerance_db,
-                  passes):
-    """:func:`broadband_ceiling_mhz` for flat rows (k of shape (M, U), the rest (M,))."""
+def ceiling_rows(k, y, budget, b, edge, narrow, low_mhz: float = 0.25, high_mhz: float = 40.0,
+                 iterations: int = 8, tolerance_db: float = 0.02, passes: int = 2):
+    """:func:`broadband_ceiling_mhz` for flat rows without checks: k (M, U), y (U,), the rest
+    (M,) with every B >= :data:`NARROWBAND_BELOW`; ``narrow`` the narrowband roots. [MHz]"""
     weights = _weights(y)
     lo, hi = float(np.log(low_mhz)), float(np.log(high_mhz))
     m = budget.size
