@@ -13,7 +13,7 @@ import numpy as np
 import pytest
 from hypothesis import given, settings, strategies as st
 
-from planner.physics import aberration, broadband
+from planner.physics import aberration, broadband, ceiling
 
 NP_PER_DB = 1.0 / 8.685889638065035
 
@@ -100,10 +100,28 @@ def test_ceiling_solves_the_budget():
     k = rng.uniform(0.0, 3.0, (400, 4))
     y = rng.choice([1.0, 1.1, 1.5, 2.0], (400, 4))
     budget = rng.uniform(20.0, 70.0, 400)
-    f = broadband.broadband_ceiling_mhz(k, y, budget, 0.6, 1.0, high_mhz=18.0)
+    f = ceiling.broadband_ceiling_mhz(k, y, budget, 0.6, 1.0, high_mhz=18.0)
     inside = (f > 0.25) & (f < 18.0)
     loss = broadband.broadband_loss_db(k[inside], y[inside], f[inside], 0.6, 1.0)[0]
     assert np.max(np.abs(loss - budget[inside])) < 0.1
+
+
+def test_few_rows_ceiling_from_the_table_solves_the_budget():
+    """A few rows (one plan) are read from the loss table and refined once: the loss at the
+    ceiling is within 0.1 dB of the budget, and the table agrees with the secant solution of the
+    same rows solved among many (identity of two solvers of one equation)."""
+    rng = np.random.default_rng(4)
+    k = rng.uniform(0.0, 3.0, (4000, 4))
+    y = np.array([1.0, 1.1, 1.5, 2.0])
+    budget = rng.uniform(20.0, 70.0, 4000)
+    many = ceiling.ceiling_rows(k, y, budget, np.full(4000, 0.6), np.zeros(4000))
+    few = np.concatenate([ceiling.ceiling_rows(k[i:i + 5], y, budget[i:i + 5], np.full(5, 0.6),
+                                               np.zeros(5)) for i in range(0, 4000, 5)])
+    inside = (few > 0.25) & (few < 40.0)
+    loss = broadband.broadband_loss_db(k[inside], np.broadcast_to(y, (4000, 4))[inside], few[inside],
+                                       0.6, passes=2)[0]
+    assert np.max(np.abs(loss - budget[inside])) < 0.1
+    assert np.max(np.abs(few - many) / many) < 0.01
 
 
 def test_phase_screen_against_monte_carlo():

@@ -94,6 +94,28 @@ class WindowAssessment:
         return float(aberration.aberration_loss_db(frequency_mhz, self.sigma_ns))
 
 
+def prime_losses(assessments, frequency_mhz: float) -> None:
+    """Compute the loss and echo centre of several assessments at one frequency in a single
+    vectorised call (their terms stacked over the union of exponents) and memoise them."""
+    todo = [a for a in assessments if frequency_mhz not in a.memo]
+    if len(todo) < 2:
+        return
+    terms = []
+    for a in todo:
+        if "terms" not in a.memo:
+            a.memo["terms"] = grouped_terms(a.arrays, a.sigma_ns)
+        terms.append(a.memo["terms"])
+    exps = np.unique(np.concatenate([y for _, y in terms]))
+    k = np.zeros((len(todo), exps.size))
+    for i, (ki, yi) in enumerate(terms):
+        k[i, np.searchsorted(exps, yi)] = ki
+    loss, centre = broadband.pulse_loss_db(
+        k, exps, np.full(len(todo), float(frequency_mhz)),
+        np.array([a.bandwidth_fraction for a in todo]), np.array([a.low_edge_mhz for a in todo]))
+    for a, lo, c in zip(todo, loss.tolist(), centre.tolist()):
+        a.memo[frequency_mhz] = (lo + a.interface_loss_db, c)
+
+
 def option_at(batch: WindowBatch, row: int, index: int) -> ProbeOption:
     """One probe's performance for patient ``row`` of a window batch."""
     pa = batch.probes

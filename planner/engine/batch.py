@@ -217,19 +217,18 @@ class WindowBatch:
         return (best >= 0) & self.probes.feasible[rows, np.maximum(best, 0)]
 
 
-def assess_batch(stacks: StackBatch, target, inventory, also=()) -> WindowBatch:
+def assess_batch(stacks: StackBatch, target, inventory) -> WindowBatch:
     """Reach ceilings, depth errors and probe choice of one window for N patients."""
-    return assess_batches([stacks], target, inventory, also)[0]
+    return assess_batches([stacks], target, inventory)[0]
 
 
-def assess_batches(stacks_list: list[StackBatch], target, inventory, also=()) -> list[WindowBatch]:
+def assess_batches(stacks_list: list[StackBatch], target, inventory) -> list[WindowBatch]:
     """Assess several windows (each for N patients) in one pass.
 
     The windows' rows are stacked (their loss terms grouped by exponent over the union of the windows' exponents),
     so the reach of every window and patient is solved at once and the probe choice made
-    once; the result is split back into one :class:`WindowBatch` per window. Each probe any
-    row may choose (and the probe ids in ``also``) gets its own broadband ceiling
-    (:func:`probe_ceilings_mhz`); the harmonic ceiling is solved for the chosen probe's pulse.
+    once; the result is split back into one :class:`WindowBatch` per window. Each probe gets
+    the broadband ceiling of its own pulse (:func:`probe_ceilings_mhz`, once per distinct pulse).
     """
     arrays = [s.arrays() for s in stacks_list]
     sizes = [a["thickness_cm"].shape[0] for a in arrays]
@@ -241,12 +240,11 @@ def assess_batches(stacks_list: list[StackBatch], target, inventory, also=()) ->
     fit = np.concatenate([np.broadcast_to(fit_codes(probes, w), (n, len(probes)))
                           for w, n in zip((_window_of(s, target) for s in stacks_list), sizes)], axis=0)
     pool = choice_pool(probes, fit, target.probe_types)
-    candidates = pool.any(axis=0) | np.array([p.id in also for p in probes], dtype=bool)
     terms_f = joint_terms(arrays, sigma)
     terms_h = joint_terms(arrays, sigma, harmonic=True)
     budget_f = budget - iface_rows
     budget_h = budget_f - HARMONIC_CONVERSION_LOSS_DB.value
-    ceil_p, ceil_hp = probe_ceilings_mhz(terms_f, terms_h, budget_f, budget_h, probes, candidates)
+    ceil_p, ceil_hp = probe_ceilings_mhz(terms_f, terms_h, budget_f, budget_h, probes)
     depth = np.concatenate([np.cumsum(a["thickness_cm"], axis=1)[:, -1] if a["thickness_cm"].shape[1]
                             else np.zeros(n) for a, n in zip(arrays, sizes)])     # as LayerStack
     pa = probe_arrays(probes, fit, depth, target.detail_mm, ceil_p, target.probe_types)

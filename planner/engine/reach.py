@@ -3,7 +3,7 @@
 Part of the engine's vectorised core (:mod:`planner.engine.batch`): the round-trip loss of each
 stack as power-law terms grouped by exponent (layers and the body wall's aberration), and the
 fundamental and harmonic reach ceilings of each probe's pulse solved in one call
-(:func:`planner.physics.broadband.ceiling_rows`). Every number comes from :mod:`planner.physics`.
+(:func:`planner.physics.ceiling.ceiling_rows`). Every number comes from :mod:`planner.physics`.
 """
 
 from __future__ import annotations
@@ -11,7 +11,7 @@ from __future__ import annotations
 import numpy as np
 
 from planner.body.stack import FAT_ROLES, StackBatch
-from planner.physics import aberration, attenuation, broadband
+from planner.physics import aberration, attenuation, broadband, ceiling
 
 ABERRATING_ROLES = FAT_ROLES | {"muscle"}
 """Wall layers whose fat lobules, septa and muscle make the phase screen (HinkelmanAbdominal)."""
@@ -90,57 +90,46 @@ def pulse_groups(probes) -> list[tuple[float, float]]:
     return sorted({(p.bandwidth_fraction, RECEIVE_EDGE_MHZ) for p in probes})
 
 
-def ceilings_mhz(terms_f, terms_h, budget_f, budget_h, pulses, narrow_f, narrow_h):
+def ceilings_mhz(terms_f, terms_h, budget_f, budget_h, pulses):
     """Fundamental and harmonic (transmit) reach ceilings of N stacks for G pulses, solved in one
     vectorised call: two arrays of shape (N, G). [MHz]
 
     ``terms_*`` are the grouped loss terms (:func:`joint_terms`, same exponents), ``budget_*``
-    (N,) the budget left after the interface (and, for the harmonic, conversion) losses,
-    ``pulses`` G ``(bandwidth, low edge)`` pairs and ``narrow_*`` the narrowband roots. The
-    ceiling is the highest centre frequency whose broadband round-trip loss (layers and wall
-    aberration, :func:`planner.physics.broadband.broadband_loss_db`) fits; a harmonic's transmit
-    edge is half the pulse's edge (its echo returns at twice the transmit frequency).
+    (N,) the budget left after the interface (and, for the harmonic, conversion) losses and
+    ``pulses`` G ``(bandwidth, edge)`` pairs. The ceiling is the highest centre frequency whose
+    broadband round-trip loss (layers and wall aberration,
+    :func:`planner.physics.broadband.broadband_loss_db`) fits; a harmonic's transmit edge is
+    half the pulse's edge (its echo returns at twice the transmit frequency). A pulse below
+    :data:`planner.physics.broadband.NARROWBAND_BELOW` gets the single-frequency root.
     """
     n, g = budget_f.size, len(pulses)
     bw = np.array([p[0] for p in pulses], dtype=float)
     edge = np.array([p[1] for p in pulses], dtype=float)
-    out = np.empty((2, n, g))
-    out[0] = narrow_f[:, None]
-    out[1] = narrow_h[:, None]
-    broad = bw >= broadband.NARROWBAND_BELOW
+    k = np.concatenate([np.repeat(terms_f[0], g, axis=0), np.repeat(terms_h[0], g, axis=0)])
+    budget = np.concatenate([np.repeat(budget_f, g), np.repeat(budget_h, g)])
+    b = np.tile(bw, 2 * n)
+    e = np.concatenate([np.tile(edge, n), np.tile(0.5 * edge, n)])
+    broad = b >= broadband.NARROWBAND_BELOW
+    out = np.empty(b.size)
+    if not broad.all():
+        narrow = ~broad
+        out[narrow] = attenuation.solve_power_sum_mhz(k[narrow], terms_f[1], budget[narrow])
     if broad.any():
-        cols = np.nonzero(broad)[0]
-        m = cols.size
-        k = np.concatenate([np.repeat(terms_f[0], m, axis=0), np.repeat(terms_h[0], m, axis=0)])
-        rep = lambda v: np.concatenate([np.repeat(v[0], m), np.repeat(v[1], m)])  # noqa: E731
-        solved = broadband.ceiling_rows(
-            k, terms_f[1], rep((budget_f, budget_h)), np.tile(bw[cols], 2 * n),
-            np.concatenate([np.tile(edge[cols], n), np.tile(0.5 * edge[cols], n)]),
-            rep((narrow_f, narrow_h)))
-        out[:, :, cols] = solved.reshape(2, n, m)
+        out[broad] = ceiling.ceiling_rows(k[broad], terms_f[1], budget[broad], b[broad], e[broad])
+    out = out.reshape(2, n, g)
     return out[0], out[1]
 
 
-def probe_ceilings_mhz(terms_f, terms_h, budget_f, budget_h, probes, candidates: np.ndarray):
+def probe_ceilings_mhz(terms_f, terms_h, budget_f, budget_h, probes):
     """Fundamental and harmonic reach ceilings of every probe, two arrays (N, P). [MHz]
 
-    Each probe's own pulse (its bandwidth; :data:`RECEIVE_EDGE_MHZ`) is integrated for the ``candidates`` (P,) (the probes any row may choose, see
-    :func:`choice_pool`), once per distinct pulse; the other probes, which no row can choose,
-    get the single-frequency ceiling (they are shown, never used).
+    Each probe's own pulse (its bandwidth; :data:`RECEIVE_EDGE_MHZ`) is integrated, once per
+    distinct pulse of the inventory (the default inventory has one).
     """
-    narrow = attenuation.solve_power_sum_mhz(np.stack([terms_f[0], terms_h[0]]), terms_f[1],
-                                             np.stack([budget_f, budget_h]))
-    pulses = pulse_groups([p for p, c in zip(probes, candidates) if c])
-    cf = np.repeat(narrow[0][:, None], len(probes), axis=1)
-    ch = np.repeat(narrow[1][:, None], len(probes), axis=1)
-    if not pulses:
-        return cf, ch
-    sf, sh = ceilings_mhz(terms_f, terms_h, budget_f, budget_h, pulses, narrow[0], narrow[1])
-    for j, (p, c) in enumerate(zip(probes, candidates)):
-        if c:
-            g = pulses.index((p.bandwidth_fraction, RECEIVE_EDGE_MHZ))
-            cf[:, j], ch[:, j] = sf[:, g], sh[:, g]
-    return cf, ch
+    pulses = pulse_groups(probes)
+    sf, sh = ceilings_mhz(terms_f, terms_h, budget_f, budget_h, pulses)
+    index = [pulses.index((p.bandwidth_fraction, RECEIVE_EDGE_MHZ)) for p in probes]
+    return sf[:, index], sh[:, index]
 
 
 def wall_sigma_ns(stacks: StackBatch) -> np.ndarray:

@@ -68,7 +68,7 @@ def sweep(target_id: str, bmi, *, window_id: str | None = None, sex: str | None 
     patient = Patient(sex=sex, conditions=dict(conditions or {}), gestation_weeks=gestation_weeks)
     depth = None if depth_cm is None else np.broadcast_to(np.asarray(depth_cm, dtype=float), b.shape)
     stacks = build_stack_batch(patient, window, bmi=b, depth_cm=depth)
-    batch = assess_batch(stacks, target, inventory, also=(probe_id,) if probe_id else ())
+    batch = assess_batch(stacks, target, inventory)
     pa = batch.probes
     rows = np.arange(b.size)
     if probe_id:

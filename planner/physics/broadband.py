@@ -33,6 +33,8 @@ integrates the spectrum numerically for any exponent (the check of the closed fo
 
 from __future__ import annotations
 
+from functools import lru_cache
+
 import numpy as np
 
 from planner.physics._checks import non_negative as _non_negative, positive as _positive
@@ -86,7 +88,10 @@ def _power_sum(k, y, f, weights=None):
     if weights is None:
         weights = _weights(y)
     if weights.ndim == 2:                              # exponents shared by every row
-        sums = fy @ weights
+        if fy.size <= 65536:
+            sums = fy @ weights
+        else:                                          # large: explicit sums, no BLAS threads
+            sums = np.stack([(fy * weights[:, j]).sum(axis=-1) for j in range(3)], axis=-1)
     else:
         sums = np.einsum("...u,...uj->...j", fy, np.broadcast_to(weights, fy.shape + (3,)))
     inv = 1.0 / f
@@ -103,8 +108,7 @@ def group_exponents(k, y):
     k = np.asarray(k, dtype=float)
     y = np.asarray(y, dtype=float)
     if y.ndim == 1:
-        exps, inverse = np.unique(y, return_inverse=True)
-        onehot = (inverse[:, None] == np.arange(exps.size)[None, :]).astype(float)
+        onehot, exps = _grouping(tuple(y.tolist()))
         return k @ onehot, exps
     shape = np.broadcast_shapes(k.shape, y.shape)
     k = np.broadcast_to(k, shape)
@@ -112,6 +116,16 @@ def group_exponents(k, y):
     exps = np.unique(y)
     grouped = np.stack([np.where(y == e, k, 0.0).sum(axis=-1) for e in exps], axis=-1)
     return grouped, exps
+
+
+@lru_cache(maxsize=256)
+def _grouping(y: tuple[float, ...]) -> tuple[np.ndarray, np.ndarray]:
+    """One-hot matrix (n, U) from terms to distinct exponents, and the exponents (U,)."""
+    exps, inverse = np.unique(np.array(y), return_inverse=True)
+    onehot = (inverse[:, None] == np.arange(exps.size)[None, :]).astype(float)
+    onehot.setflags(write=False)
+    exps.setflags(write=False)
+    return onehot, exps
 
 
 def pulse_loss_db(k, y, centre_mhz, bandwidth_fraction, low_edge_mhz=0.0, passes: int = 3):
@@ -255,117 +269,3 @@ def linear_broadband_loss_db(alpha_np_per_cm_mhz, depth_cm, centre_mhz, bandwidt
     z = np.asarray(depth_cm, dtype=float)
     sigma2 = spectrum_sigma_mhz(centre_mhz, bandwidth_fraction) ** 2 / 2.0
     return DB_ENERGY * (4.0 * a * z * np.asarray(centre_mhz) - 8.0 * a * a * z * z * sigma2)
-
-
-def broadband_ceiling_mhz(k, y, budget_db, bandwidth_fraction, low_edge_mhz=0.0,
-                          low_mhz: float = 0.25, high_mhz: float = 40.0, iterations: int = 8,
-                          tolerance_db: float = 0.02, passes: int = 2, narrow_mhz=None):
-    """Highest centre frequency whose broadband loss fits a budget (any exponents). [MHz]
-
-    Parameters
-    ----------
-    k, y : arrays, shape (..., n)
-        Round-trip coefficients and exponents of the loss terms (:func:`broadband_loss_db`).
-    budget_db : float or array, shape (...)
-        Budget left for the frequency-dependent loss. [dB]
-    bandwidth_fraction : float or array, shape (...)
-        Fractional -6 dB bandwidth; where it is below :data:`NARROWBAND_BELOW` the
-        narrowband power sum is solved exactly
-        (:func:`planner.physics.attenuation.solve_power_sum_mhz`).
-    low_edge_mhz : float or array, shape (...)
-        Lowest frequency received (:func:`broadband_loss_db`). [MHz]
-    narrow_mhz : array, shape (...), optional
-        The narrowband root of the same budget, when the caller has it already.
-
-    Returns
-    -------
-    array, shape (...)
-        ``high_mhz`` when even that fits, 0.0 when not even ``low_mhz`` fits.
-
-    Notes
-    -----
-    The loss rises with the centre frequency (every spectral component moves up with f0).
-    In ``u = ln f0`` the narrowband root starts a Newton step with the narrowband slope
-    ``sum y_i k_i f^y_i``, followed by at most ``iterations`` safeguarded secant steps (a
-    bracket is kept; a step leaving it bisects; steps are clipped to ``[low, high]`` so a
-    root outside the range ends on its boundary). Each step works only on the rows not yet
-    within ``tolerance_db`` of the budget; the answer is interpolated inside the final
-    bracket. ``passes`` expansions of the closed form are used (2 keep it within 0.3 dB of
-    the integrated spectrum).
-    """
-    from planner.physics.attenuation import solve_power_sum_mhz
-    k, y = group_exponents(k, y)
-    b_in = np.asarray(bandwidth_fraction, dtype=float)
-    budget = np.asarray(budget_db, dtype=float)
-    edge = np.asarray(low_edge_mhz, dtype=float)
-    shape = np.broadcast_shapes(budget.shape, k.shape[:-1], b_in.shape, edge.shape)
-    kf = np.broadcast_to(k, shape + k.shape[-1:]).reshape(-1, k.shape[-1])
-    bud = np.broadcast_to(budget, shape).ravel()
-    narrow = (solve_power_sum_mhz(kf, y, bud, low_mhz, high_mhz) if narrow_mhz is None
-              else np.broadcast_to(np.asarray(narrow_mhz, dtype=float), shape).ravel())
-    b = np.broadcast_to(b_in, shape).ravel()
-    broad = b >= NARROWBAND_BELOW
-    result = narrow.astype(float).copy()
-    if not broad.any():
-        return result.reshape(shape)
-    idx = np.nonzero(broad)[0]
-    result[idx] = ceiling_rows(kf[idx], y, bud[idx], b[idx],
-                                np.broadcast_to(edge, shape).ravel()[idx], narrow[idx],
-                                low_mhz, high_mhz, iterations, tolerance_db, passes)
-    return result.reshape(shape)
-
-
-def ceiling_rows(k, y, budget, b, edge, narrow, low_mhz: float = 0.25, high_mhz: float = 40.0,
-                 iterations: int = 8, tolerance_db: float = 0.02, passes: int = 2):
-    """:func:`broadband_ceiling_mhz` for flat rows without checks: k (M, U), y (U,), the rest
-    (M,) with every B >= :data:`NARROWBAND_BELOW`; ``narrow`` the narrowband roots. [MHz]"""
-    weights = _weights(y)
-    lo, hi = float(np.log(low_mhz)), float(np.log(high_mhz))
-    m = budget.size
-    u0 = np.clip(np.log(np.maximum(narrow, low_mhz)), lo, hi)
-
-    def g_at(rows, u):
-        return _loss(k[rows], y, np.exp(u), b[rows], edge[rows], passes, weights)[0] - budget[rows]
-
-    rows = np.arange(m)
-    g0 = g_at(rows, u0)
-    a, ga = np.full(m, lo), np.full(m, np.nan)          # fits (g <= 0); NaN: not evaluated
-    bb, gb = np.full(m, hi), np.full(m, np.nan)         # does not fit (g > 0)
-    fit0 = g0 <= 0
-    a, ga = np.where(fit0, u0, a), np.where(fit0, g0, ga)
-    bb, gb = np.where(fit0, bb, u0), np.where(fit0, gb, g0)
-    slope = _power_sum(k, y, np.exp(u0), weights)[1] * np.exp(u0)          # dA / d ln f
-    with np.errstate(divide="ignore", invalid="ignore"):
-        u1 = u0 - g0 / np.maximum(slope, 1e-9)
-    u_prev, g_prev, u = u0, g0, np.clip(u1, lo, hi)
-    active = np.abs(g0) > tolerance_db
-    for _ in range(iterations + 1):
-        rows = np.nonzero(active)[0]
-        if rows.size == 0:
-            break
-        ur = u[rows]
-        gr = g_at(rows, ur)
-        fits = gr <= 0
-        a[rows] = np.where(fits, ur, a[rows])
-        ga[rows] = np.where(fits, gr, ga[rows])
-        bb[rows] = np.where(fits, bb[rows], ur)
-        gb[rows] = np.where(fits, gb[rows], gr)
-        done = (np.abs(gr) <= tolerance_db) | (fits & (ur >= hi)) | (~fits & (ur <= lo))
-        with np.errstate(divide="ignore", invalid="ignore"):
-            step = ur - gr * (ur - u_prev[rows]) / (gr - g_prev[rows])
-        ar, br = a[rows], bb[rows]
-        inside = np.isfinite(step) & (step > ar) & (step < br)
-        # outside the bracket: bisect a known bracket, else go to the unevaluated boundary
-        known = ~np.isnan(ga[rows]) & ~np.isnan(gb[rows])
-        step = np.where(inside, step, np.where(known, 0.5 * (ar + br),
-                                               np.where(np.isnan(ga[rows]), lo, hi)))
-        u_prev[rows], g_prev[rows] = ur, gr
-        u[rows] = step
-        active[rows] = ~done
-    both = ~np.isnan(ga) & ~np.isnan(gb)
-    with np.errstate(divide="ignore", invalid="ignore"):
-        root = np.where(both & (gb > ga), a - ga * (bb - a) / (gb - ga), np.where(np.isnan(ga), bb, a))
-    out = np.exp(np.clip(root, a, bb))
-    top_fits = ~np.isnan(ga) & (a >= hi)                   # even the highest frequency fits
-    low_fails = ~np.isnan(gb) & (bb <= lo)                 # not even the lowest fits
-    return np.where(top_fits, high_mhz, np.where(low_fails, 0.0, out))
