@@ -78,10 +78,12 @@ def test_broadband_round_trip_loss_against_pymust():
 
     pymust (Garcia2022SIMUS): ratio of sum_f |S(f)|^4 with and without attenuation for a
     5 MHz, 64 x 0.30 mm array focused at 6 cm (about 18 / 30 / 48 / 62 dB). Ours: the Gaussian
-    75 % spectrum received above the probe's band edge, taken from pymust's own transducer
-    model as the lowest frequency where its pulse-echo spectrum is within 40 dB of the peak
-    (2.3 MHz). Agreement within 10 % at every depth; the single-frequency 20 / 40 / 60 / 80 dB
-    would be 11-30 % off.
+    75 % spectrum received above the transducer's -40 dB spectral limit. That limit is a
+    property of the transducer, not a fitted value: it is read here from pymust's own
+    transducer model (pulse spectrum x probe response) as the lowest frequency whose pulse-echo
+    level is within 40 dB of the peak, 2.3 MHz (status: derived from the simulator's model; the
+    -40 dB level is a conventional choice, common practice). Agreement within 10 % at every
+    depth; the single-frequency 20 / 40 / 60 / 80 dB would be 11-30 % off.
     """
     from planner.physics import broadband
 

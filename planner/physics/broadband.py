@@ -161,9 +161,13 @@ def broadband_loss_db(k, y, centre_mhz, bandwidth_fraction, low_edge_mhz=0.0, pa
     bandwidth_fraction : float or array, shape (...)
         Fractional -6 dB bandwidth B of the pulse-echo spectrum; 0 is narrowband. [-]
     low_edge_mhz : float or array, shape (...)
-        Lowest frequency the probe responds to: the spectrum is integrated over
-        ``f > low_edge_mhz`` (0: the whole Gaussian). A probe cannot receive echoes below its
-        band, so the engine passes the probe's lowest frequency. [MHz]
+        The transducer's -40 dB spectral limit: the spectrum is integrated over
+        ``f > low_edge_mhz`` (0: the whole Gaussian). It is a property of the transducer (below
+        it the probe receives nothing useful), known from a transducer model or measurement,
+        e.g. 2.3 MHz for pymust's 5 MHz, 75 % array (derived from its model in the reference
+        test). A probe inventory does not carry it and the nominal band's low end is not it,
+        so the engine integrates the whole Gaussian
+        (:data:`planner.engine.reach.RECEIVE_EDGE_MHZ`). [MHz]
 
     Returns
     -------
