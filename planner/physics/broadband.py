@@ -45,6 +45,8 @@ DB_ENERGY: float = 10.0 / np.log(10.0)
 SIGMA_PER_BANDWIDTH: float = 1.0 / (2.0 * np.sqrt(2.0 * np.log(2.0)))
 """``s / (B f0)`` of a Gaussian amplitude spectrum whose -6 dB full width is ``B f0``. (identity)"""
 
+_SQRT_PI: float = float(np.sqrt(np.pi))
+
 NARROWBAND_BELOW: float = 1e-3
 """Fractional bandwidths below this are treated as a single frequency (narrowband). [-]"""
 
@@ -79,7 +81,19 @@ def _log_erfcx(z):
 
 def _weights(y):
     """``[1, y, y (y - 1)]`` per term, shape (..., n, 3): the derivative weights of f^y."""
+    y = np.asarray(y, dtype=float)
+    if y.ndim == 1 and y.size <= 16:
+        return _shared_weights(tuple(y.tolist()))
     return np.stack(np.broadcast_arrays(np.ones_like(y), y, y * (y - 1.0)), axis=-1)
+
+
+@lru_cache(maxsize=256)
+def _shared_weights(y: tuple[float, ...]) -> np.ndarray:
+    """:func:`_weights` of exponents shared by every row, computed once per exponent set."""
+    v = np.array(y)
+    w = np.stack([np.ones_like(v), v, v * (v - 1.0)], axis=-1)
+    w.setflags(write=False)
+    return w
 
 
 def _power_sum(k, y, f, weights=None):
@@ -217,7 +231,7 @@ def _loss(k, y, f0, b, edge, passes: int, weights=None):
         root_p = np.sqrt(p)
         z = (edge - m) * root_p
         lx = _log_erfcx(z)
-        centre = m + np.exp(-lx) / (np.sqrt(np.pi) * root_p)
+        centre = m + np.exp(-lx) / (_SQRT_PI * root_p)
         c0 = -f0 * f0 * inv_s2 - (a0 - a1 * fe + 0.5 * a2 * fe * fe) / DB_ENERGY
         log_ratio = lx - z * z + p * m * m + c0 - 0.5 * np.log(p * s * s) - log_ref
         fe = np.maximum(centre, np.maximum(edge, 1e-6 * f0))
