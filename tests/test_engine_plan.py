@@ -114,8 +114,13 @@ probes:
 
 
 def test_detail_unreachable_says_so_and_what_could_change():
-    """When no window gives the needed detail the plan says so and lists alternatives."""
-    p = plan("hepatic-veins", bmi=60, conditions={"steatosis": 3})
+    """When no window gives the needed detail the plan says so and lists alternatives.
+
+    A measured 20 cm path through a severely steatotic liver at BMI 60: even the broadband
+    pulse (which reaches higher than a single frequency, Kuc1984) stays below the detail floor
+    at every window. (Without the measured depth the same patient is now planned at 2.6-3.9 MHz
+    with a downshift caution.)"""
+    p = plan("hepatic-veins", bmi=60, conditions={"steatosis": 3}, depth_cm=20)
     assert p.frequency_mhz.feasible is False
     codes = [f.code for f in p.findings]
     assert "band.detail_unreachable" in codes and "plan.no_window" in codes

@@ -96,7 +96,7 @@ def check_conditions(conditions: dict[str, int]) -> None:
         if spec is None:
             raise InputError(f"unknown condition {name!r}; valid conditions: "
                              f"{', '.join(sorted(CONDITIONS))}")
-        if isinstance(grade, bool) or grade not in spec.grades:
+        if isinstance(grade, bool) or not isinstance(grade, int) or grade not in spec.grades:
             raise InputError(f"condition {name} takes grade {', '.join(map(str, spec.grades))}, "
                              f"got {grade!r}")
     if "full_bladder" in conditions and "empty_bladder" in conditions:

@@ -14,12 +14,13 @@ from planner.errors import InputError
 from planner.numbers import NumberError, parse_number
 
 __all__ = ["LIMITS", "doppler_result", "interface_result", "parse_layers", "path_result",
-           "register"]
+           "register", "tilt_result"]
 
 ANGLE_ERROR_DEG = 5.0
 """Angle uncertainty used for the velocity-error figures. [deg]"""
 
-LIMITS = {"--frequency-mhz": (0.01, 100.0), "--depth-cm": (0.01, 100.0), "thickness": (1e-4, 100.0),
+LIMITS = {"--frequency-mhz": (0.01, 100.0), "--bandwidth-fraction": (0.0, 1.5),
+          "--aperture-mm": (0.1, 200.0), "--focus-cm": (0.01, 100.0), "--depth-cm": (0.01, 100.0), "thickness": (1e-4, 100.0),
           "--velocity-cm-s": (-2000.0, 2000.0), "--z1": (1e-5, 100.0), "--z2": (1e-5, 100.0),
           "--c1": (1.0, 20000.0), "--c2": (1.0, 20000.0)}
 """Plausibility ranges of the quick calculations (inclusive): far wider than any diagnostic
@@ -35,7 +36,7 @@ def _in_range(option: str, value: float | None) -> None:
 
 
 def register(sub: argparse._SubParsersAction) -> None:
-    """Add ``calc interface``, ``calc path`` and ``calc doppler`` to ``sub``."""
+    """Add ``calc interface``, ``calc path``, ``calc tilt`` and ``calc doppler`` to ``sub``."""
     calc = sub.add_parser("calc", help="quick physics calculations")
     calc_sub = calc.add_subparsers(dest="calc_command", required=True)
 
@@ -55,8 +56,21 @@ def register(sub: argparse._SubParsersAction) -> None:
     p.add_argument("--layers", required=True, metavar="TISSUE:CM,...",
                    help="layers from the skin, e.g. fat:3,liver:10 (thickness in cm)")
     p.add_argument("--frequency-mhz", type=finite_float, required=True)
+    p.add_argument("--bandwidth-fraction", type=finite_float, default=0.0, metavar="B",
+                   help="fractional -6 dB bandwidth of the pulse-echo spectrum, e.g. 0.6 "
+                        "(0 or absent: a single frequency)")
     p.add_argument("--json", action="store_true")
     p.set_defaults(func=run_path)
+
+    p = calc_sub.add_parser("tilt", help="specular tilt tolerance of a focused aperture (wave model)")
+    p.add_argument("--aperture-mm", type=finite_float, required=True,
+                   help="width of the 1-D aperture (scan plane: active aperture; elevation: lens) [mm]")
+    p.add_argument("--depth-cm", type=finite_float, required=True, help="depth of the mirror [cm]")
+    p.add_argument("--frequency-mhz", type=finite_float, required=True)
+    p.add_argument("--focus-cm", type=finite_float,
+                   help="fixed focus, e.g. the elevation lens [cm] (default: focused at the depth)")
+    p.add_argument("--json", action="store_true")
+    p.set_defaults(func=run_tilt)
 
     p = calc_sub.add_parser("doppler", help="Nyquist limit, shift and angle error at a depth")
     p.add_argument("--depth-cm", type=finite_float, required=True)
@@ -156,13 +170,21 @@ def parse_layers(text: str) -> list[tuple[str, float]]:
     return layers
 
 
-def path_result(layers: list[tuple[str, float]], frequency_mhz: float) -> dict:
-    """The quick path calculation as a JSON-ready dict."""
+def path_result(layers: list[tuple[str, float]], frequency_mhz: float,
+                bandwidth_fraction: float = 0.0) -> dict:
+    """The quick path calculation as a JSON-ready dict.
+
+    With a bandwidth, ``round_trip_loss_db`` is the broadband (Gaussian pulse) energy loss
+    through the layers plus the interface losses, and ``received_centre_mhz`` the downshifted
+    centre frequency of the echo (:mod:`planner.physics.broadband`); per-layer losses stay
+    at the centre frequency.
+    """
     import numpy as np
 
-    from planner.physics import attenuation, sound_speed
+    from planner.physics import attenuation, broadband, sound_speed
     from planner.physics.tissues import get_tissue
     _in_range("--frequency-mhz", frequency_mhz)
+    _in_range("--bandwidth-fraction", bandwidth_fraction)
     tissues = [get_tissue(name) for name, _ in layers]
     d = np.array([t for _, t in layers])
     c = np.array([t.speed_m_per_s for t in tissues])
@@ -170,12 +192,17 @@ def path_result(layers: list[tuple[str, float]], frequency_mhz: float) -> dict:
     y = np.array([t.attenuation_exponent for t in tissues])
     z = np.array([t.impedance_mrayl for t in tissues])
     per_layer = attenuation.round_trip_attenuation_db(d, frequency_mhz, a0, y)
-    total = float(attenuation.stack_round_trip_loss_db(d, frequency_mhz, a0, y, z))
+    iface = float(attenuation.interface_round_trip_loss_db(z))
+    broad, centre = broadband.broadband_loss_db(2.0 * a0 * d, y, frequency_mhz, bandwidth_fraction)
+    total = float(broad) + iface
     shown = float(sound_speed.displayed_depth_cm(d, c))
     return {
         "frequency_mhz": frequency_mhz,
+        "bandwidth_fraction": bandwidth_fraction,
         "round_trip_loss_db": total,
-        "interface_loss_db": float(attenuation.interface_round_trip_loss_db(z)),
+        "narrowband_loss_db": float(per_layer.sum()) + iface,
+        "received_centre_mhz": float(centre),
+        "interface_loss_db": iface,
         "true_depth_cm": float(d.sum()), "displayed_depth_cm": shown,
         "depth_error_mm": 10.0 * (shown - float(d.sum())),
         "layers": [{"tissue": t.id, "thickness_cm": float(th), "speed_m_per_s": t.speed_m_per_s,
@@ -186,17 +213,47 @@ def path_result(layers: list[tuple[str, float]], frequency_mhz: float) -> dict:
 
 
 def run_path(args) -> int:
-    result = path_result(parse_layers(args.layers), args.frequency_mhz)
+    result = path_result(parse_layers(args.layers), args.frequency_mhz, args.bandwidth_fraction)
     if args.json:
         emit_json(result)
         return 0
-    print(f"Round trip at {args.frequency_mhz:g} MHz")
+    pulse = (f" ({100 * args.bandwidth_fraction:g} % bandwidth pulse)" if args.bandwidth_fraction else "")
+    print(f"Round trip at {args.frequency_mhz:g} MHz{pulse}")
     for lay in result["layers"]:
         print(f"  {lay['tissue']:<16} {lay['thickness_cm']:6.2f} cm  {lay['speed_m_per_s']:6.0f} m/s  "
               f"{lay['attenuation_db_per_cm_mhz']:5.2f} dB/cm/MHz  {lay['loss_db']:6.1f} dB")
     print(f"  interfaces {result['interface_loss_db']:.2f} dB; total {result['round_trip_loss_db']:.1f} dB")
+    if args.bandwidth_fraction:
+        print(f"  single-frequency total {result['narrowband_loss_db']:.1f} dB; echo centre "
+              f"{result['received_centre_mhz']:.2f} MHz (shifted down from {args.frequency_mhz:g})")
     print(f"  true depth {result['true_depth_cm']:.2f} cm, displayed {result['displayed_depth_cm']:.2f} cm "
           f"(error {result['depth_error_mm']:+.1f} mm at 1540 m/s)")
+    return 0
+
+
+def tilt_result(aperture_mm: float, depth_cm: float, frequency_mhz: float,
+                focus_cm: float | None) -> dict:
+    """The quick tilt calculation as a JSON-ready dict (:mod:`planner.physics.specular`)."""
+    from planner.physics import beam, specular
+    for option, value in (("--aperture-mm", aperture_mm), ("--depth-cm", depth_cm),
+                          ("--frequency-mhz", frequency_mhz), ("--focus-cm", focus_cm)):
+        _in_range(option, value)
+    tol = specular.specular_tolerance_wave_deg(aperture_mm, depth_cm, frequency_mhz, focus_cm)
+    return {"aperture_mm": aperture_mm, "depth_cm": depth_cm, "frequency_mhz": frequency_mhz,
+            "focus_cm": focus_cm, "tolerance_deg": tol,
+            "geometric_tolerance_deg": float(beam.specular_tolerance_deg(aperture_mm / 2.0, depth_cm))}
+
+
+def run_tilt(args) -> int:
+    result = tilt_result(args.aperture_mm, args.depth_cm, args.frequency_mhz, args.focus_cm)
+    if args.json:
+        emit_json(result)
+        return 0
+    focus = f"focus {args.focus_cm:g} cm" if args.focus_cm is not None else "focused at the depth"
+    print(f"Flat mirror at {args.depth_cm:g} cm, {args.aperture_mm:g} mm aperture ({focus}), "
+          f"{args.frequency_mhz:g} MHz")
+    print(f"  echo halves at a tilt of {result['tolerance_deg']:.1f} deg (wave model)")
+    print(f"  geometric rule 0.5 atan(a/z): {result['geometric_tolerance_deg']:.1f} deg")
     return 0
 
 

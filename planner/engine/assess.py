@@ -12,10 +12,10 @@ import numpy as np
 
 from planner.body.stack import LayerStack, StackBatch
 from planner.engine.batch import (FIT_CODES, STRONG_TISSUES, WindowBatch, assess_batch,  # noqa: F401
-                                  probe_fit, signal_budget_db)
+                                  grouped_terms, loss_terms, probe_fit, signal_budget_db)
 from planner.library.probes import Probe, ProbeInventory
 from planner.library.targets import Window
-from planner.physics import attenuation, beam
+from planner.physics import aberration, beam, broadband
 
 
 @dataclass(frozen=True)
@@ -55,20 +55,65 @@ class WindowAssessment:
     best: ProbeOption | None
     arrays: dict = field(default_factory=dict, repr=False, compare=False)
     memo: dict = field(default_factory=dict, repr=False, compare=False)
+    sigma_ns: float = 0.0
+    """rms arrival-time fluctuation of the body wall. [ns]"""
+    bandwidth_fraction: float = 0.0
+    """Fractional bandwidth of the chosen probe's pulse (0: narrowband). [-]"""
+    low_edge_mhz: float = 0.0
+    """Lower limit of the received spectrum (:data:`planner.engine.reach.RECEIVE_EDGE_MHZ`). [MHz]"""
+    probe_ceiling_mhz: float = 0.0
+    """Reach ceiling with the chosen probe's own pulse; ``ceiling_mhz`` is the window's (the
+    highest of the probes the engine chooses from, :class:`planner.engine.batch.WindowBatch`). [MHz]"""
 
     @property
     def feasible(self) -> bool:
         return self.best is not None and self.best.feasible
 
-    def loss_db(self, frequency_mhz: float) -> float:
-        """Round-trip loss to the target at a frequency, interfaces included. [dB]"""
+    def _pulse(self, frequency_mhz: float) -> tuple[float, float]:
         memo = self.memo
         if frequency_mhz not in memo:
-            arr = self.arrays
-            memo[frequency_mhz] = float(attenuation.stack_round_trip_loss_db(
-                arr["thickness_cm"], frequency_mhz, arr["attenuation_db_per_cm_mhz"],
-                arr["attenuation_exponent"])) + self.interface_loss_db
+            if "terms" not in memo:
+                memo["terms"] = grouped_terms(self.arrays, self.sigma_ns)
+            k, y = memo["terms"]
+            loss, centre = broadband.pulse_loss_db(k, y, float(frequency_mhz), self.bandwidth_fraction,
+                                                   self.low_edge_mhz)
+            memo[frequency_mhz] = (float(loss) + self.interface_loss_db, float(centre))
         return memo[frequency_mhz]
+
+    def loss_db(self, frequency_mhz: float) -> float:
+        """Round-trip broadband loss to the target at a centre frequency: layers, wall
+        aberration and interfaces. [dB]"""
+        return self._pulse(frequency_mhz)[0]
+
+    def received_centre_mhz(self, frequency_mhz: float) -> float:
+        """Mean frequency of the echo received from the target (downshifted). [MHz]"""
+        return self._pulse(frequency_mhz)[1]
+
+    def aberration_db(self, frequency_mhz: float) -> float:
+        """Round-trip focusing loss of the body wall at a frequency (narrowband). [dB]"""
+        return float(aberration.aberration_loss_db(frequency_mhz, self.sigma_ns))
+
+
+def prime_losses(assessments, frequency_mhz: float) -> None:
+    """Compute the loss and echo centre of several assessments at one frequency in a single
+    vectorised call (their terms stacked over the union of exponents) and memoise them."""
+    todo = [a for a in assessments if frequency_mhz not in a.memo]
+    if len(todo) < 2:
+        return
+    terms = []
+    for a in todo:
+        if "terms" not in a.memo:
+            a.memo["terms"] = grouped_terms(a.arrays, a.sigma_ns)
+        terms.append(a.memo["terms"])
+    exps = np.unique(np.concatenate([y for _, y in terms]))
+    k = np.zeros((len(todo), exps.size))
+    for i, (ki, yi) in enumerate(terms):
+        k[i, np.searchsorted(exps, yi)] = ki
+    loss, centre = broadband.pulse_loss_db(
+        k, exps, np.full(len(todo), float(frequency_mhz)),
+        np.array([a.bandwidth_fraction for a in todo]), np.array([a.low_edge_mhz for a in todo]))
+    for a, lo, c in zip(todo, loss.tolist(), centre.tolist()):
+        a.memo[frequency_mhz] = (lo + a.interface_loss_db, c)
 
 
 def option_at(batch: WindowBatch, row: int, index: int) -> ProbeOption:
@@ -90,7 +135,11 @@ def assessment_at(batch: WindowBatch, row: int, window, stack: LayerStack | None
                             float(batch.displayed_depth_cm[row]),
                             10.0 * float(batch.displayed_depth_cm[row] - batch.depth_cm[row]),
                             float(batch.fat_error_mm[row]), options,
-                            options[best_index] if best_index >= 0 else None, arr)
+                            options[best_index] if best_index >= 0 else None, arr,
+                            sigma_ns=float(batch.sigma_ns[row]),
+                            bandwidth_fraction=float(batch.bandwidth_fraction[row]),
+                            low_edge_mhz=float(batch.low_edge_mhz[row]),
+                            probe_ceiling_mhz=float(batch.probe_ceiling_mhz[row]))
 
 
 def assess_window(stack: LayerStack, window, target, inventory: ProbeInventory) -> WindowAssessment:

@@ -10,12 +10,15 @@ same probe choice and the same feasibility test. Every number comes from
 from __future__ import annotations
 
 from dataclasses import dataclass
+from functools import lru_cache
 
 import numpy as np
 
 from planner.body.stack import StackBatch
+from planner.engine.reach import (ABERRATING_ROLES, RECEIVE_EDGE_MHZ, grouped_terms, joint_terms,  # noqa: F401
+                                  loss_terms, probe_ceilings_mhz, pulse_groups, wall_sigma_ns)
 from planner.library.probes import Probe
-from planner.physics import attenuation, beam, sound_speed
+from planner.physics import aberration, attenuation, beam, broadband, sound_speed
 from planner.physics.constants import (HARMONIC_CONVERSION_LOSS_DB, SIGNAL_BUDGET_DIFFUSE_DB,
                                        SPECULAR_ALLOWANCE_DB)
 
@@ -54,21 +57,12 @@ def fit_codes(probes, window) -> np.ndarray:
     return np.array([FIT_CODES.index(probe_fit(p, window)) for p in probes], dtype=int)
 
 
-def ceilings_mhz(arrays: dict, budget_db: float, interface_db) -> tuple[np.ndarray, np.ndarray]:
-    """Fundamental and harmonic (transmit) reach ceilings for N stacks, solved together. [MHz]
-
-    The harmonic loss per cm is alpha(f0) + alpha(2 f0), i.e. ``(1 + 2**y) / 2`` times the
-    fundamental's round-trip coefficient (Szabo2004 ch. 4 power law), plus the stated
-    conversion loss.
-    """
-    y = arrays["attenuation_exponent"]
-    k = 2.0 * arrays["attenuation_db_per_cm_mhz"] * arrays["thickness_cm"]          # (N, n)
-    iface = np.asarray(interface_db, dtype=float)
-    budget = np.stack([np.broadcast_to(budget_db - iface, k.shape[:-1]),
-                       np.broadcast_to(budget_db - iface - HARMONIC_CONVERSION_LOSS_DB.value,
-                                       k.shape[:-1])])
-    both = attenuation.solve_power_sum_mhz(np.stack([k, k * 0.5 * (1.0 + 2.0 ** y)]), y, budget)
-    return both[0], both[1]
+def choice_pool(probes, fit: np.ndarray, usual_types) -> np.ndarray:
+    """(N, P) the probes :func:`choose_probe_index` chooses from: the available probes of the
+    target's usual types, or every available probe when none of them is available."""
+    available = fit != 3
+    usual = available & np.array([p.type in usual_types for p in probes], dtype=bool)[None, :]
+    return np.where(usual.any(axis=1, keepdims=True), usual, available)
 
 
 @dataclass(frozen=True)
@@ -88,36 +82,59 @@ class ProbeArrays:
     best: np.ndarray
     """(N,) index of the chosen probe, -1 when no probe can be used."""
 
+    def rows(self, rows: slice) -> "ProbeArrays":
+        """The same arrays for a slice of the rows."""
+        return ProbeArrays(self.probes, self.fit[rows], self.floor_mhz[rows], self.low_mhz[rows],
+                           self.high_mhz[rows], self.f_number[rows], self.feasible[rows],
+                           self.best[rows])
+
+
+@lru_cache(maxsize=64)
+def probe_constants(probes: tuple[Probe, ...]) -> dict[str, np.ndarray]:
+    """Per-probe constants as (1, P) arrays, computed once per inventory."""
+    row = lambda name: np.array([getattr(p, name) for p in probes], dtype=float)[None, :]  # noqa: E731
+    return {name: row(name) for name in ("receive_f_number", "aperture_mm", "pulse_cycles", "low_mhz",
+                                          "high_mhz", "bandwidth_fraction")}
+
 
 def probe_arrays(probes, window, depth_cm, detail_mm: float, ceiling_mhz,
                  preferred) -> ProbeArrays:
     """Detail floor, band, feasibility and the chosen probe for N depths and reach ceilings.
 
     ``window`` is the window (every row) or an (N, P) array of fit codes (rows from several
-    windows).
+    windows); ``ceiling_mhz`` is (N,) or each probe's own ceiling (N, P).
 
-    The detail floor is the lowest frequency at which both the axial resolution (pulse cycles
-    x wavelength / 2) and the lateral resolution at focus (wavelength x F-number, the receive
-    F-number or depth over aperture when deeper) are as fine as ``detail_mm``
-    (:func:`planner.physics.beam.min_frequency_axial_mhz`, ``min_frequency_lateral_mhz``).
+    The detail floor is the lowest transmit centre frequency at which both the axial
+    resolution (pulse cycles x wavelength / 2, half the spatial pulse length) and the lateral
+    resolution at focus (wavelength x F-number, the receive F-number or depth over aperture
+    when deeper) are as fine as ``detail_mm`` (:func:`planner.physics.beam.min_frequency_axial_mhz`,
+    ``min_frequency_lateral_mhz``; Kremkau2015, from memory). A probe gives the detail when
+    its band, cut at the reach ceiling, still reaches the floor.
+
+    Decision: the detail is judged at the transmit centre, not at the downshifted centre of
+    the echo. Axial resolution is half the spatial pulse length, and the pulse length is set
+    by the bandwidth in Hz: a Gaussian spectrum through a loss linear in frequency keeps its
+    width and only moves down (Kuc1984: ``f0 - 4 alpha sigma^2 z`` with sigma unchanged), so
+    the received pulse is as short as the transmitted one and judging it as "the same number
+    of cycles at the lower centre" would lengthen it twice over. The lateral beam is formed on
+    transmit at the transmit frequency; only the receive half of the two-way beam widens with
+    the downshift. The plan reports that as a caution (``band.echo_downshift``), without
+    turning a band a sonographer would use into an infeasible one.
     """
     probes = tuple(probes)
     depth = np.atleast_1d(np.asarray(depth_cm, dtype=float))[:, None]                 # (N, 1)
-    ceiling = np.atleast_1d(np.asarray(ceiling_mhz, dtype=float))[:, None]
+    ceiling = np.asarray(ceiling_mhz, dtype=float)
+    ceiling = ceiling if ceiling.ndim == 2 else np.atleast_1d(ceiling)[:, None]     # (N, P) or (N, 1)
     fit = np.broadcast_to(window if isinstance(window, np.ndarray) else fit_codes(probes, window),
                           (depth.shape[0], len(probes)))
-    rf = np.array([p.receive_f_number for p in probes])[None, :]
-    aperture = np.array([p.aperture_mm for p in probes])[None, :]
-    cycles = np.array([p.pulse_cycles for p in probes])[None, :]
-    p_low = np.array([p.low_mhz for p in probes])[None, :]
-    p_high = np.array([p.high_mhz for p in probes])[None, :]
-    f_num = np.maximum(rf, depth * 10.0 / aperture)
-    floor = np.maximum(beam.min_frequency_axial_mhz(detail_mm, cycles),
+    const = probe_constants(probes)
+    p_low, p_high = const["low_mhz"], const["high_mhz"]
+    f_num = np.maximum(const["receive_f_number"], depth * 10.0 / const["aperture_mm"])
+    floor = np.maximum(beam.min_frequency_axial_mhz(detail_mm, const["pulse_cycles"]),
                        beam.min_frequency_lateral_mhz(detail_mm, f_num))
-    high = np.minimum(p_high, ceiling)
+    high = np.broadcast_to(np.minimum(p_high, ceiling), fit.shape)
     low = np.maximum(p_low, floor)
-    usable = fit <= 1
-    feasible = usable & (high >= p_low) & (low <= high)
+    feasible = (fit <= 1) & (high >= p_low) & (low <= high)
     best = choose_probe_index(probes, fit, feasible, high, list(preferred))
     return ProbeArrays(probes, fit, floor, low, high, f_num, feasible, best)
 
@@ -127,17 +144,15 @@ def choose_probe_index(probes, fit: np.ndarray, feasible: np.ndarray, high_mhz: 
     """The probe a sonographer would pick, for N patients at once: index per row, -1 for none.
 
     Only the target's usual probe types are considered when the inventory has any of them
-    (a linear array is not a cardiac probe, however well it reaches); among them a usable
-    footprint comes first, then a band that gives the needed detail, then one that reaches at
-    all, then the usual order (or, when nothing reaches, the most penetrating probe: the
-    lowest band), then a clean footprint fit, then the highest reachable frequency. The keys
-    are compared in that order (lexicographic minimum per row).
+    (a linear array is not a cardiac probe, however well it reaches; :func:`choice_pool`);
+    among them a usable footprint comes first, then a band that gives the needed detail, then
+    one that reaches at all, then the usual order (or, when nothing reaches, the most
+    penetrating probe: the lowest band), then a clean footprint fit, then the highest
+    reachable frequency. The keys are compared in that order (lexicographic minimum per row).
     """
     types = [p.type for p in probes]
-    available = fit != 3                                                                 # (N, P)
-    usual = available & np.array([t in preferred for t in types], dtype=bool)[None, :]
-    pool = np.where(usual.any(axis=1, keepdims=True), usual, available)
-    p_low = np.array([p.low_mhz for p in probes])[None, :]
+    pool = choice_pool(probes, fit, preferred)
+    p_low = probe_constants(tuple(probes))["low_mhz"]
     pref = np.array([preferred.index(t) if t in preferred else len(preferred) for t in types],
                     dtype=float)[None, :]
     reaches = high_mhz >= p_low
@@ -157,19 +172,42 @@ class WindowBatch:
     budget_db: float
     interface_loss_db: float
     ceiling_mhz: np.ndarray
+    """(N,) the window's reach ceiling: the highest of the reach ceilings of the probes the
+    engine chooses from (:func:`choice_pool`), so it depends on the window, the patient and the
+    inventory but not on which probe is chosen. [MHz]"""
     harmonic_ceiling_mhz: np.ndarray
+    """(N,) harmonic transmit ceiling with the chosen probe's pulse. [MHz]"""
     depth_cm: np.ndarray
     displayed_depth_cm: np.ndarray
     fat_error_mm: np.ndarray
     probes: ProbeArrays
     arrays: dict
+    sigma_ns: np.ndarray
+    """(N,) rms arrival-time fluctuation of the body wall. [ns]"""
+    bandwidth_fraction: np.ndarray
+    """(N,) fractional bandwidth of the chosen probe's pulse (the first probe's when none)."""
+    low_edge_mhz: np.ndarray
+    """(N,) lower limit of the received spectrum (:data:`planner.engine.reach.RECEIVE_EDGE_MHZ`). [MHz]"""
+    probe_ceiling_mhz: np.ndarray
+    """(N,) reach ceiling with the chosen probe's own pulse (its band's top is cut there). [MHz]"""
+
+    def _pulse(self, frequency_mhz):
+        k, y = grouped_terms(self.arrays, self.sigma_ns)
+        f0 = np.broadcast_to(np.asarray(frequency_mhz, dtype=float), k.shape[:-1])
+        return broadband.pulse_loss_db(k, y, f0, self.bandwidth_fraction, self.low_edge_mhz)
 
     def loss_db(self, frequency_mhz) -> np.ndarray:
-        """Round-trip loss to the target at a frequency per patient, interfaces included. [dB]"""
-        arr = self.arrays
-        return attenuation.stack_round_trip_loss_db(
-            arr["thickness_cm"], frequency_mhz, arr["attenuation_db_per_cm_mhz"],
-            arr["attenuation_exponent"]) + self.interface_loss_db
+        """Round-trip broadband loss to the target at a centre frequency per patient: layers,
+        wall aberration and interfaces (the chosen probe's pulse). [dB]"""
+        return self._pulse(frequency_mhz)[0] + self.interface_loss_db
+
+    def received_centre_mhz(self, frequency_mhz) -> np.ndarray:
+        """Mean frequency of the echo received from the target (the downshifted centre). [MHz]"""
+        return self._pulse(frequency_mhz)[1]
+
+    def aberration_db(self, frequency_mhz) -> np.ndarray:
+        """Round-trip focusing loss of the wall at a frequency (narrowband value). [dB]"""
+        return np.asarray(aberration.aberration_loss_db(frequency_mhz, self.sigma_ns))
 
     @property
     def feasible(self) -> np.ndarray:
@@ -184,40 +222,39 @@ def assess_batch(stacks: StackBatch, target, inventory) -> WindowBatch:
     return assess_batches([stacks], target, inventory)[0]
 
 
-def _padded(arrays: list[dict], key: str, fill: float, sizes: list[int], width: int) -> np.ndarray:
-    """Per-row layer values of several windows, padded to the longest stack."""
-    out = np.full((sum(sizes), width), fill)
-    start = 0
-    for a, n in zip(arrays, sizes):
-        v = a[key]
-        out[start:start + n, :v.shape[-1]] = v
-        start += n
-    return out
-
-
 def assess_batches(stacks_list: list[StackBatch], target, inventory) -> list[WindowBatch]:
     """Assess several windows (each for N patients) in one pass.
 
-    The windows' rows are stacked (layers padded with zero thickness, which adds no loss),
+    The windows' rows are stacked (their loss terms grouped by exponent over the union of the windows' exponents),
     so the reach of every window and patient is solved at once and the probe choice made
-    once; the result is split back into one :class:`WindowBatch` per window.
+    once; the result is split back into one :class:`WindowBatch` per window. Each probe gets
+    the broadband ceiling of its own pulse (:func:`probe_ceilings_mhz`, once per distinct pulse).
     """
     arrays = [s.arrays() for s in stacks_list]
     sizes = [a["thickness_cm"].shape[0] for a in arrays]
     budget = signal_budget_db(target)
     ifaces = [float(attenuation.interface_round_trip_loss_db(a["impedance_mrayl"])) for a in arrays]
-    width = max(a["thickness_cm"].shape[1] for a in arrays)
-    thick = _padded(arrays, "thickness_cm", 0.0, sizes, width)
-    joint = {"thickness_cm": thick,
-             "attenuation_db_per_cm_mhz": _padded(arrays, "attenuation_db_per_cm_mhz", 0.0, sizes, width),
-             "attenuation_exponent": _padded(arrays, "attenuation_exponent", 1.0, sizes, width)}
     iface_rows = np.concatenate([np.full(n, i) for n, i in zip(sizes, ifaces)])
-    ceil_f, ceil_h = ceilings_mhz(joint, budget, iface_rows)
-    depth = np.cumsum(thick, axis=1)[:, -1]        # in layer order, as LayerStack.depth_cm
-    windows = [_window_of(s, target) for s in stacks_list]
-    fit = np.concatenate([np.broadcast_to(fit_codes(inventory.probes, w), (n, len(inventory.probes)))
-                          for w, n in zip(windows, sizes)], axis=0)
-    probes = probe_arrays(inventory.probes, fit, depth, target.detail_mm, ceil_f, target.probe_types)
+    sigma = np.concatenate([wall_sigma_ns(st) for st in stacks_list])
+    probes = tuple(inventory.probes)
+    fit = np.concatenate([np.broadcast_to(fit_codes(probes, w), (n, len(probes)))
+                          for w, n in zip((_window_of(s, target) for s in stacks_list), sizes)], axis=0)
+    pool = choice_pool(probes, fit, target.probe_types)
+    terms_f = joint_terms(arrays, sigma)
+    terms_h = joint_terms(arrays, sigma, harmonic=True)
+    budget_f = budget - iface_rows
+    budget_h = budget_f - HARMONIC_CONVERSION_LOSS_DB.value
+    ceil_p, ceil_hp = probe_ceilings_mhz(terms_f, terms_h, budget_f, budget_h, probes)
+    depth = np.concatenate([np.cumsum(a["thickness_cm"], axis=1)[:, -1] if a["thickness_cm"].shape[1]
+                            else np.zeros(n) for a, n in zip(arrays, sizes)])     # as LayerStack
+    pa = probe_arrays(probes, fit, depth, target.detail_mm, ceil_p, target.probe_types)
+    rows_all = np.arange(depth.size)
+    col = np.maximum(pa.best, 0)
+    window_ceiling = np.where(pool.any(axis=1), np.where(pool, ceil_p, -np.inf).max(axis=1),
+                              ceil_p.min(axis=1))
+    const = probe_constants(probes)
+    bandwidth, edge = const["bandwidth_fraction"][0, col], np.full(col.size, RECEIVE_EDGE_MHZ)
+    ceil_h = ceil_hp[rows_all, col]
     out, start = [], 0
     for stacks, arr, iface, n in zip(stacks_list, arrays, ifaces, sizes):
         rows = slice(start, start + n)
@@ -227,12 +264,11 @@ def assess_batches(stacks_list: list[StackBatch], target, inventory) -> list[Win
         fat_cols = np.array([lay.tissue.id == "fat" for lay in stacks.layers], dtype=bool)
         fat_err = (sound_speed.depth_error_mm(t[:, fat_cols], arr["speed_m_per_s"][fat_cols])
                    if fat_cols.any() else np.zeros(n))
-        pa = ProbeArrays(probes.probes, probes.fit[rows], probes.floor_mhz[rows], probes.low_mhz[rows],
-                         probes.high_mhz[rows], probes.f_number[rows], probes.feasible[rows],
-                         probes.best[rows])
-        out.append(WindowBatch(stacks, budget, iface, ceil_f[rows], ceil_h[rows], depth[rows],
+        out.append(WindowBatch(stacks, budget, iface, window_ceiling[rows], ceil_h[rows], depth[rows],
                                np.asarray(shown, dtype=float),
-                               np.broadcast_to(np.asarray(fat_err, dtype=float), (n,)), pa, arr))
+                               np.broadcast_to(np.asarray(fat_err, dtype=float), (n,)), pa.rows(rows),
+                               arr, sigma[rows], bandwidth[rows], edge[rows],
+                               ceil_p[rows_all, col][rows]))
     return out
 
 

@@ -1,8 +1,12 @@
 """Round-trip loss against depth along the chosen window: the curves the plan carries.
 
-The echo from depth ``z`` has crossed every layer above ``z`` twice, so its round-trip loss is
+The echo from depth ``z`` has crossed every layer above ``z`` twice, so its single-frequency
+round-trip loss is
 
 ``L(z, f) = 2 * sum_i alpha0_i * f**y_i * min(d_i, max(0, z - z_i)) + interface losses``
+
+and the plan's curves integrate it over the probe's pulse spectrum, with the focusing loss of
+the wall layers crossed so far (:mod:`planner.physics.broadband`, :mod:`planner.physics.aberration`);
 
 where layer ``i`` starts at ``z_i`` and is ``d_i`` thick, and each interface above ``z`` adds
 its two-way intensity transmission loss ``-2 * 10 log10 T`` (normal incidence). At the bottom
@@ -24,7 +28,7 @@ from typing import Sequence
 
 import numpy as np
 
-from planner.physics import attenuation
+from planner.physics import aberration, broadband
 from planner.physics.interfaces import intensity_transmission_normal
 
 PROFILE_POINTS: int = 81
@@ -54,6 +58,8 @@ class LayerAcoustics:
     attenuation_db_per_cm_mhz: float
     attenuation_exponent: float
     impedance_mrayl: float | None = None
+    aberrating: bool = False
+    """True for body-wall fat and muscle (the phase screen, :mod:`planner.physics.aberration`)."""
 
 
 @dataclass(frozen=True)
@@ -115,8 +121,14 @@ class LossProfile:
 
 
 def loss_profile(layers: Sequence[LayerAcoustics], frequencies_mhz: Sequence[float], *,
-                 budget_db: float | None = None, points: int = PROFILE_POINTS) -> LossProfile:
+                 budget_db: float | None = None, points: int = PROFILE_POINTS,
+                 bandwidth_fraction: float = 0.0, low_edge_mhz: float = 0.0) -> LossProfile:
     """Round-trip loss against depth through a layer stack for several frequencies.
+
+    With a bandwidth the loss is the broadband energy loss of a Gaussian pulse of that centre
+    frequency (:func:`planner.physics.broadband.broadband_loss_db`), and the aberrating wall
+    layers crossed so far add their focusing loss (:mod:`planner.physics.aberration`); with 0
+    it is the single-frequency sum above.
 
     Raises
     ------
@@ -139,11 +151,14 @@ def loss_profile(layers: Sequence[LayerAcoustics], frequencies_mhz: Sequence[flo
     tops = np.concatenate(([0.0], np.cumsum(thick)[:-1]))
     bottoms = tops + thick
     depth = np.unique(np.concatenate((np.linspace(0.0, total, points), bottoms)))
-    alpha = attenuation.attenuation_db_per_cm(
-        freqs[:, None], np.array([lay.attenuation_db_per_cm_mhz for lay in layers])[None, :],
-        np.array([lay.attenuation_exponent for lay in layers])[None, :])        # (n_f, n_layers)
     crossed = np.clip(depth[:, None] - tops[None, :], 0.0, thick[None, :])       # (n_z, n_layers)
-    loss = 2.0 * crossed @ alpha.T                                              # (n_z, n_f)
+    k = 2.0 * crossed * np.array([lay.attenuation_db_per_cm_mhz for lay in layers])[None, :]
+    wall = np.array([lay.aberrating for lay in layers], dtype=bool)
+    sigma = aberration.arrival_time_rms_ns(10.0 * (crossed * wall[None, :]).sum(axis=1))
+    k = np.concatenate([k, aberration.round_trip_coefficient_db_per_mhz2(sigma)[:, None]], axis=1)
+    y = np.append([lay.attenuation_exponent for lay in layers], 2.0)
+    loss = broadband.broadband_loss_db(k[:, None, :], y, freqs[None, :], bandwidth_fraction,
+                                       low_edge_mhz)[0]                         # (n_z, n_f)
     loss = loss + _interface_steps_db(layers, tops, depth)[:, None]
     return LossProfile(
         depth_cm=tuple(depth.tolist()),
@@ -203,8 +218,10 @@ def candidate_frequencies_mhz(band_low: float | None, band_high: float | None,
 
 def stack_acoustics(stack) -> list[LayerAcoustics]:
     """The layers of a :class:`planner.body.stack.LayerStack` as the profile needs them."""
+    from planner.engine.batch import ABERRATING_ROLES
     return [LayerAcoustics(lay.label, lay.thickness_cm, lay.tissue.attenuation_db_per_cm_mhz,
-                           lay.tissue.attenuation_exponent, lay.tissue.impedance_mrayl)
+                           lay.tissue.attenuation_exponent, lay.tissue.impedance_mrayl,
+                           lay.role in ABERRATING_ROLES)
             for lay in stack.layers]
 
 
@@ -221,18 +238,24 @@ class DepthCurves:
         The band's ends and one frequency above it (:func:`candidate_frequencies_mhz`). [MHz]
     budget_db : float
         The round-trip signal budget of the plan. [dB]
+    bandwidth_fraction, low_edge_mhz : float
+        The chosen probe's pulse: fractional bandwidth and lowest frequency.
     """
 
     layers: tuple[LayerAcoustics, ...]
     frequencies_mhz: tuple[float, ...]
     budget_db: float
+    bandwidth_fraction: float = 0.0
+    low_edge_mhz: float = 0.0
     _samples: dict = field(default_factory=dict, compare=False, repr=False)
 
     def profile(self, points: int = PROFILE_POINTS) -> LossProfile:
         """Loss against depth at ``points`` evenly spaced depths (plus the layer boundaries)."""
         if points not in self._samples:
             self._samples[points] = loss_profile(self.layers, self.frequencies_mhz,
-                                                 budget_db=self.budget_db, points=points)
+                                                 budget_db=self.budget_db, points=points,
+                                                 bandwidth_fraction=self.bandwidth_fraction,
+                                                 low_edge_mhz=self.low_edge_mhz)
         return self._samples[points]
 
 
@@ -241,7 +264,9 @@ def plan_depth_curves(assessment, band_low: float | None, band_high: float | Non
     and one frequency above it (None when the stack has no depth)."""
     option = assessment.best
     probe_band = (option.probe.low_mhz, option.probe.high_mhz) if option is not None else None
-    freqs = candidate_frequencies_mhz(band_low, band_high, assessment.ceiling_mhz, probe_band)
+    ceiling = assessment.ceiling_mhz if option is None else assessment.probe_ceiling_mhz
+    freqs = candidate_frequencies_mhz(band_low, band_high, ceiling, probe_band)
     if not freqs or assessment.stack.depth_cm <= 0:
         return None
-    return DepthCurves(tuple(stack_acoustics(assessment.stack)), freqs, float(assessment.budget_db))
+    return DepthCurves(tuple(stack_acoustics(assessment.stack)), freqs, float(assessment.budget_db),
+                       float(assessment.bandwidth_fraction), float(assessment.low_edge_mhz))

@@ -13,7 +13,7 @@ from planner.engine.context import RuleContext
 from planner.engine.model import (DisplayDecision, FrequencyBand, HarmonicDecision, TiltDecision,
                                   TransmitBand)
 from planner.findings import Finding
-from planner.physics import beam
+from planner.physics import beam, specular
 from planner.physics.constants import HARMONIC_CONVERSION_LOSS_DB, SIGNAL_BUDGET_DIFFUSE_DB, \
     SPECULAR_ALLOWANCE_DB
 
@@ -38,20 +38,31 @@ def band_decision(ctx: RuleContext) -> tuple[FrequencyBand, list[Finding]]:
             "band.no_probe", "warning", "No probe fits this window",
             f"No probe of the inventory ({ctx.inventory.origin}) can be used through "
             f"{ctx.window.name}.", {}, ("CommonPractice",))]
-    reach_high = min(opt.probe.high_mhz, a.ceiling_mhz)
+    ceiling = a.probe_ceiling_mhz
+    reach_high = min(opt.probe.high_mhz, ceiling)
+    top = max(reach_high, opt.probe.low_mhz)
+    received = a.received_centre_mhz(top)
     values: dict[str, float | None] = {"detail_mm": target.detail_mm, "detail_floor_mhz": _r(opt.floor_mhz, 2),
-              "reach_ceiling_mhz": _r(a.ceiling_mhz, 2), "budget_db": a.budget_db,
+              "reach_ceiling_mhz": _r(ceiling, 2), "window_reach_ceiling_mhz": _r(a.ceiling_mhz, 2),
+              "budget_db": a.budget_db,
               "depth_cm": _r(a.stack.depth_cm), "probe_low_mhz": opt.probe.low_mhz,
-              "probe_high_mhz": opt.probe.high_mhz, "f_number": _r(opt.f_number, 2)}
-    sources = ("Kremkau2015", "RadiologyPhysicsSummary", SIGNAL_BUDGET_DIFFUSE_DB.source)
+              "probe_high_mhz": opt.probe.high_mhz, "f_number": _r(opt.f_number, 2),
+              "bandwidth_fraction": opt.probe.bandwidth_fraction,
+              "received_centre_mhz": _r(received, 2),
+              "wall_aberration_db": _r(a.aberration_db(top))}
+    sources = ("Kremkau2015", "RadiologyPhysicsSummary", SIGNAL_BUDGET_DIFFUSE_DB.source, "Kuc1984",
+               "NarayanaOphir1983", "Hinkelman1997Chest")
     explanation = (
-        "Reach: the highest frequency whose round-trip loss 2 x sum(alpha0_i f^y_i d_i) plus the "
-        f"interface losses stays within the {a.budget_db:g} dB signal budget"
+        "Reach: the highest centre frequency whose round-trip loss stays within the "
+        f"{a.budget_db:g} dB signal budget. The loss integrates the probe's pulse spectrum "
+        f"(Gaussian, {100 * opt.probe.bandwidth_fraction:.0f} % bandwidth) through the layers, "
+        "each losing 2 alpha0_i f^y_i d_i, so the echo's centre shifts down with depth; it adds "
+        "the body wall's aberration (phase-screen focusing loss) and the interface losses"
         + (f" (diffuse {SIGNAL_BUDGET_DIFFUSE_DB.value:g} dB + {SPECULAR_ALLOWANCE_DB.value:g} dB "
            "for strong specular echoes)" if a.budget_db > SIGNAL_BUDGET_DIFFUSE_DB.value else "")
-        + ". Detail: the lowest frequency at which both the axial resolution (pulse cycles x "
-        "wavelength / 2) and the lateral resolution at focus (wavelength x F-number) are as fine "
-        "as the detail the exam must resolve.")
+        + ". Detail: the lowest transmit frequency at which both the axial resolution (half the "
+        "spatial pulse length, pulse cycles x wavelength / 2) and the lateral resolution at focus "
+        "(wavelength x F-number) are as fine as the detail the exam must resolve.")
     if opt.feasible:
         summary = FrequencyBand(_r(opt.low_mhz), _r(opt.high_mhz), True)
         return summary, [Finding(
@@ -59,7 +70,8 @@ def band_decision(ctx: RuleContext) -> tuple[FrequencyBand, list[Finding]]:
             f"Use {opt.low_mhz:.1f}-{opt.high_mhz:.1f} MHz on the {opt.probe.label}: "
             f"{target.detail_mm:g} mm detail needs at least {opt.floor_mhz:.1f} MHz at F/{opt.f_number:.1f}; "
             f"the echo from {a.stack.depth_cm:.1f} cm stays within the {a.budget_db:g} dB budget "
-            f"up to {a.ceiling_mhz:.1f} MHz.", values, sources, explanation)]
+            f"up to {ceiling:.1f} MHz.", values, sources, explanation)] \
+            + downshift_findings(ctx, opt.high_mhz, values)
     best_detail = finest_detail_mm(opt, reach_high)
     values["finest_detail_mm"] = _r(best_detail, 2) if math.isfinite(best_detail) else None
     low = opt.probe.low_mhz
@@ -67,15 +79,56 @@ def band_decision(ctx: RuleContext) -> tuple[FrequencyBand, list[Finding]]:
     summary = FrequencyBand(_r(low), _r(high), False)
     if reach_high < opt.probe.low_mhz:
         msg = (f"Even {opt.probe.low_mhz:g} MHz loses more than the {a.budget_db:g} dB budget over "
-               f"{a.stack.depth_cm:.1f} cm (reach ceiling {a.ceiling_mhz:.1f} MHz): expect a weak, noisy "
+               f"{a.stack.depth_cm:.1f} cm (reach ceiling {ceiling:.1f} MHz): expect a weak, noisy "
                "far field at the target.")
     else:
         msg = (f"{target.detail_mm:g} mm detail needs {opt.floor_mhz:.1f} MHz, but the echo from "
-               f"{a.stack.depth_cm:.1f} cm only reaches up to {reach_high:.1f} MHz; at that frequency the "
-               f"finest detail is about {best_detail:.1f} mm.")
+               f"{a.stack.depth_cm:.1f} cm only reaches up to {reach_high:.1f} MHz; at that frequency "
+               f"the finest detail is about {best_detail:.1f} mm.")
     return summary, [Finding("band.detail_unreachable", "warning",
                              "Needed detail not reachable from this window", msg, values, sources,
                              explanation)]
+
+
+def downshift_findings(ctx: RuleContext, band_top_mhz: float, values: dict) -> list[Finding]:
+    """Caution when the echo from the target returns centred below the detail floor.
+
+    The band stays recommended (the detail is judged at the transmit centre, see
+    :func:`planner.engine.batch.probe_arrays`): the downshift does not lengthen the pulse
+    (Kuc1984: a linear loss moves the Gaussian spectrum without narrowing it, so the axial
+    resolution, half the spatial pulse length, holds; Kremkau2015), but the receive half of
+    the two-way beam is formed at the lower echo centre, so the lateral detail at the target
+    is coarser than at the transmit frequency. The caution states by how much.
+    """
+    a, opt, target = ctx.chosen, ctx.option, ctx.target
+    if opt is None:
+        return []
+    received = a.received_centre_mhz(band_top_mhz)
+    if received >= opt.floor_mhz - 1e-9:
+        return []
+    lateral_rx = float(beam.lateral_resolution_mm(received, opt.f_number))
+    lateral_tx = float(beam.lateral_resolution_mm(band_top_mhz, opt.f_number))
+    lateral_2way = lateral_tx * math.sqrt(2.0 / (1.0 + (received / band_top_mhz) ** 2))
+    vals = dict(values, band_top_mhz=_r(band_top_mhz, 2), received_centre_mhz=_r(received, 2),
+                lateral_detail_transmit_mm=_r(lateral_tx, 2),
+                lateral_detail_received_mm=_r(lateral_rx, 2),
+                lateral_detail_two_way_mm=_r(lateral_2way, 2))
+    return [Finding(
+        "band.echo_downshift", "caution", "Echo returns at a lower frequency",
+        f"At {band_top_mhz:.1f} MHz the echo from {a.stack.depth_cm:.1f} cm returns centred near "
+        f"{received:.1f} MHz, below the {opt.floor_mhz:.1f} MHz that {target.detail_mm:g} mm detail "
+        f"needs: the path eats the top of the pulse's spectrum. Axial detail holds (the pulse stays as "
+        f"short), but lateral detail at the target is nearer {lateral_2way:.1f} mm than "
+        f"{lateral_tx:.1f} mm. Use the top of the band, focus at the target and expect fine detail "
+        "to be less crisp; this is still the best band from this window.",
+        vals, ("Kuc1984", "Kremkau2015"),
+        "Axial resolution is half the spatial pulse length, set by the pulse's bandwidth in Hz; a "
+        "loss linear in frequency shifts a Gaussian spectrum down (f0 - 4 alpha sigma^2 z) without "
+        "narrowing it, so the received pulse is as short as the transmitted one. The lateral beam "
+        "width is wavelength x F-number; the transmit beam is formed at the transmit frequency and "
+        "the receive beam at the echo's centre. The two-way beam is their product; for Gaussian "
+        "profiles its width grows by sqrt(2 / (1 + (f_echo / f_transmit)^2)) over the "
+        "single-frequency value (derived).")]
 
 
 def harmonic_decision(ctx: RuleContext) -> tuple[HarmonicDecision, list[Finding]]:
@@ -132,9 +185,11 @@ def tilt_decision(ctx: RuleContext) -> tuple[TiltDecision, list[Finding]]:
                             "Diffuse echoes do not depend on the beam angle: choose the tilt for the "
                             "window (shortest path, fewest shadows), not for the target."), []
     probe = opt.probe
-    half_scan = min(probe.aperture_mm / 2.0, depth * 10.0 / (2.0 * probe.receive_f_number))
-    scan = float(beam.specular_tolerance_deg(half_scan, depth))
-    elev = float(beam.specular_tolerance_deg(probe.elevation_aperture_mm / 2.0, depth))
+    freq = max(min(opt.high_mhz, probe.high_mhz), probe.low_mhz)
+    scan_mm = min(probe.aperture_mm, depth * 10.0 / probe.receive_f_number)
+    scan = specular.specular_tolerance_wave_deg(scan_mm, depth, freq)
+    elev = specular.specular_tolerance_wave_deg(probe.elevation_aperture_mm, depth, freq,
+                                                probe.elevation_focus_cm)
     tol = min(scan, elev)
     names = ", ".join(s.name for s in surfaces)
     angled = [s for s in surfaces if s.tilt_from_skin_deg > tol]
@@ -146,13 +201,19 @@ def tilt_decision(ctx: RuleContext) -> tuple[TiltDecision, list[Finding]]:
         advice += (f" The {s.name} lies about {s.tilt_from_skin_deg:.0f} deg to the skin: angle the probe by "
                    "that much to meet it square on.")
     values = {"scan_plane_deg": _r(scan), "elevation_plane_deg": _r(elev), "depth_cm": _r(depth),
-              "half_aperture_scan_mm": _r(half_scan), "half_aperture_elevation_mm":
-              _r(probe.elevation_aperture_mm / 2.0)}
+              "frequency_mhz": _r(freq, 2), "aperture_scan_mm": _r(scan_mm),
+              "aperture_elevation_mm": _r(probe.elevation_aperture_mm),
+              "elevation_focus_cm": probe.elevation_focus_cm,
+              "geometric_scan_plane_deg": _r(beam.specular_tolerance_deg(scan_mm / 2.0, depth)),
+              "geometric_elevation_plane_deg": _r(beam.specular_tolerance_deg(
+                  probe.elevation_aperture_mm / 2.0, depth))}
     findings = [Finding("tilt.specular", "advice", "Tilt tolerance for mirror-like surfaces", advice,
-                        values, ("Crass1988", "RCEMSpecular"),
-                        "A flat mirror-like surface tilted by theta returns its echo at 2 theta; the echo "
-                        "still meets the receive aperture of half-width a at depth z while "
-                        "tan(2 theta) <= a/z, so the tolerance is 0.5 atan(a/z) in each plane.")]
+                        values, ("Crass1988", "RCEMSpecular", "KinslerFrey2000"),
+                        "A flat mirror-like surface tilted by theta returns its echo at 2 theta. The "
+                        "tolerance is the tilt that halves the echo in a wave (Fresnel) model of each "
+                        "plane: the scan plane's active aperture focused at the depth on receive, the "
+                        "elevation lens with its fixed focus. Near a focus it is about 0.5 atan(a/z); "
+                        "away from the lens focus the beam's divergence sets it.")]
     if target.target_tissue == "tendon":
         findings.append(Finding(
             "tilt.anisotropy", "caution", "Anisotropy can mimic a tear",

@@ -9,7 +9,7 @@ from planner.body.patient import Patient
 from planner.body.stack import build_stack_batch, measured_wall_ratio
 from planner.body.walls import load_wall_models
 from planner.engine import decisions
-from planner.engine.assess import WindowAssessment, assessment_at
+from planner.engine.assess import WindowAssessment, assessment_at, prime_losses
 from planner.engine.batch import assess_batches
 from planner.engine.context import Decisions, RuleContext
 from planner.engine.curves import plan_depth_curves
@@ -75,6 +75,7 @@ def rank_assessments(assessments: list[WindowAssessment]) -> tuple[list[WindowAs
     """Feasible windows first, then by round-trip loss at a common reference frequency."""
     feasible_highs = [a.best.high_mhz for a in assessments if a.best is not None and a.feasible]
     reference = max(feasible_highs) if feasible_highs else 3.5
+    prime_losses(assessments, reference)
     ranked = sorted(assessments, key=lambda a: (not a.feasible, a.loss_db(reference)))
     return ranked, reference
 

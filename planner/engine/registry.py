@@ -75,6 +75,8 @@ for _rule in (
          artefacts.prism_findings),
     Rule("artefact.edge_shadow", "artefact", "curved fluid-filled targets",
          artefacts.edge_shadow_findings),
+    Rule("artefact.wall_aberration", "artefact", "windows with fat or muscle in the body wall",
+         artefacts.wall_aberration_findings),
     Rule("artefact.sound_speed", "artefact", "every plan", artefacts.sound_speed_findings),
     Rule("shadow.ribs", "shadow", "intercostal windows with a rib gap", artefacts.rib_findings),
     Rule("shadow.gas", "shadow", "gas-prone windows or stated bowel gas", artefacts.gas_findings),

@@ -170,7 +170,7 @@ def sweep_plans(request: PlanRequest, bmi) -> list[SweepRow]:
             low, high = float(wb.probes.low_mhz[i, col]), float(wb.probes.high_mhz[i, col])
         else:
             low = probe.low_mhz
-            high = max(low, min(probe.high_mhz, float(wb.ceiling_mhz[i])))
+            high = max(low, min(probe.high_mhz, float(wb.probe_ceiling_mhz[i])))
         harmonic = bool(harmonic_advised(wb, np.array([i]), np.array([col]), b[i:i + 1],
                                          target.harmonic_contraindicated)[0])
         out.append(SweepRow(float(b[i]), windows[chosen[i]].id, probe.id, round(high, 1), round(high, 1),

@@ -4,7 +4,8 @@ Format (``schema_version: 1``): ``probes``, a non-empty list of probes with ``id
 ``label``, ``type`` (a probe family of ``planner/data/vocabulary.yaml``), ``band_mhz:
 [low, high]`` [MHz], ``aperture_mm`` (active aperture in the scan plane) [mm],
 ``elevation_aperture_mm`` [mm], ``elevation_focus_cm`` [cm], ``footprint_mm: [length,
-width]`` [mm], ``receive_f_number`` [-], ``pulse_cycles`` [-] and ``harmonic``. Optional
+width]`` [mm], ``receive_f_number`` [-], ``pulse_cycles`` [-], ``harmonic`` and, optionally,
+``bandwidth_fraction`` [-] (fractional -6 dB pulse-echo bandwidth; default 0.6). Optional
 ``department``, ``title`` and ``source`` ({source, status, note}) describe the file.
 The ranges are plausibility bounds (common practice), not limits of any product.
 """
@@ -34,6 +35,9 @@ ElevationFocusCm = Annotated[float, Field(ge=0.2, le=30, allow_inf_nan=False,
                                           description="Fixed elevation (lens) focus. [cm]")]
 ReceiveFNumber = Annotated[float, Field(ge=0.5, le=10, allow_inf_nan=False,
                                         description="Receive F-number. [-]")]
+BandwidthFraction = Annotated[float, Field(ge=0.05, le=1.5, allow_inf_nan=False,
+                                           description="Fractional -6 dB bandwidth of the "
+                                           "pulse-echo spectrum (default 0.6). [-]")]
 PulseCycles = Annotated[float, Field(ge=0.5, le=20, allow_inf_nan=False,
                                      description="Cycles in the transmitted pulse. [-]")]
 
@@ -54,6 +58,7 @@ class ProbeEntry(FileModel):
     receive_f_number: ReceiveFNumber
     pulse_cycles: PulseCycles
     harmonic: bool = Field(description="Can receive the second harmonic.")
+    bandwidth_fraction: BandwidthFraction | None = None
 
     @field_validator("band_mhz")
     @classmethod

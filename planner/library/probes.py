@@ -5,8 +5,9 @@ a list ``probes`` of entries with ``id``, ``label``,
 ``type`` (linear, linear_hf, curvilinear, microconvex, phased, endocavitary),
 ``band_mhz: [low, high]``, ``aperture_mm`` (active aperture in the scan plane),
 ``elevation_aperture_mm``, ``elevation_focus_cm``, ``footprint_mm: [length, width]``,
-``receive_f_number``, ``pulse_cycles`` and ``harmonic`` (true when it can receive the
-second harmonic). The default inventory's geometry is typical of each probe family
+``receive_f_number``, ``pulse_cycles``, ``harmonic`` (true when it can receive the
+second harmonic) and, optionally, ``bandwidth_fraction`` (fractional -6 dB bandwidth of the
+pulse-echo spectrum; default 0.6). The default inventory's geometry is typical of each probe family
 (common practice, see ``planner/data/probes.yaml``).
 """
 
@@ -19,6 +20,7 @@ from pathlib import Path
 
 from planner.datafiles import load_package_yaml, vocabulary
 from planner.errors import InputError
+from planner.physics.constants import BANDWIDTH_FRACTION_DEFAULT
 
 PROBE_TYPES: tuple[str, ...] = vocabulary()["probe_types"]
 """Probe families (``planner/data/vocabulary.yaml``)."""
@@ -40,6 +42,9 @@ class Probe:
     receive_f_number: float
     pulse_cycles: float
     harmonic: bool
+    bandwidth_fraction: float = BANDWIDTH_FRACTION_DEFAULT.value
+    """Fractional -6 dB bandwidth of the pulse-echo spectrum (default: a typical array,
+    :data:`planner.physics.constants.BANDWIDTH_FRACTION_DEFAULT`, from memory). [-]"""
 
     @property
     def centre_mhz(self) -> float:
@@ -74,7 +79,9 @@ def probe_from_entry(raw: dict) -> Probe:
                  footprint_length_mm=float(raw["footprint_mm"][0]),
                  footprint_width_mm=float(raw["footprint_mm"][1]),
                  receive_f_number=float(raw["receive_f_number"]),
-                 pulse_cycles=float(raw["pulse_cycles"]), harmonic=raw["harmonic"])
+                 pulse_cycles=float(raw["pulse_cycles"]), harmonic=raw["harmonic"],
+                 bandwidth_fraction=float(raw.get("bandwidth_fraction")
+                                          or BANDWIDTH_FRACTION_DEFAULT.value))
 
 
 @lru_cache(maxsize=1)

@@ -35,3 +35,9 @@ HARMONIC_CONVERSION_LOSS_DB = Sourced(
 ANGLE_LIMIT_VELOCITY_DEG = Sourced(60.0, "DopplerTeaching", "verified",
                                    "beam-to-flow angle for velocity measurement")
 """Largest beam-to-flow angle accepted for a velocity measurement. [deg]"""
+
+BANDWIDTH_FRACTION_DEFAULT = Sourced(
+    0.6, "Szabo2004", "from_memory",
+    "fractional -6 dB bandwidth of the pulse-echo spectrum of a typical imaging array (about "
+    "50-80 %); used for a probe whose inventory entry gives none")
+"""Default fractional -6 dB pulse-echo bandwidth of a probe. [-]"""

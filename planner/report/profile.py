@@ -58,5 +58,9 @@ def plan_loss_profile(plan: Plan, frequencies_mhz: Sequence[float] | None = None
         if curves is None:
             raise ValueError("the plan has no depth curves")
         return curves.profile(points)
+    if curves is not None:       # the engine's layers and pulse (broadband, wall aberration)
+        return loss_profile(curves.layers, frequencies_mhz, budget_db=plan_budget_db(plan),
+                            points=points, bandwidth_fraction=curves.bandwidth_fraction,
+                            low_edge_mhz=curves.low_edge_mhz)
     layers = [layer_acoustics(layer) for layer in plan.layers]
     return loss_profile(layers, frequencies_mhz, budget_db=plan_budget_db(plan), points=points)
