@@ -19,11 +19,16 @@ def test_half_intensity_depth_TeachingAttenuationRule(f, hid):
     assert A.half_intensity_depth_cm(f) == pytest.approx(hid, abs=0.05)
 
 
-@pytest.mark.parametrize("f, depth", [(5.0, 8.0), (2.5, 16.0), (10.0, 4.0)])
-def test_penetration_40_over_f_RadiologyPhysicsSummary(f, depth):
-    """Penetration ~ 40/f cm, i.e. D = 40 dB at 0.5 dB/cm/MHz: the reach solver at 40 dB gives it."""
-    reach_f = A.max_frequency_for_budget_mhz(40.0, [depth], [0.5], [1.0])
-    assert reach_f == pytest.approx(f, rel=1e-6)
+@pytest.mark.parametrize("depth, alpha", [(8.0, 0.5), (16.0, 0.5), (12.0, 0.7)])
+def test_reach_solver_inverts_the_loss_at_the_engine_budget(depth, alpha):
+    """The frequency the solver returns at the engine's diffuse budget (SIGNAL_BUDGET_DIFFUSE_DB)
+    makes the forward round-trip loss equal that budget, for the IEC 61391 phantom
+    attenuations 0.5 and 0.7 dB/cm/MHz (a round trip through two independent code paths:
+    the closed-form forward loss and the bracketing root solver)."""
+    from planner.physics.constants import SIGNAL_BUDGET_DIFFUSE_DB
+    budget = SIGNAL_BUDGET_DIFFUSE_DB.value
+    f = float(A.max_frequency_for_budget_mhz(budget, [depth], [alpha], [1.0]))
+    assert float(A.stack_round_trip_loss_db([depth], f, [alpha], [1.0])) == pytest.approx(budget, rel=1e-6)
 
 
 def test_general_depth_limit_derived():

@@ -60,20 +60,24 @@ def edge_shadow_findings(ctx: RuleContext) -> list[Finding]:
     if around is None:
         return []
     radius = max(radii)
-    width = float(refraction.edge_shadow_width_mm(radius, around.speed_m_per_s, lumen.speed_m_per_s))
+    width = float(refraction.edge_shadow_width_mm(
+        radius, around.speed_m_per_s, lumen.speed_m_per_s, around.density_kg_per_m3,
+        lumen.density_kg_per_m3))
     if width < 0.05:
         return []
     return [Finding(
         "artefact.edge_shadow", "info", "Edge shadows at the rims",
-        f"Rays grazing the curved wall of the {target.name.lower()} (radius about {radius:.0f} mm) refract "
-        f"or reflect totally; a band about {width:.1f} mm wide at each rim may cast a thin shadow. Do not "
-        "take it for a stone shadow: a true shadow starts at an echogenic focus. Change the angle to move it.",
+        f"Rays grazing the curved wall of the {target.name.lower()} (radius about {radius:.0f} mm) bend "
+        f"or reflect there; behind each rim a band about {width:.1f} mm wide gets less than half the "
+        "sound and may look like a shadow. Do not take it for a stone shadow: a true shadow starts at an "
+        "echogenic focus. Change the angle to move it.",
         {"radius_mm": radius, "rim_band_mm": _r(width, 2), "speed_inside_m_per_s": lumen.speed_m_per_s,
          "speed_outside_m_per_s": around.speed_m_per_s},
         ("EdgeShadowTeaching", "KinslerFrey2000"),
-        "A straight ray at offset x from the centre of a round structure of radius a meets its wall at "
-        "incidence arcsin(x/a); beyond the critical angle arcsin(c_slow/c_fast) it is totally reflected, "
-        "so the rim band is a (1 - c_slow/c_fast) wide.")]
+        "Rays crossing a round structure are traced with Snell's law at entry and exit, each carrying the "
+        "power the two crossings transmit; near grazing incidence they are deviated by 2 (theta_1 - "
+        "theta_2). The band is where the power landing one radius beyond the far wall falls below half "
+        "the incident.")]
 
 
 def sound_speed_findings(ctx: RuleContext) -> list[Finding]:
