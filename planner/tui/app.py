@@ -56,10 +56,10 @@ class ScanplanApp(App[int]):
         if isinstance(self.screen, QuitDialog):
             return
         planning = getattr(self, "planning", None)
-        if planning is None or not planning.dirty:
+        if planning is None:
             self.exit()
             return
-        planning.request_quit()
+        planning.request_quit()     # waits for a form that is mounting; asks when edited
 
     def action_help(self) -> None:
         if not isinstance(self.screen, HelpScreen):

@@ -40,7 +40,9 @@ class PlanComputed(Message):
 class EngineLoaded(Message):
     """The engine and the target library finished loading in the background."""
 
-    def __init__(self, library: Any = None, error: str = "") -> None:
+    def __init__(self, library: Any = None, error: str = "", first: Any = None) -> None:
         super().__init__()
         self.library = library
         self.error = error
+        self.first = first
+        """The outcome of the opening inputs, computed with the engine (None: compute it)."""

@@ -32,6 +32,23 @@ from planner.tui.widgets.masthead import Masthead
 guards.install()   # Textual 8.2.8: PageDown at 1x1, a burst of Enters in the palette
 
 
+FORM_DELAY_S: float = 0.05
+"""Pause between painting the first plan and mounting the form, so that the plan reaches the
+terminal first (measured: the plan otherwise appears only with the form, 300-400 ms later). [s]"""
+
+
+async def _descendants_mounted(widget, limit_s: float = 3.0) -> None:
+    """Wait until every widget under ``widget`` has mounted (an awaited mount returns when
+    the top widget has; its descendants, such as a Select's overlay, mount in their own
+    tasks, and exiting before they do breaks them)."""
+    import asyncio
+    deadline = asyncio.get_running_loop().time() + limit_s
+    while any(not w.is_mounted for w in widget.walk_children(with_self=True)):
+        if asyncio.get_running_loop().time() > deadline:
+            return
+        await asyncio.sleep(0.005)
+
+
 class PlanningScreen(FileActions):
     """Inputs, live plan, and the file actions."""
 
@@ -71,6 +88,8 @@ class PlanningScreen(FileActions):
         self._last_raw: dict | None = None
         self.mounting_form = False
         self.quit_pending = False
+        self.closing = False            # the app is exiting: nothing more to mount
+        self._form_timer = None
         self._protocol_path = "protocol.yaml"
         self.signed = None          # planner.tui.signoff.SignedFile of the opened file
 
@@ -106,7 +125,7 @@ class PlanningScreen(FileActions):
 
     async def _mount_form(self) -> None:
         """Mount the input form (after the first plan is on screen) and plan from it."""
-        if self.built or self.quit_pending or not self.is_attached:
+        if self.built or self.quit_pending or self.closing or not self.is_attached:
             return              # quit (Ctrl+Q) before the form came: nothing to mount
         from planner.tui.widgets.input_panel import InputPanel
         panel = InputPanel(form_values(self.baseline))
@@ -115,6 +134,7 @@ class PlanningScreen(FileActions):
         try:
             await self.query_one("#inputs-placeholder").remove()
             await body.mount(panel, before=self.pane)
+            await _descendants_mounted(panel)
         finally:
             self.mounting_form = False
         self.built = True
@@ -146,9 +166,9 @@ class PlanningScreen(FileActions):
             from planner.library.targets import load_library
             from planner.safety.context import EXAM_TYPES, MODES
             library = load_library()
-            compute(form_values(DEMO_INPUTS))          # warms the data caches
+            first = compute(form_values(self.baseline))    # the opening inputs; warms the caches
             self.post_message(EngineLoaded((library, dict(EXAM_TYPES), dict(MODES),
-                                            list(CONDITIONS))))
+                                            list(CONDITIONS)), first=first))
         except Exception as exc:  # noqa: BLE001 - shown to the user instead of a crash
             message = getattr(exc, "message", None) or f"{type(exc).__name__}: {exc}"
             self.post_message(EngineLoaded(error=message))
@@ -163,10 +183,12 @@ class PlanningScreen(FileActions):
             pane.show_failure(event.error)
         else:
             self._library_info = event.library
-            first = compute(form_values(self.baseline))   # the opening inputs, before the form
+            first = event.first or compute(form_values(self.baseline))   # before the form
             if first.plan is not None:
                 self._show_plan(first.plan)
-        self.call_after_refresh(self._mount_form)
+        # a short pause lets the first plan reach the terminal before the form's widgets
+        # (hundreds of milliseconds of mounting) hold the event loop
+        self._form_timer = self.set_timer(FORM_DELAY_S, self._mount_form)
 
     # -- recompute --------------------------------------------------------------------------
     def on_inputs_edited(self, event: InputsEdited) -> None:

@@ -29,6 +29,7 @@ class FileActions(Screen):
     _protocol_path: str
     mounting_form: bool
     quit_pending: bool
+    closing: bool
 
     @property
     def dirty(self) -> bool:  # defined by the planning screen
@@ -75,6 +76,7 @@ class FileActions(Screen):
             self.quit_pending = True        # the form mounts, then the app quits
             return
         if not self.dirty:
+            self.closing = True             # a form mount still scheduled will not start
             self.app.exit()
             return
         from planner.tui.screens.decide import QuitDialog
