@@ -89,7 +89,7 @@ class PlanningScreen(FileActions):
         self.mounting_form = False
         self.quit_pending = False
         self.closing = False            # the app is exiting: nothing more to mount
-        self._form_timer = None
+        self._form_timer: object | None = None
         self._protocol_path = "protocol.yaml"
         self.signed = None          # planner.tui.signoff.SignedFile of the opened file
 
