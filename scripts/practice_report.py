@@ -69,6 +69,7 @@ class Table:
     cases: list[dict[str, Any]]
     known: dict[tuple[str, str], dict[str, str]]
     causes: dict[str, str]
+    observations: list[dict[str, Any]]
 
 
 def reference_keys() -> dict[str, str]:
@@ -178,9 +179,19 @@ def load_table(path: Path = TABLE) -> Table:
         if pair in known:
             at(("known_disagreements", j), f"listed twice: {pair[0]} / {pair[1]}")
         known[(str(pair[0]), str(pair[1]))] = entry
+    observations = data.get("observations") or []
+    for j, obs in enumerate(observations):
+        if not isinstance(obs, dict) or not isinstance(obs.get("note"), str) \
+                or not isinstance(obs.get("cases"), list):
+            at(("observations", j), "needs an id, a list of cases and a note")
+            continue
+        for cid in obs["cases"]:
+            if cid not in seen:
+                at(("observations", j, "cases"), f"no case {cid!r}")
     if problems:
         raise TableError(problems)
-    return Table(cases=cases, known=known, causes={str(k): str(v) for k, v in causes.items()})
+    return Table(cases=cases, known=known, causes={str(k): str(v) for k, v in causes.items()},
+                 observations=list(observations))
 
 
 def plan_argv(inputs: dict[str, Any]) -> list[str]:
@@ -275,7 +286,8 @@ def evaluate(table: Table, only: set[str] | None = None) -> dict[str, Any]:
             "totals": {col: {"agree": a, "of": n} for col, (a, n) in totals.items()},
             "overall": {"agree": agree_all, "of": count_all},
             "cases_all_agree": sum(all(c["agree"] for c in r["columns"].values()) for r in rows),
-            "causes": table.causes, "stale_known": stale, "unlisted_disagreements": unlisted}
+            "causes": table.causes, "observations": table.observations,
+            "stale_known": stale, "unlisted_disagreements": unlisted}
 
 
 def render_text(report: dict[str, Any]) -> str:
@@ -287,11 +299,13 @@ def render_text(report: dict[str, Any]) -> str:
     for row in report["cases"]:
         lines.append(f"{row['id']}: {row['title']}")
         lines.append(f"  inputs: scanplan {' '.join(row['argv'])}")
-        lines.append(f"  {'column':<{width}}  {'practice':<44}  {'plan':<30}  agree")
+        pw = max(8, *(len(c["practice"]) for c in row["columns"].values()))
+        vw = max(4, *(len(c["plan"]) for c in row["columns"].values()))
+        lines.append(f"  {'column':<{width}}  {'practice':<{pw}}  {'plan':<{vw}}  agree")
         for col, c in row["columns"].items():
             mark = "yes" if c["agree"] else ("no (known)" if c["known_disagreement"] else "no")
-            lines.append(f"  {COLUMN_TITLES[col]:<{width}}  {c['practice'][:44]:<44}  "
-                         f"{c['plan'][:30]:<30}  {mark}")
+            lines.append(f"  {COLUMN_TITLES[col]:<{width}}  {c['practice']:<{pw}}  "
+                         f"{c['plan']:<{vw}}  {mark}")
             lines.append(f"  {'':<{width}}    {c['source']}, {c['where']} [{c['status']}]")
             if c["known_disagreement"]:
                 lines.append(f"  {'':<{width}}    diagnosis: {c['known_disagreement']['diagnosis']}")
@@ -313,6 +327,11 @@ def render_text(report: dict[str, Any]) -> str:
         for cause, items in by_cause.items():
             lines.append(f"  {cause}: {report['causes'].get(cause, '')} ({len(items)})")
             lines += [f"    - {item}" for item in items]
+    if report["observations"]:
+        lines += ["", "Observations (not counted as disagreements):"]
+        for obs in report["observations"]:
+            lines.append(f"  {obs.get('id', '')}: {obs['note']}")
+            lines.append(f"    cases: {', '.join(obs['cases'])}")
     for label, items in (("Listed as disagreements but now agree (update the list)", report["stale_known"]),
                          ("Disagreements not in the list", report["unlisted_disagreements"])):
         if items:

@@ -129,6 +129,22 @@ def test_known_disagreements_are_exactly_the_failing_pairs():
         assert "\n" not in entry["diagnosis"] and len(entry["diagnosis"]) <= 240
 
 
+WALL_FREE_PAIRS = (("embryo-bmi21-8w", "embryo-bmi42-8w"), ("uterus-bmi21-tv", "uterus-bmi42-tv"),
+                   ("ovary-bmi21", "ovary-bmi42"), ("testis-bmi21", "testis-bmi42"),
+                   ("achilles-tendon-bmi21", "achilles-tendon-bmi42"))
+"""Slim and obese cases whose route has no abdominal wall (endocavitary, scrotum, ankle)."""
+
+
+@pytest.mark.parametrize(("slim", "obese"), WALL_FREE_PAIRS, ids=[p[0] for p in WALL_FREE_PAIRS])
+def test_plan_barely_changes_with_bmi_where_the_route_has_no_wall(slim, obese):
+    """Common practice: BMI does not change the transvaginal, scrotal or Achilles start (the
+    path does not cross the abdominal wall), so probe, first window and start stay put."""
+    a, b = _plan_values(slim), _plan_values(obese)
+    assert a["probe_type"] == b["probe_type"] and a["first_window"] == b["first_window"]
+    assert a["start_band"] is not None and b["start_band"] is not None
+    assert abs(a["start_band"] - b["start_band"]) <= 0.5
+
+
 def test_agreement_rules():
     band = {"low_mhz": 3.5, "high_mhz": 5.0}
     assert report.agrees("start_band", band, 5.25) and report.agrees("start_band", band, 3.25)
