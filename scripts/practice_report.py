@@ -97,7 +97,8 @@ def _check_value(col: str, value: Any, keys: dict[str, str]) -> list[str]:
         out.append(f"status must be one of {', '.join(STATUSES)}, got {value['status']!r}")
     if col == "start_band":
         lo, hi = value.get("low_mhz"), value.get("high_mhz")
-        if not all(isinstance(v, (int, float)) and not isinstance(v, bool) for v in (lo, hi)):
+        if not isinstance(lo, (int, float)) or not isinstance(hi, (int, float)) \
+                or isinstance(lo, bool) or isinstance(hi, bool):
             out.append("needs numbers low_mhz and high_mhz")
         elif not 0 < lo <= hi <= 30:
             out.append(f"needs 0 < low_mhz <= high_mhz <= 30 MHz, got {lo}-{hi}")
