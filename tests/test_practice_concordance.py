@@ -85,6 +85,9 @@ def test_table_references_do_not_redefine_package_keys():
     own = load_user_yaml(report.TABLE_REFERENCES, kind="reference list").data
     assert own and not set(own) & set(REFERENCES)
     assert all(isinstance(v, str) and v.strip() for v in own.values())
+    text = report.TABLE.read_text(encoding="utf-8")
+    unused = sorted(k for k in own if k not in text)
+    assert not unused, f"keys no value or note of the table uses: {unused}"
 
 
 def test_required_targets_at_slim_and_obese_habitus():
