@@ -13,7 +13,7 @@ from __future__ import annotations
 
 from typing import Any
 
-from planner.engine import artefacts, habitus_rules
+from planner.engine import artefacts, habitus_rules, likely
 from planner.engine.context import Decisions, RuleContext
 from planner.findings import Finding, Rule, RuleRegistry
 
@@ -86,6 +86,9 @@ for _rule in (
     Rule("window.fluid", "window", "paths crossing fluid above the target", artefacts.fluid_findings),
     Rule("condition.steatosis", "condition", "a steatotic liver on the path",
          habitus_rules.steatosis_findings),
+    Rule("condition.likely_steatosis", "condition",
+         "severe obesity with a normal liver on the path (steatosis likely, not entered)",
+         likely.likely_steatosis_findings),
     Rule("condition.ascites", "condition", "ascites on the path", habitus_rules.ascites_findings),
     Rule("condition.approach", "condition",
          "stated conditions that change the approach (breath hold, mobility, fasting, oedema)",

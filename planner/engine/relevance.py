@@ -67,7 +67,12 @@ def _calcification(finding: Finding, target: Any) -> str:
     return "more" if finding.values.get("risk") in ("none", "low") else "main"
 
 
+def _likely_condition(finding: Finding, target: Any) -> str:
+    return "main" if finding.values.get("band_changes") else "more"
+
+
 RELEVANCE_GRADERS: dict[str, Callable[[Finding, Any], str]] = {
+    "condition.likely_steatosis": _likely_condition,
     "artefact.sound_speed": _sound_speed,
     "tilt.specular": _tilt,
     "habitus.wall": _wall,
