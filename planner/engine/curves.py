@@ -23,6 +23,8 @@ transmission).
 
 from __future__ import annotations
 
+import math
+
 from dataclasses import dataclass, field
 from typing import Sequence
 
@@ -210,7 +212,7 @@ def candidate_frequencies_mhz(band_low: float | None, band_high: float | None,
     picks.append(above)
     out: list[float] = []
     for f in sorted(picks):
-        f = round(f, 2)
+        f = math.floor(f * 100.0 + 1e-9) / 100.0      # down: a top rounded up would exceed the ceiling
         if f > 0 and all(abs(f - g) >= 0.1 for g in out):
             out.append(f)
     return tuple(out[:3])
