@@ -57,3 +57,19 @@ def test_obese_class_one_on_a_trunk_route_keeps_the_published_bmi_threshold():
     finding = next(f for f in plan.findings if f.code == "habitus.limited_exam")
     assert finding.values["subcutaneous_fat_mm"] < finding.values["threshold_fat_mm"]
     assert "trunk route" in finding.message
+
+
+def test_measured_wall_and_fat_are_both_honoured_at_the_measured_window():
+    """A wall of 40 mm with 30 mm of fat measured at the window: the stack there has a 40 mm
+    wall of which 30 mm is fat (the measurement, not the BMI model's share)."""
+    from planner.body.patient import Patient
+    from planner.body.stack import build_stack
+    from planner.library.targets import load_library
+
+    window = load_library().get("liver").windows[0]
+    stack = build_stack(Patient.from_inputs(bmi=30, wall_mm=40, fat_mm=30), window)
+    wall = [lay for lay in stack.layers if lay.role in ("skin", "subcutaneous_fat", "muscle",
+                                                        "preperitoneal_fat", "linea_alba")]
+    assert sum(lay.thickness_cm for lay in wall) * 10 == pytest.approx(40.0, abs=0.05)
+    fat = next(lay for lay in wall if lay.role == "subcutaneous_fat")
+    assert fat.thickness_cm * 10 == pytest.approx(30.0, abs=0.05)

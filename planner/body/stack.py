@@ -297,6 +297,16 @@ def build_stack_batch(patient: Patient, window, *, bmi=None, depth_cm=None,
         cols = np.array([patient.wall_mm is not None or lay.role == "subcutaneous_fat"
                          for lay in model.layers])
         layers_cm = np.where(cols[None, :], layers_cm * ratio[:, None], layers_cm)
+        fat_col = np.array([lay.role == "subcutaneous_fat" for lay in model.layers])
+        if patient.wall_mm is not None and patient.fat_mm is not None and fat_col.any():
+            # both measured: the wall keeps its measured total and the fat its measured share
+            # of it; the other wall layers share the rest in the model's proportions
+            total = layers_cm.sum(axis=1)
+            fat = total * min(patient.fat_mm / patient.wall_mm, 1.0)
+            rest = np.where(fat_col[None, :], 0.0, layers_cm)
+            rest_sum = rest.sum(axis=1)
+            scale_rest = np.where(rest_sum > 0, (total - fat) / np.where(rest_sum > 0, rest_sum, 1.0), 0.0)
+            layers_cm = np.where(fat_col[None, :], fat[:, None], rest * scale_rest[:, None])
     wall_cm = layers_cm.sum(axis=1)
     low_cm, high_cm = low.sum(axis=1) / 10.0, high.sum(axis=1) / 10.0
     if patient.wall_mm is not None:

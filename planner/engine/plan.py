@@ -195,7 +195,10 @@ def _assumptions(patient: Patient, chosen: WindowAssessment, inventory: ProbeInv
                    "layers use the female values.")
     if patient.sex is None:
         out.append("Sex not given: wall layers use the mean of the female and male values.")
-    if patient.wall_mm is not None:
+    if patient.wall_mm is not None and patient.fat_mm is not None:
+        out.append(f"Measured wall {patient.wall_mm:g} mm with {patient.fat_mm:g} mm of subcutaneous fat "
+                   "replaces the BMI estimate (all windows scaled alike, the fat keeping its share).")
+    elif patient.wall_mm is not None:
         out.append(f"Measured wall {patient.wall_mm:g} mm replaces the BMI estimate (all windows scaled alike).")
     elif patient.fat_mm is not None:
         out.append(f"Measured subcutaneous fat {patient.fat_mm:g} mm replaces the BMI estimate.")
