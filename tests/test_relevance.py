@@ -82,3 +82,13 @@ def test_cautions_and_warnings_are_always_main():
 def test_a_bad_relevance_is_refused():
     with pytest.raises(ValueError, match="relevance"):
         Finding("x.y", "info", "t", "m", relevance="maybe")
+
+
+def test_wall_aberration_is_main_through_a_thick_wall_and_more_over_a_tendon():
+    """The aberration model rests on chest and abdominal wall specimens (Hinkelman, Szabo &
+    Waag 1997: 21.3 ns through walls of about 20 mm); through 2 mm over the Achilles tendon it
+    is an extrapolation that does not change the exam, through 37 mm at BMI 45 it does."""
+    thick = _plan("liver", 45.0)
+    thin = _plan("achilles-tendon", 21.0)
+    assert "artefact.wall_aberration" in _codes(thick.findings, "main")
+    assert "artefact.wall_aberration" in _codes(thin.findings, "more")

@@ -14,6 +14,12 @@ PRISM_FACE_ANGLE = Sourced(
     "published 5.1 mm separation of a structure 3 cm beyond the rectus muscles")
 """Effective tilt of the rectus-muscle faces for the duplication estimate. [deg]"""
 
+ABERRATING_WALL_MM: float = 15.0
+"""Fat and muscle thickness from which the wall-aberration loss is a caution and a main finding
+(common practice: the chest and abdominal wall specimens behind the model were of this
+thickness and more, Hinkelman1997Chest; thinner walls, as over a tendon or the neck, are an
+extrapolation of the model and rarely limit an exam). [mm]"""
+
 DEPTH_ERROR_CAUTION_MM: float = 5.0
 """Depth error above which axial measurements deserve a caution (common practice). [mm]"""
 
@@ -182,7 +188,7 @@ def wall_aberration_findings(ctx: RuleContext) -> list[Finding]:
     at5 = a.aberration_db(5.0)
     if loss < 0.5:
         return []
-    severity = "caution" if loss >= 6.0 else "info"
+    severity = "caution" if loss >= 6.0 and wall_mm >= ABERRATING_WALL_MM else "info"
     return [Finding(
         "artefact.wall_aberration", severity, "Body-wall aberration",
         f"Wall aberration costs {loss:.1f} dB at {freq:.1f} MHz ({at5:.1f} dB at 5 MHz) through "

@@ -13,6 +13,8 @@ codes without a grader are ``main``. Thresholds:
 
 - :data:`MEASURABLE_ERROR_MM` = 1 mm, the usual caliper precision of a B-mode measurement
   (common practice, no single source).
+- A wall-aberration loss is main from a fat and muscle wall of
+  :data:`planner.engine.artefacts.ABERRATING_WALL_MM` (15 mm).
 - Slim: WHO classes underweight and normal weight (WHO2000Obesity), where the wall is not
   what limits the exam.
 """
@@ -67,12 +69,19 @@ def _calcification(finding: Finding, target: Any) -> str:
     return "more" if finding.values.get("risk") in ("none", "low") else "main"
 
 
+def _wall_aberration(finding: Finding, target: Any) -> str:
+    from planner.engine.artefacts import ABERRATING_WALL_MM
+    wall = _number(finding.values, "wall_mm")
+    return "main" if wall is not None and wall >= ABERRATING_WALL_MM else "more"
+
+
 def _likely_condition(finding: Finding, target: Any) -> str:
     return "main" if finding.values.get("band_changes") else "more"
 
 
 RELEVANCE_GRADERS: dict[str, Callable[[Finding, Any], str]] = {
     "condition.likely_steatosis": _likely_condition,
+    "artefact.wall_aberration": _wall_aberration,
     "artefact.sound_speed": _sound_speed,
     "tilt.specular": _tilt,
     "habitus.wall": _wall,
