@@ -83,7 +83,7 @@ def habitus_findings(ctx: RuleContext) -> list[Finding]:
         f"{s.subcutaneous_fat_cm * 10:.0f} mm. Target {s.depth_cm:.1f} cm deep.",
         {"bmi": round(p.bmi, 1), "who_class": class_id, "wall_mm": round(s.wall_cm * 10, 1),
          "wall_band_mm": [round(lo * 10, 1), round(hi * 10, 1)], "measured": measured,
-         "depth_cm": round(s.depth_cm, 2)},
+         "depth_cm": round(s.depth_cm, 2), "subcutaneous_fat_mm": round(s.subcutaneous_fat_cm * 10, 1)},
         ("WHO2000Obesity", "HabitusPracticeModel"),
         "Each wall layer has a median a + b (BMI - 25) fitted to published thickness data for this "
         "window, and a log-normal spread; a measured thickness replaces the estimate.")]

@@ -15,8 +15,8 @@ codes without a grader are ``main``. Thresholds:
   (common practice, no single source).
 - A wall-aberration loss is main from a fat and muscle wall of
   :data:`planner.engine.artefacts.ABERRATING_WALL_MM` (15 mm).
-- Slim: WHO classes underweight and normal weight (WHO2000Obesity), where the wall is not
-  what limits the exam.
+- The body-wall summary is main when the wall was measured or the fat at the window reaches
+  the trunk fat of BMI 30 (:func:`planner.engine.habitus_rules.limited_exam_fat_mm`).
 """
 
 from __future__ import annotations
@@ -53,8 +53,16 @@ def _tilt(finding: Finding, target: Any) -> str:
 
 
 def _wall(finding: Finding, target: Any) -> str:
-    measured = bool(finding.values.get("measured"))
-    return "more" if finding.values.get("who_class") in _SLIM_CLASSES and not measured else "main"
+    # the wall summary matters where the wall can limit the exam: a measured wall, or a fat
+    # layer at the window as thick as a trunk wall's at BMI 30 (an obese patient's
+    # endocavitary, neck or distal-limb route has little fat and the summary changes nothing)
+    if finding.values.get("measured"):
+        return "main"
+    fat = _number(finding.values, "subcutaneous_fat_mm")
+    if fat is not None:
+        from planner.engine.habitus_rules import limited_exam_fat_mm
+        return "main" if fat >= limited_exam_fat_mm() else "more"
+    return "more" if finding.values.get("who_class") in _SLIM_CLASSES else "main"
 
 
 def _scan_time(finding: Finding, target: Any) -> str:
