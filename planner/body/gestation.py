@@ -249,9 +249,12 @@ def _weeks_text(weeks: float) -> str:
     return f"{whole}+{days}" if days else f"{whole}"
 
 
-def resolve_gestation(target_id: str, weeks: float | None, target_name: str = "") -> GestationUse | None:
+def resolve_gestation(target_id: str, weeks: float | None, target_name: str = "",
+                      roles: frozenset[str] | None = None) -> GestationUse | None:
     """The gestation for a plan of ``target_id``: the given ``weeks`` [weeks] or the range's
-    default; None for a target without a gestational range.
+    default; None for a target without a gestational range. ``roles``: the path-layer roles
+    of the planned windows (default: every growth role); the plan states the fetal size only
+    when one of them follows gestation, and the skull only when it is on the path.
 
     Raises
     ------
@@ -266,8 +269,8 @@ def resolve_gestation(target_id: str, weeks: float | None, target_name: str = ""
     notes: list[str] = []
     if weeks is None:
         used = float(rng.default.value)
-        notes.append(f"Gestation not given: {used:g} weeks assumed for the geometry ({rng.default.note}; "
-                     f"{rng.default.source}); give --gestation-weeks to plan another gestation.")
+        notes.append(f"Gestation not given: {used:g} weeks assumed ({rng.default.note}; "
+                     f"{rng.default.source}); give the gestational age to plan another.")
     else:
         used = float(weeks)
         if used < slo or used > shi:
@@ -286,12 +289,14 @@ def resolve_gestation(target_id: str, weeks: float | None, target_name: str = ""
         inside = lo <= used <= hi
         notes.append(f"Nuchal translucency {'can' if inside else 'cannot'} be measured at {used:g} "
                      f"weeks ({rng.nuchal_translucency.note}; {rng.nuchal_translucency.source}).")
-    notes.append(_size_note(target_id, used))
+    roles = frozenset(GROWTH_ROLES) if roles is None else roles
+    if roles & frozenset(GROWTH_ROLES):
+        notes.append(_size_note(target_id, used, "fetal_skull" in roles))
     return GestationUse(used, weeks is not None, (float(vlo), float(vhi)), rng.valid.source,
                         rng.valid.status, outside, tuple(notes))
 
 
-def _size_note(target_id: str, weeks: float) -> str:
+def _size_note(target_id: str, weeks: float, skull: bool) -> str:
     """One sentence with the fetal size the geometry follows at ``weeks``."""
     if target_id == "embryo":
         return (f"At {weeks:g} weeks the median crown-rump length is {float(crl_mm(weeks)):.0f} mm "
@@ -300,5 +305,7 @@ def _size_note(target_id: str, weeks: float) -> str:
             f"AC {float(ac_mm(weeks)):.0f} mm (INTERGROWTH-21st 50th centile, Papageorghiou2014Fetal)")
     if weeks >= 16:
         size += f"; fundal height about {float(fundal_height_cm(weeks)):.0f} cm (Papageorghiou2016SFH)"
-    return size + (f"; fetal parietal bone about {float(skull_thickness_mm(weeks)):.1f} mm, "
-                   f"{100 * float(skull_mineral_fraction(weeks)):.0f} % mineralised (from memory).")
+    if skull:
+        size += (f"; fetal parietal bone about {float(skull_thickness_mm(weeks)):.1f} mm, "
+                 f"{100 * float(skull_mineral_fraction(weeks)):.0f} % mineralised (from memory)")
+    return size + "."

@@ -125,7 +125,8 @@ def make_plan(request: PlanRequest) -> Plan:
     windows = [_window_by_id(target, request.window_id)] if request.window_id else list(target.windows)
     inventory = load_inventory(request.probes_path)
     patient = patient_for_exam(request.patient, exam_type_of(request, target))
-    gestation = resolve_gestation(target.id, patient.gestation_weeks, target.name)
+    gestation = resolve_gestation(target.id, patient.gestation_weeks, target.name,
+                                  frozenset(lay.role for w in windows for lay in w.path if lay.role))
     geometry = patient if gestation is None else replace(patient, gestation_weeks=gestation.weeks)
     assessed = assess_windows(geometry, target, windows, inventory, windows[0])
     ranked, reference = rank_assessments(assessed)
