@@ -249,6 +249,7 @@ def _weeks_text(weeks: float) -> str:
     return f"{whole}+{days}" if days else f"{whole}"
 
 
+@lru_cache(maxsize=256)
 def resolve_gestation(target_id: str, weeks: float | None, target_name: str = "",
                       roles: frozenset[str] | None = None) -> GestationUse | None:
     """The gestation for a plan of ``target_id``: the given ``weeks`` [weeks] or the range's
