@@ -26,7 +26,8 @@ __all__ = ["PACKAGE_FILES", "compile_package_data", "compiled_status", "load_pac
            "package_data", "package_yaml_names", "vocabulary"]
 
 PACKAGE_FILES: tuple[str, ...] = ("tissues.yaml", "targets.yaml", "walls.yaml", "probes.yaml",
-                                  "vessels.yaml", "safety.yaml", "vocabulary.yaml")
+                                  "vessels.yaml", "safety.yaml", "vocabulary.yaml",
+                                  "gestation.yaml")
 """The package data files, each with a model in :mod:`planner.files.package`."""
 
 

@@ -30,6 +30,7 @@ from hypothesis import HealthCheck, assume, given, settings
 from hypothesis import strategies as st
 
 from planner.engine.serialize import plan_to_json_data
+from planner.body.gestation import gestation_range
 from planner.body.conditions import CONDITIONS, parse_condition
 from planner.body.patient import Patient
 from planner.body.walls import PANNUS_BMI, load_wall_models
@@ -292,6 +293,12 @@ def test_sweep_is_finite_for_any_habitus(pair, bmi, sex, with_depth, seed, condi
         rng = np.random.default_rng(seed)
         depth = rng.uniform(0.5, 40.0, size=b.size)
         depth[rng.random(b.size) < 0.3] = np.nan
+    rng_weeks = gestation_range(target)
+    if weeks is not None and rng_weeks is not None \
+            and not rng_weeks.scan.value[0] <= weeks <= rng_weeks.scan.value[1]:
+        with pytest.raises(InputError, match="gestational age"):   # the view is not scanned then
+            sweep(target, b, window_id=window, sex=sex, gestation_weeks=weeks)
+        return
     out = sweep(target, b, window_id=window, sex=sex, depth_cm=depth, conditions=conditions,
                 gestation_weeks=weeks)
     for key, values in out.items():

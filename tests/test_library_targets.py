@@ -86,8 +86,12 @@ def test_layer_roles_sit_on_the_matching_tissue():
     roles = [(layer.role, layer.tissue) for target in LIB for window in target.windows
              for layer in window.path if layer.role]
     assert ("bladder", "urine") in roles and ("stomach", "water") in roles
-    assert all((role, tissue) in {("bladder", "urine"), ("stomach", "water")}
-               for role, tissue in roles)
+    from planner.library.targets import LAYER_ROLES
+    assert all(LAYER_ROLES[role] == tissue for role, tissue in roles)
+    # growth roles (planner/body/gestation.py) sit on obstetric targets only
+    from planner.body.gestation import GROWTH_ROLES
+    assert {t.exam_type for t in LIB for w in t.windows for lay in w.path
+            if lay.role in GROWTH_ROLES} == {"obstetric"}
 
 
 def test_dataclasses_are_frozen():

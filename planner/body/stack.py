@@ -15,6 +15,7 @@ import numpy as np
 from planner.body.conditions import (ASCITES_DEPTH_CM,
                                      STEATOSIS_ATTENUATION_DB_PER_CM_MHZ,
                                      STEATOSIS_SPEED_M_PER_S)
+from planner.body.gestation import GROWTH_ROLES, fetal_skull_tissue, grown_thickness_cm
 from planner.body.patient import Patient
 from planner.body.walls import PANNUS_BMI, WallModel, load_wall_models, pannus_fat_mm, \
     wall_layers_band_mm
@@ -242,10 +243,17 @@ def _organ_path(patient: Patient, window, model: WallModel, notes: list[str]) ->
         depth = float(ASCITES_DEPTH_CM[grade].value)
         layers.append(Layer(get_tissue("ascites"), depth, "ascites", "free fluid (ascites)"))
     liver_grade = patient.conditions.get("steatosis")
+    weeks = patient.gestation_weeks
     for step in window.path:
         tissue = get_tissue(step.tissue)
         role = getattr(step, "role", None) or "path"
         structure = getattr(step, "label", "")
+        thickness = step.thickness_cm
+        if weeks is not None and role in GROWTH_ROLES:
+            thickness = grown_thickness_cm(role, thickness, float(weeks))
+            if role == "fetal_skull":
+                tissue = fetal_skull_tissue(float(weeks))
+                structure = ""
         label = f"{structure} ({tissue.name.lower()} values)" if structure else tissue.name
         if liver_grade and tissue.id == "liver":
             tissue = steatotic_liver(liver_grade)
@@ -253,7 +261,7 @@ def _organ_path(patient: Patient, window, model: WallModel, notes: list[str]) ->
         if role == "bladder" and "empty_bladder" in patient.conditions:
             tissue, label = get_tissue("soft_tissue"), "bowel loops (bladder empty)"
             notes.append(f"{window.name}: empty bladder, bowel takes the place of the bladder window")
-        layers.append(Layer(tissue, step.thickness_cm, role, label))
+        layers.append(Layer(tissue, thickness, role, label))
     return layers
 
 
@@ -319,7 +327,7 @@ def build_stack_batch(patient: Patient, window, *, bmi=None, depth_cm=None,
     path = np.array([lay.thickness_cm for lay in organ[n_extra:]])
     unscaled = np.concatenate([layers_cm, np.broadcast_to(fixed, (b.size, fixed.size)),
                                np.broadcast_to(path, (b.size, path.size))], axis=1)
-    path_cm = float(sum(step.thickness_cm for step in window.path))
+    path_cm = float(sum(lay.thickness_cm for lay in organ[n_extra:]))
     above = np.cumsum(unscaled, axis=1)[:, -1] - path_cm   # summed in layer order, as depth_cm
     want = np.atleast_1d(np.asarray(patient.depth_cm if depth_cm is None else depth_cm, dtype=float)) \
         if (depth_cm is not None or patient.depth_cm is not None) else np.full(b.shape, np.nan)

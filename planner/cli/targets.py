@@ -18,14 +18,22 @@ def register(sub: argparse._SubParsersAction) -> None:
 
 def run_targets(args: argparse.Namespace) -> int:
     """Print one row per target (``--json``: id, name, reflector, region, exam_type,
-    typical_depth_cm, detail_mm, windows)."""
+    typical_depth_cm, detail_mm, windows; obstetric targets also ``gestation_weeks`` with the
+    ``valid`` and ``scan`` ranges and the ``default`` planned when none is given)."""
+    from planner.body.gestation import gestation_range
     from planner.library.targets import load_library
 
     lib = load_library()
-    rows = [{"id": t.id, "name": t.name, "reflector": t.reflector, "region": t.region,
-             "exam_type": t.exam_type, "typical_depth_cm": t.typical_depth_cm,
-             "detail_mm": t.detail_mm, "windows": [w.id for w in t.windows]}
-            for t in lib.targets.values()]
+    rows = []
+    for t in lib.targets.values():
+        row = {"id": t.id, "name": t.name, "reflector": t.reflector, "region": t.region,
+               "exam_type": t.exam_type, "typical_depth_cm": t.typical_depth_cm,
+               "detail_mm": t.detail_mm, "windows": [w.id for w in t.windows]}
+        rng = gestation_range(t.id)
+        if rng is not None:
+            row["gestation_weeks"] = {"valid": list(rng.valid.value), "scan": list(rng.scan.value),
+                                      "default": rng.default.value}
+        rows.append(row)
     if args.json:
         emit_json(rows)
         return 0

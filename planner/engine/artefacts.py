@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+from typing import Any
+
 from planner.engine.context import RuleContext
 from planner.findings import Finding
 from planner.physics import beam, refraction
@@ -151,11 +153,35 @@ def bone_path_findings(ctx: RuleContext) -> list[Finding]:
     """Bone on the window's path."""
     if not getattr(ctx.window, "bone_in_path", False):
         return []
+    skull = [lay for lay in ctx.stack.layers if lay.role == "fetal_skull"]
+    if skull:
+        return [_fetal_skull_finding(ctx, skull[0])]
     return [Finding(
         "shadow.bone", "caution", "Bone on the path",
         "The beam crosses bone: most energy is reflected or absorbed (soft tissue to bone R about 0.4). "
         "Use the thinnest part of the bone and the lowest frequency.",
         {}, ("Diagnostics2023", "ALevelPhysics"))]
+
+
+def _fetal_skull_finding(ctx: RuleContext, skull: Any) -> Finding:
+    """The fetal parietal bone on the path: thin and partly ossified, not adult bone."""
+    weeks = ctx.patient.gestation_weeks
+    mm = 10.0 * skull.thickness_cm
+    text = (f"The beam crosses the fetal parietal bone (about {mm:.1f} mm at {weeks:g} weeks, still "
+            "ossifying): it reflects more than soft tissue, and more as gestation advances. ")
+    values = {"skull_mm": _r(mm), "gestation_weeks": weeks}
+    if any(lay.role == "fetal_brain" for lay in ctx.stack.layers):     # biometry across the head
+        return Finding(
+            "shadow.bone", "caution", "Fetal skull on the path",
+            text + "Insonate through the parietal bones with the beam perpendicular to them in the "
+            "transthalamic plane; the near-field reverberation behind the near skull hides the near "
+            "hemisphere, so judge the far hemisphere and place the calipers on the outer edges of "
+            "the skull.", values, ("Salomon2019Biometry", "FetalSkullOssification"))
+    return Finding(
+        "shadow.bone", "caution", "Fetal skull on the path",
+        text + "Reverberation behind the near skull clutters the near brain: keep "
+        "the Doppler gate and the focus beyond it, on the vessel, and the bone out of the gate.",
+        values, ("FetalSkullOssification", "CommonPractice"))
 
 
 def fluid_findings(ctx: RuleContext) -> list[Finding]:

@@ -5,6 +5,7 @@ from __future__ import annotations
 from dataclasses import replace
 from typing import Any
 
+from planner.body.gestation import GestationUse, resolve_gestation
 from planner.body.patient import Patient
 from planner.body.stack import build_stack_batch, measured_wall_ratio
 from planner.body.walls import load_wall_models
@@ -26,6 +27,7 @@ from planner.library.probes import ProbeInventory, load_inventory
 from planner.library.targets import load_library
 from planner.safety import DISCLAIMER, ExamContext, load_local_policy, monitored_index, \
     safety_findings, validity_flags
+from planner.safety.validity import ValidityFlag
 
 __all__ = ["SCHEMA_VERSION", "Plan", "assess_windows", "bone_near_focus", "default_exam_context",
            "make_plan", "rank_assessments"]
@@ -123,14 +125,17 @@ def make_plan(request: PlanRequest) -> Plan:
     windows = [_window_by_id(target, request.window_id)] if request.window_id else list(target.windows)
     inventory = load_inventory(request.probes_path)
     patient = patient_for_exam(request.patient, exam_type_of(request, target))
-    assessed = assess_windows(patient, target, windows, inventory, windows[0])
+    gestation = resolve_gestation(target.id, patient.gestation_weeks, target.name,
+                                  frozenset(lay.role for w in windows for lay in w.path if lay.role))
+    geometry = patient if gestation is None else replace(patient, gestation_weeks=gestation.weeks)
+    assessed = assess_windows(geometry, target, windows, inventory, windows[0])
     ranked, reference = rank_assessments(assessed)
     chosen = ranked[0]
-    ctx = RuleContext(patient, target, tuple(ranked), chosen, inventory)
+    ctx = RuleContext(geometry, target, tuple(ranked), chosen, inventory)
     band, band_findings = decisions.band_decision(ctx)
     harmonic, harmonic_findings = decisions.harmonic_decision(ctx)
     tilt, tilt_findings = decisions.tilt_decision(ctx)
-    ctx = RuleContext(patient, target, ctx.assessments, chosen, inventory,
+    ctx = RuleContext(geometry, target, ctx.assessments, chosen, inventory,
                       Decisions(band, tuple(band_findings), harmonic, tuple(harmonic_findings),
                                 tilt, tuple(tilt_findings)))
     findings = ENGINE_RULES.run(ctx)
@@ -151,6 +156,7 @@ def make_plan(request: PlanRequest) -> Plan:
                               depth_cm=chosen.stack.depth_cm,
                               frequency_mhz=band.high if band.high else None,
                               gestation_weeks=patient.gestation_weeks, expected_ti=exam.expected_ti)
+    validity += _gestation_flags(gestation)
     return Plan(
         target=TargetSummary(target.id, target.name, target.reflector, target.region, target.detail_mm),
         patient=PatientSummary(round(patient.bmi, 1), patient.bmi_given, patient.habitus[0],
@@ -171,7 +177,8 @@ def make_plan(request: PlanRequest) -> Plan:
         monitored_index=monitored_index(exam),
         pitfalls=tuple(target.pitfalls),
         assumptions=tuple(_assumptions(patient, chosen, inventory, exam,
-                                       sex_implied=request.patient.sex is None and patient.sex is not None)),
+                                       sex_implied=request.patient.sex is None and patient.sex is not None)
+                          + list(gestation.notes if gestation else ())),
         validity=tuple(validity), disclaimer=DISCLAIMER,
         layers=tuple(PlanLayer(lay.tissue.id, lay.label, lay.role, round(lay.thickness_cm, 3),
                                lay.tissue.speed_m_per_s, lay.tissue.attenuation_db_per_cm_mhz,
@@ -183,6 +190,15 @@ def make_plan(request: PlanRequest) -> Plan:
                              request.local_policy_path),
         depth_curves=plan_depth_curves(chosen, band.low, band.high),
     )
+
+
+def _gestation_flags(gestation: GestationUse | None) -> list[ValidityFlag]:
+    """A validity flag when the gestation lies outside the view's planned range."""
+    if gestation is None or not gestation.outside:
+        return []
+    return [ValidityFlag(parameter="gestation_weeks", value=gestation.weeks,
+                         valid_range=gestation.valid, message=gestation.outside,
+                         source=gestation.source, status=gestation.status)]
 
 
 def _assumptions(patient: Patient, chosen: WindowAssessment, inventory: ProbeInventory,

@@ -14,6 +14,7 @@ from dataclasses import dataclass, replace
 
 import numpy as np
 
+from planner.body.gestation import resolve_gestation
 from planner.body.patient import Patient
 from planner.body.stack import build_stack_batch, measured_wall_ratio
 from planner.body.walls import load_wall_models
@@ -65,8 +66,10 @@ def sweep(target_id: str, bmi, *, window_id: str | None = None, sex: str | None 
     window = _window(target, window_id)
     inventory = inventory or default_inventory()
     b = np.atleast_1d(np.asarray(bmi, dtype=float))
+    gestation = resolve_gestation(target.id, gestation_weeks, target.name)
     patient = patient_for_exam(Patient(sex=sex, conditions=dict(conditions or {}),
-                                       gestation_weeks=gestation_weeks), target.exam_type)
+                                       gestation_weeks=gestation_weeks if gestation is None
+                                       else gestation.weeks), target.exam_type)
     depth = None if depth_cm is None else np.broadcast_to(np.asarray(depth_cm, dtype=float), b.shape)
     stacks = build_stack_batch(patient, window, bmi=b, depth_cm=depth)
     batch = assess_batch(stacks, target, inventory)

@@ -20,7 +20,7 @@ from planner.files.problems import check_provenance
 from planner.files.probes import InventoryFile
 
 __all__ = ["PACKAGE_MODELS", "check_package_file", "TissuesFile", "WallsFile", "VesselsFile",
-           "SafetyFile", "VocabularyFile"]
+           "SafetyFile", "VocabularyFile", "GestationFile"]
 
 class _Tissue(FileModel):
     name: Text
@@ -144,9 +144,73 @@ class VocabularyFile(FileModel):
     risk_levels: _Ids
     layer_roles: dict[_Id, _Id]
 
+class _WeekRange(FileModel):
+    value: Annotated[list[Annotated[float, Field(gt=0, le=45)]], Field(min_length=2, max_length=2)]
+    source: SourceKey
+    status: Status
+    note: OptText = ""
+
+    @model_validator(mode="after")
+    def _ordered(self) -> _WeekRange:
+        if self.value[0] >= self.value[1]:
+            raise ValueError(f"a gestational range must run from low to high weeks, got {self.value}")
+        return self
+
+class _GestationTarget(FileModel):
+    valid: _WeekRange
+    scan: _WeekRange
+    default: SourcedNumber
+    before: OptText = ""
+    after: OptText = ""
+    nuchal_translucency: _WeekRange | None = None
+
+    @model_validator(mode="after")
+    def _nested(self) -> _GestationTarget:
+        (vlo, vhi), (slo, shi) = self.valid.value, self.scan.value
+        if not slo <= vlo < vhi <= shi:
+            raise ValueError("the scan range must contain the valid range")
+        if not vlo <= self.default.value <= vhi:
+            raise ValueError("the default gestation must lie in the valid range")
+        return self
+
+class _GestationTable(FileModel):
+    weeks: Annotated[list[Annotated[float, Field(gt=0, le=45)]], Field(min_length=2)]
+    values: Annotated[list[NonNegative], Field(min_length=2)]
+    source: SourceKey
+    status: Status
+    note: OptText = ""
+
+    @model_validator(mode="after")
+    def _same_length(self) -> _GestationTable:
+        if len(self.weeks) != len(self.values):
+            raise ValueError("weeks and values must have the same length")
+        if any(b <= a for a, b in zip(self.weeks, self.weeks[1:])):
+            raise ValueError("weeks must increase")
+        return self
+
+class _ReferenceWeeks(FileModel):
+    fetal: SourcedNumber
+    embryo: SourcedNumber
+
+class _GestationTables(FileModel):
+    myometrium_cm: _GestationTable
+    amniotic_scale: _GestationTable
+    skull_thickness_mm: _GestationTable
+    skull_mineral_fraction: _GestationTable
+    fundal_height_cm: _GestationTable
+
+class GestationFile(FileModel):
+    """``gestation.yaml``: gestational ranges of obstetric views and the growth tables."""
+
+    schema_version: Literal[1]
+    reference_weeks: _ReferenceWeeks
+    targets: dict[Text, _GestationTarget]
+    tables: _GestationTables
+
 PACKAGE_MODELS: dict[str, Any] = {
     "tissues.yaml": TissuesFile, "walls.yaml": WallsFile, "probes.yaml": InventoryFile,
     "vessels.yaml": VesselsFile, "safety.yaml": SafetyFile, "vocabulary.yaml": VocabularyFile,
+    "gestation.yaml": GestationFile,
 }
 """Package data file -> its model (``targets.yaml``: :class:`planner.files.targets.TargetsFile`,
 loaded on demand)."""

@@ -180,7 +180,8 @@ def form_values(inputs: PlanInputs) -> dict[str, Any]:
     return out
 
 
-_ENGINE_FIELD_HINTS = (("measured depth", "depth_cm"), ("depth", "depth_cm"),
+_ENGINE_FIELD_HINTS = (("gestational age", "gestation_weeks"),
+                       ("measured depth", "depth_cm"), ("depth", "depth_cm"),
                        ("window", "window_id"), ("target", "target_id"),
                        ("wall", "wall_mm"), ("bmi", "bmi"))
 
