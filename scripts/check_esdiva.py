@@ -1,5 +1,5 @@
 #!/usr/bin/env python3
-"""Broadband pulse-echo loss for y = 1.0 / 1.3 / 1.5 against the transient simulator esdiva 0.3.0.
+"""Broadband pulse-echo loss for y = 1.0 / 1.3 / 1.5 against esdiva 0.3.0 (Rivera2026eSDIva).
 
 esdiva (spatial impulse response with a causal power law, Szabo 1994 dispersion) is too heavy
 for CI (about 800 MB: VTK, numba, llvmlite, scipy, h5py), so this comparison is a script; the

@@ -1,4 +1,4 @@
-"""Independent reference for power-law exponents y != 1: the sonosk 0.1.0 CW simulator.
+"""Independent reference for power-law exponents y != 1: sonosk 0.1.0 (KooklanSonoSK).
 
 sonosk (``sonosk.field.rayleigh``) sums the Rayleigh integral over the patches of a baffled
 piston at one frequency, with the medium's power-law attenuation ``alpha0 f^y`` applied along
@@ -30,7 +30,7 @@ its own Gaussian within 0.05 dB, so the gap is the shape of the spectrum, not th
 Tolerance: 10 % (the task's figure; no fitting).
 
 The transient simulator esdiva 0.3.0 gives the same picture (``scripts/check_esdiva.py``);
-its install (about 800 MB with VTK, numba and llvmlite) is too heavy for CI.
+its install (about 800 MB with VTK, numba and llvmlite; Rivera2026eSDIva) is too heavy for CI.
 """
 
 import numpy as np
