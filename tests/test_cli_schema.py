@@ -16,7 +16,7 @@ from planner.cli import main
 from planner.yamlio import load_user_yaml
 
 ROOT = Path(__file__).resolve().parents[1]
-KINDS = ["protocol", "probes", "policy", "plan", "plan-output", "trusted-keys"]
+KINDS = ["protocol", "probes", "policy", "plan", "plan-output", "trusted-keys", "qa"]
 
 
 def _run(argv: list[str]) -> tuple[int, str, str]:

@@ -1,0 +1,213 @@
+"""Each probe's signal budget from its phantom QA log, with the QA checks departments make.
+
+A measured depth of penetration (DOP) in a QA phantom of known attenuation fixes the probe's
+diffuse round-trip budget through the engine's own broadband loss model
+(:func:`planner.physics.phantom.budget_from_penetration_db`; the probe's pulse bandwidth from
+the inventory, centred at the measurement's frequency). The budget of the probe's latest
+session (measurements on its latest date, their median) is used by the plan.
+
+Checks (each a QA warning with the file and line of the measurement):
+
+- plausibility against the model: a DOP more than :data:`IMPLAUSIBLE_FRACTION` (50 %) from the
+  DOP the default budget predicts for that phantom and frequency is not used. Under the same
+  broadband model (60 % bandwidth) the 40 dB budget of the verified 40/f teaching rule predicts
+  a DOP 46 % below the default's at every frequency (derived), so a value beyond 50 % lies
+  outside the whole spread between the two anchors and more likely is a wrong phantom
+  attenuation, frequency or unit than a real probe;
+- consistency within a session: a measurement whose budget, as a DOP, is more than
+  :data:`QA_ACTION_CM` (1 cm) from the median of the same session's other measurements is not
+  used;
+- change: a latest session more than 1 cm (as a DOP at the baseline's frequency and phantom)
+  from the previous one is used but flagged (repeat the test before relying on it);
+- trend: a fall of the DOP of more than 1 cm from the probe's baseline (first session) is the
+  QA finding departments act on (Goodsitt1998; ServiceManualPenetration).
+"""
+
+from __future__ import annotations
+
+import statistics
+from dataclasses import dataclass, field, replace
+
+from planner.library.probes import ProbeInventory
+from planner.library.qa_log import QaEntry, QaLog
+from planner.physics import phantom
+from planner.physics.constants import BANDWIDTH_FRACTION_DEFAULT, SIGNAL_BUDGET_DIFFUSE_DB
+
+__all__ = ["IMPLAUSIBLE_FRACTION", "QA_ACTION_CM", "MeasurementQa", "ProbeQa", "QaReport",
+           "apply_qa", "qa_report"]
+
+QA_ACTION_CM: float = 1.0
+"""Change of depth of penetration that calls for action: 1 cm from baseline (Goodsitt1998,
+from memory; ServiceManualPenetration, verified: "degradation in excess of 1 cm"). [cm]"""
+
+IMPLAUSIBLE_FRACTION: float = 0.50
+"""Largest relative distance of a measured DOP from the default budget's prediction that is
+still used (derived: just beyond the 46 % between the 40/f rule's and the default budget's
+predictions, module docstring). [-]"""
+
+QA_SOURCES: tuple[str, ...] = ("IEC61391", "Goodsitt1998", "ServiceManualPenetration", "Derived")
+
+
+@dataclass(frozen=True)
+class MeasurementQa:
+    """One measurement with the budget it implies and what the checks say about it."""
+
+    entry: QaEntry
+    budget_db: float
+    predicted_cm: float
+    """DOP the default budget predicts for this phantom and frequency. [cm]"""
+    used: bool
+    flags: tuple[str, ...] = ()
+
+
+@dataclass(frozen=True)
+class ProbeQa:
+    """One probe's QA history and its derived budget (None: no usable measurement)."""
+
+    probe: str
+    known: bool
+    bandwidth_fraction: float
+    measurements: tuple[MeasurementQa, ...]
+    budget_db: float | None
+    date: str | None
+    sessions: tuple[tuple[str, float, float], ...] = ()
+    """``(date, budget_db, dop_equivalent_cm)`` per session; the DOP equivalent at the
+    baseline's frequency and phantom. [dB], [cm]"""
+    trend_cm_per_month: float | None = None
+    flags: tuple[str, ...] = field(default_factory=tuple)
+
+    @property
+    def fall_cm(self) -> float | None:
+        """DOP-equivalent fall from the first session to the last (positive: a fall). [cm]"""
+        if len(self.sessions) < 2:
+            return None
+        return self.sessions[0][2] - self.sessions[-1][2]
+
+
+@dataclass(frozen=True)
+class QaReport:
+    """Every probe of a QA log, in order of first appearance."""
+
+    path: str
+    probes: tuple[ProbeQa, ...]
+    demo: bool = False
+
+    def get(self, probe_id: str) -> ProbeQa | None:
+        for p in self.probes:
+            if p.probe == probe_id:
+                return p
+        return None
+
+
+def _where(log: QaLog, e: QaEntry) -> str:
+    line = f":{e.line}" if e.line is not None else ""
+    return f"{log.path}{line}: measurements[{e.index}]"
+
+
+def _probe_qa(log: QaLog, probe_id: str, entries: list[QaEntry], inventory: ProbeInventory) -> ProbeQa:
+    probe = next((p for p in inventory.probes if p.id == probe_id), None)
+    bw = probe.bandwidth_fraction if probe is not None else BANDWIDTH_FRACTION_DEFAULT.value
+    flags: list[str] = []
+    if probe is None:
+        flags.append(f"probe {probe_id!r} is not in the {inventory.origin}: its budget is not used "
+                     f"(pulse bandwidth taken as {bw:g})")
+    entries = sorted(entries, key=lambda e: (e.date, e.index))
+    rated = []
+    for e in entries:
+        budget = float(phantom.budget_from_penetration_db(
+            e.depth_of_penetration_cm, e.phantom_attenuation_db_per_cm_mhz, e.frequency_mhz, bw))
+        predicted = float(phantom.penetration_cm(SIGNAL_BUDGET_DIFFUSE_DB.value,
+                                                 e.phantom_attenuation_db_per_cm_mhz, e.frequency_mhz, bw))
+        off = abs(e.depth_of_penetration_cm - predicted) / predicted
+        own: list[str] = []
+        if off > IMPLAUSIBLE_FRACTION:
+            own.append(f"{_where(log, e)}: depth of penetration {e.depth_of_penetration_cm:g} cm is "
+                       f"{100 * off:.0f} % from the {predicted:.1f} cm the default budget predicts at "
+                       f"{e.frequency_mhz:g} MHz in a {e.phantom_attenuation_db_per_cm_mhz:g} dB/cm/MHz "
+                       f"phantom (limit {100 * IMPLAUSIBLE_FRACTION:.0f} %): not used; check the "
+                       "phantom attenuation, frequency and units")
+        rated.append([e, budget, predicted, not own, own])
+    by_date: dict[str, list[list]] = {}
+    for r in rated:
+        by_date.setdefault(r[0].date.isoformat(), []).append(r)
+    for items in by_date.values():
+        good = [r for r in items if r[3]]
+        if len(good) < 2:
+            continue
+        for r in good:
+            others = statistics.median(o[1] for o in good if o is not r)
+            e = r[0]
+            at = float(phantom.penetration_cm(others, e.phantom_attenuation_db_per_cm_mhz,
+                                              e.frequency_mhz, bw))
+            if abs(at - e.depth_of_penetration_cm) > QA_ACTION_CM:
+                r[4].append(f"{_where(log, e)}: {e.depth_of_penetration_cm:g} cm is "
+                            f"{abs(at - e.depth_of_penetration_cm):.1f} cm from the {at:.1f} cm the same "
+                            f"day's other measurements imply (limit {QA_ACTION_CM:g} cm): not used")
+        for r in good:
+            if r[4]:
+                r[3] = False
+    measurements = tuple(MeasurementQa(r[0], round(r[1], 2), round(r[2], 2), r[3], tuple(r[4]))
+                         for r in rated)
+    for m in measurements:
+        flags.extend(m.flags)
+    sessions_raw = [(d, statistics.median(r[1] for r in items if r[3]))
+                    for d, items in sorted(by_date.items()) if any(r[3] for r in items)]
+    sessions: list[tuple[str, float, float]] = []
+    trend = None
+    if sessions_raw:
+        base = next(r[0] for r in rated if r[3])
+        for d, b in sessions_raw:
+            cm = float(phantom.penetration_cm(b, base.phantom_attenuation_db_per_cm_mhz,
+                                              base.frequency_mhz, bw))
+            sessions.append((d, round(b, 1), round(cm, 2)))
+        if len(sessions) >= 2:
+            trend = _slope_cm_per_month(sessions)
+            last, prev, first = sessions[-1], sessions[-2], sessions[0]
+            if abs(last[2] - prev[2]) > QA_ACTION_CM:
+                flags.append(f"{log.path}: probe {probe_id}: the latest session ({last[0]}) is "
+                             f"{last[2] - prev[2]:+.1f} cm from the previous ({prev[0]}) as a depth of "
+                             f"penetration (limit {QA_ACTION_CM:g} cm): used, but repeat the test "
+                             "before relying on it")
+            fall = first[2] - last[2]
+            if fall > QA_ACTION_CM:
+                flags.append(f"{log.path}: probe {probe_id}: depth of penetration fell {fall:.1f} cm "
+                             f"from the baseline ({first[0]}, {first[2]:.1f} cm) to {last[0]} "
+                             f"({last[2]:.1f} cm; at {base.frequency_mhz:g} MHz, "
+                             f"{base.phantom_attenuation_db_per_cm_mhz:g} dB/cm/MHz): more than the "
+                             f"{QA_ACTION_CM:g} cm action level; have the probe and system checked")
+    budget = sessions[-1][1] if sessions and probe is not None else None
+    date = sessions[-1][0] if sessions else None
+    return ProbeQa(probe_id, probe is not None, bw, measurements, budget, date, tuple(sessions),
+                   trend, tuple(flags))
+
+
+def _slope_cm_per_month(sessions) -> float:
+    """Least-squares slope of the DOP equivalent against time. [cm per 30.44 days]"""
+    import datetime
+    t = [datetime.date.fromisoformat(d).toordinal() / 30.44 for d, _, _ in sessions]
+    z = [cm for _, _, cm in sessions]
+    tm, zm = sum(t) / len(t), sum(z) / len(z)
+    den = sum((ti - tm) ** 2 for ti in t)
+    return 0.0 if den == 0 else round(sum((ti - tm) * (zi - zm) for ti, zi in zip(t, z)) / den, 3)
+
+
+def qa_report(log: QaLog, inventory: ProbeInventory) -> QaReport:
+    """Derive every probe's budget and QA flags from a log (:mod:`planner.engine.qa_budget`)."""
+    groups: dict[str, list[QaEntry]] = {}
+    for e in log.entries:
+        groups.setdefault(e.probe, []).append(e)
+    return QaReport(log.path, tuple(_probe_qa(log, pid, es, inventory) for pid, es in groups.items()),
+                    log.demo)
+
+
+def apply_qa(inventory: ProbeInventory, report: QaReport) -> ProbeInventory:
+    """The inventory with each probe's QA-derived budget (probes without one keep the default)."""
+    probes = []
+    for p in inventory.probes:
+        q = report.get(p.id)
+        if q is None or q.budget_db is None:
+            probes.append(p)
+            continue
+        probes.append(replace(p, budget_db=q.budget_db,
+                              budget_origin=f"QA on {q.date}, probe {p.id} ({report.path})"))
+    return replace(inventory, probes=tuple(probes))
