@@ -121,6 +121,9 @@ class PlanInputs:
     local_policy_path: str | None = None
     doppler: bool = False
     draft: bool = False
+    qa_path: str | None = None
+    prior_frequency_mhz: float | None = None
+    prior_fade_cm: float | None = None
     signoff: SignOff = field(default_factory=SignOff)
     choices: StudentChoices = field(default_factory=StudentChoices)
 
@@ -185,7 +188,20 @@ def to_request(inputs: PlanInputs):
                        context_overrides=exam_context(inputs, target),
                        probes_path=inputs.probes_path, local_policy_path=inputs.local_policy_path,
                        doppler=inputs.doppler or any(m in DOPPLER_MODES for m in inputs.modes),
-                       draft=inputs.draft)
+                       draft=inputs.draft, qa_path=inputs.qa_path, prior=_prior(inputs))
+
+
+def _prior(inputs: PlanInputs) -> tuple[float, float] | None:
+    """The prior exam's (frequency, fade depth), both or neither (InputError, one line)."""
+    f, d = inputs.prior_frequency_mhz, inputs.prior_fade_cm
+    if f is None and d is None:
+        return None
+    if f is None or d is None:
+        given, missing = ("prior frequency", "prior fade depth") if d is None else \
+            ("prior fade depth", "prior frequency")
+        raise InputError(f"a {given} needs the {missing} too (the prior exam's frequency and "
+                         "fade depth go together)")
+    return float(f), float(d)
 
 
 def make_plan_for(inputs: PlanInputs):
@@ -251,6 +267,14 @@ def check_inputs(inputs: PlanInputs) -> dict[str, str]:
     if start is not None and (not math.isfinite(start) or not 0 < start <= 100):
         problems["student_start_mhz"] = f"start frequency must be above 0 and at most 100 MHz, " \
                                         f"got {start:g}"
+    pair = [n for n in ("prior_frequency_mhz", "prior_fade_cm") if getattr(inputs, n) is not None]
+    if len(pair) == 1:
+        other = "prior_fade_cm" if pair[0] == "prior_frequency_mhz" else "prior_frequency_mhz"
+        problems[other] = "give the prior exam's frequency and fade depth together"
+    for name in ("prior_frequency_mhz", "prior_fade_cm"):
+        value = getattr(inputs, name)
+        if value is not None and (not math.isfinite(value) or value <= 0):
+            problems[name] = f"{name} must be a finite number above 0, got {value:g}"
     for name in ("expected_ti", "expected_mi", "planned_minutes"):
         value = getattr(inputs, name)
         if value is not None and (not math.isfinite(value) or value < 0):
@@ -274,13 +298,13 @@ def check_inputs(inputs: PlanInputs) -> dict[str, str]:
 
 # -- YAML -----------------------------------------------------------------------------------
 _PATIENT_KEYS = ("bmi", "height_cm", "weight_kg", "sex", "wall_mm", "fat_mm", "depth_cm",
-                 "gestation_weeks", "conditions")
+                 "gestation_weeks", "prior_frequency_mhz", "prior_fade_cm", "conditions")
 _EXAM_KEYS = {"type": "exam_type", "modes": "modes", "contrast_agent": "contrast_agent",
               "febrile": "febrile", "pregnancy_possible": "pregnancy_possible",
               "lung_in_beam": "lung_in_beam", "expected_ti": "expected_ti",
               "expected_mi": "expected_mi", "planned_minutes": "planned_minutes",
               "doppler": "doppler"}
-_FILES_KEYS = {"probes": "probes_path", "local_policy": "local_policy_path"}
+_FILES_KEYS = {"probes": "probes_path", "local_policy": "local_policy_path", "qa": "qa_path"}
 _SIGNOFF_KEYS = tuple(f.name for f in fields(SignOff))
 _FIELD_PATHS = {"target_id": ("target",), "window_id": ("window",),
                 **{k: ("patient", k) for k in _PATIENT_KEYS},

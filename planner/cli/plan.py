@@ -17,7 +17,7 @@ from __future__ import annotations
 
 import argparse
 
-from planner.cli.common import UsageError, finite_float, os_error_message, write_output
+from planner.cli.common import UsageError, os_error_message, write_output
 from planner.cli.plan_inputs import FLAG_FIELDS, add_input_arguments, inputs_from_args
 from planner.errors import InputError
 
@@ -39,12 +39,6 @@ def register(sub: argparse._SubParsersAction) -> None:
     p.add_argument("--force", action="store_true",
                    help="overwrite an existing output (and --save) file")
     p.add_argument("--json", action="store_true", help="same as --format json")
-    p.add_argument("--qa", metavar="FILE",
-                   help="probe QA log (phantom depth of penetration): each probe's own signal budget")
-    p.add_argument("--prior-frequency-mhz", type=finite_float, metavar="MHZ",
-                   help="prior exam: the frequency at which the organ's speckle faded [MHz]")
-    p.add_argument("--prior-fade-cm", type=finite_float, metavar="CM",
-                   help="prior exam: the depth from the skin where it faded [cm]")
     p.set_defaults(func=run_plan)
 
 
@@ -68,7 +62,7 @@ def run_plan(args: argparse.Namespace) -> int:
     document = load_plan_document(args.from_file) if args.from_file is not None else None
     inputs = inputs_from_args(args, base=document.inputs if document else None)
     fmt = "json" if args.json else (args.format or "text")
-    plan = make_plan(_with_calibration(to_request(inputs), args))
+    plan = make_plan(to_request(inputs))
     stamp = current_stamp()
     verification = None
     if document is not None:
@@ -90,25 +84,6 @@ def run_plan(args: argparse.Namespace) -> int:
         return 0
     print(text, end="" if text.endswith("\n") else "\n")
     return 0
-
-
-def _with_calibration(request, args: argparse.Namespace):
-    """The request with the QA log and the prior exam of the command line (both flags of the
-    prior exam or neither: UsageError)."""
-    import dataclasses
-    f = getattr(args, "prior_frequency_mhz", None)
-    d = getattr(args, "prior_fade_cm", None)
-    if (f is None) != (d is None):
-        given, missing = ("--prior-frequency-mhz", "--prior-fade-cm") if d is None else \
-            ("--prior-fade-cm", "--prior-frequency-mhz")
-        raise UsageError(f"argument {given}: needs {missing} too (the prior exam's frequency and "
-                         "fade depth go together)")
-    changes: dict = {}
-    if getattr(args, "qa", None) is not None:
-        changes["qa_path"] = args.qa
-    if f is not None:
-        changes["prior"] = (f, d)
-    return dataclasses.replace(request, **changes) if changes else request
 
 
 def _report_changes(path: str, stored, changes: list[tuple[str, str, str]]) -> None:

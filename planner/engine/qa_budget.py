@@ -14,9 +14,10 @@ Checks (each a QA warning with the file and line of the measurement):
   a DOP 46 % below the default's at every frequency (derived), so a value beyond 50 % lies
   outside the whole spread between the two anchors and more likely is a wrong phantom
   attenuation, frequency or unit than a real probe;
-- consistency within a session: a measurement whose budget, as a DOP, is more than
-  :data:`QA_ACTION_CM` (1 cm) from the median of the same session's other measurements is not
-  used;
+- consistency within a session (one probe, one date, several frequencies or repeats): the
+  budget is a property of the probe, so each measurement's DOP is compared with the DOP the
+  session's median budget implies at its frequency; more than :data:`QA_ACTION_CM` (1 cm) away
+  is not used (with two measurements that disagree by more than 2 cm, neither is);
 - change: a latest session more than 1 cm (as a DOP at the baseline's frequency and phantom)
   from the previous one is used but flagged (repeat the test before relying on it);
 - trend: a fall of the DOP of more than 1 cm from the probe's baseline (first session) is the
@@ -45,7 +46,8 @@ IMPLAUSIBLE_FRACTION: float = 0.50
 still used (derived: just beyond the 46 % between the 40/f rule's and the default budget's
 predictions, module docstring). [-]"""
 
-QA_SOURCES: tuple[str, ...] = ("IEC61391", "Goodsitt1998", "ServiceManualPenetration", "Derived")
+QA_SOURCES: tuple[str, ...] = ("IEC61391", "IEC61391DOP", "Goodsitt1998", "ServiceManualPenetration",
+                                "PhantomUserGuideDOP", "Derived")
 
 
 @dataclass(frozen=True)
@@ -75,6 +77,9 @@ class ProbeQa:
     baseline's frequency and phantom. [dB], [cm]"""
     trend_cm_per_month: float | None = None
     flags: tuple[str, ...] = field(default_factory=tuple)
+    baseline: tuple[float, float] | None = None
+    """``(frequency_mhz, phantom_attenuation_db_per_cm_mhz)`` of the first used measurement: the
+    conditions the sessions' DOP equivalents are given at."""
 
     @property
     def fall_cm(self) -> float | None:
@@ -134,15 +139,16 @@ def _probe_qa(log: QaLog, probe_id: str, entries: list[QaEntry], inventory: Prob
         good = [r for r in items if r[3]]
         if len(good) < 2:
             continue
+        middle = statistics.median(r[1] for r in good)
         for r in good:
-            others = statistics.median(o[1] for o in good if o is not r)
             e = r[0]
-            at = float(phantom.penetration_cm(others, e.phantom_attenuation_db_per_cm_mhz,
+            at = float(phantom.penetration_cm(middle, e.phantom_attenuation_db_per_cm_mhz,
                                               e.frequency_mhz, bw))
             if abs(at - e.depth_of_penetration_cm) > QA_ACTION_CM:
                 r[4].append(f"{_where(log, e)}: {e.depth_of_penetration_cm:g} cm is "
-                            f"{abs(at - e.depth_of_penetration_cm):.1f} cm from the {at:.1f} cm the same "
-                            f"day's other measurements imply (limit {QA_ACTION_CM:g} cm): not used")
+                            f"{abs(at - e.depth_of_penetration_cm):.1f} cm from the {at:.1f} cm the "
+                            f"session's median budget ({middle:.1f} dB) implies at {e.frequency_mhz:g} MHz "
+                            f"(limit {QA_ACTION_CM:g} cm): not used")
         for r in good:
             if r[4]:
                 r[3] = False
@@ -154,6 +160,7 @@ def _probe_qa(log: QaLog, probe_id: str, entries: list[QaEntry], inventory: Prob
                     for d, items in sorted(by_date.items()) if any(r[3] for r in items)]
     sessions: list[tuple[str, float, float]] = []
     trend = None
+    base = entries[0]
     if sessions_raw:
         base = next(r[0] for r in rated if r[3])
         for d, b in sessions_raw:
@@ -177,8 +184,9 @@ def _probe_qa(log: QaLog, probe_id: str, entries: list[QaEntry], inventory: Prob
                              f"{QA_ACTION_CM:g} cm action level; have the probe and system checked")
     budget = sessions[-1][1] if sessions and probe is not None else None
     date = sessions[-1][0] if sessions else None
+    baseline = None if not sessions else (base.frequency_mhz, base.phantom_attenuation_db_per_cm_mhz)
     return ProbeQa(probe_id, probe is not None, bw, measurements, budget, date, tuple(sessions),
-                   trend, tuple(flags))
+                   trend, tuple(flags), baseline)
 
 
 def _slope_cm_per_month(sessions) -> float:
