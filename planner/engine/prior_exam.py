@@ -24,7 +24,7 @@ from planner.errors import InputError
 from planner.physics import broadband
 from planner.physics.constants import SIGNAL_BUDGET_DIFFUSE_DB
 
-__all__ = ["SCALE_MAX", "SCALE_MIN", "PriorCalibration", "organ_columns", "fade_loss_db",
+__all__ = ["SCALE_MAX", "SCALE_MIN", "PriorCalibration", "organ_columns", "fade_depth_cm", "fade_loss_db",
            "scale_layers", "solve_prior"]
 
 SCALE_MIN: float = 0.5
@@ -167,6 +167,31 @@ def solve_prior(assessment, target, frequency_mhz: float, fade_cm: float) -> Pri
     return PriorCalibration(float(frequency_mhz), float(fade_cm), 0.5 * (lo + hi), tissue.id,
                             tissue.name, tissue.attenuation_db_per_cm_mhz, tissue.attenuation_exponent,
                             budget)
+
+
+def fade_depth_cm(assessment, target, frequency_mhz: float, scale: float = 1.0,
+                  budget_db: float | None = None, max_cm: float = 40.0) -> float:
+    """The forward model: the depth from the skin at which the organ's speckle fades at a
+    frequency for an organ-attenuation scale (bisection; the inverse of :func:`solve_prior`). [cm]"""
+    layers = assessment.stack.layers
+    organ = organ_columns(layers, target.target_tissue)
+    thickness = np.array([lay.thickness_cm for lay in layers], dtype=float)
+    if budget_db is None:
+        probe = assessment.best.probe if assessment.best is not None else None
+        own = getattr(probe, "budget_db", None)
+        budget_db = float(own) if own is not None else SIGNAL_BUDGET_DIFFUSE_DB.value
+    top = float(np.concatenate([[0.0], np.cumsum(thickness)])[int(np.argmax(organ))])
+    shown = target.target_tissue
+    lo, hi = top + 1e-6, max_cm
+    for _ in range(_STEPS):
+        mid = 0.5 * (lo + hi)
+        loss = fade_loss_db(assessment, organ, _path_to(thickness, organ, mid, shown), scale,
+                            frequency_mhz)[0]
+        if loss >= budget_db:
+            hi = mid
+        else:
+            lo = mid
+    return 0.5 * (lo + hi)
 
 
 def scale_layers(batch, target_tissue: str, scale: float):

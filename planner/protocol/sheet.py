@@ -188,6 +188,8 @@ def build_sheet(protocol: Protocol, *, protocol_path: str | os.PathLike[str] | N
     classes = tuple(habitus) if habitus else CLASS_IDS
     inv_path, inv_text = _inventory_path(protocol, protocol_path, probes_path)
     inventory = load_inventory(inv_path)
+    if inventory.qa_log:
+        inv_text = f"{inv_text}, each probe's signal budget from its QA log {Path(inventory.qa_log).name}"
     given_local = load_local_policy(local_path) if local_path is not None else None
     policy = given_local or protocol_policy(protocol, protocol_path)
     obstetric = protocol.exam_type == "obstetric"
