@@ -175,9 +175,9 @@ def exam_context(inputs: PlanInputs, target) -> dict | None:
 def to_request(inputs: PlanInputs):
     """Turn the inputs into a :class:`planner.engine.PlanRequest` (InputError if impossible).
 
-    Doppler planning is asked for when a Doppler mode is planned or ``doppler`` is set;
-    the probe inventory and local policy paths are passed as given.
-    """
+    Doppler planning is asked for when a Doppler mode is planned or ``doppler`` is set; the
+    inventory, local policy and QA log paths are passed as given, the prior exam as a pair."""
+    from planner.engine.prior_exam import prior_pair
     from planner.engine.request import PlanRequest
     from planner.library.targets import load_library
     from planner.safety.context import DOPPLER_MODES
@@ -188,20 +188,8 @@ def to_request(inputs: PlanInputs):
                        context_overrides=exam_context(inputs, target),
                        probes_path=inputs.probes_path, local_policy_path=inputs.local_policy_path,
                        doppler=inputs.doppler or any(m in DOPPLER_MODES for m in inputs.modes),
-                       draft=inputs.draft, qa_path=inputs.qa_path, prior=_prior(inputs))
-
-
-def _prior(inputs: PlanInputs) -> tuple[float, float] | None:
-    """The prior exam's (frequency, fade depth), both or neither (InputError, one line)."""
-    f, d = inputs.prior_frequency_mhz, inputs.prior_fade_cm
-    if f is None and d is None:
-        return None
-    if f is None or d is None:
-        given, missing = ("prior frequency", "prior fade depth") if d is None else \
-            ("prior fade depth", "prior frequency")
-        raise InputError(f"a {given} needs the {missing} too (the prior exam's frequency and "
-                         "fade depth go together)")
-    return float(f), float(d)
+                       draft=inputs.draft, qa_path=inputs.qa_path,
+                       prior=prior_pair(inputs.prior_frequency_mhz, inputs.prior_fade_cm))
 
 
 def make_plan_for(inputs: PlanInputs):
@@ -267,14 +255,8 @@ def check_inputs(inputs: PlanInputs) -> dict[str, str]:
     if start is not None and (not math.isfinite(start) or not 0 < start <= 100):
         problems["student_start_mhz"] = f"start frequency must be above 0 and at most 100 MHz, " \
                                         f"got {start:g}"
-    pair = [n for n in ("prior_frequency_mhz", "prior_fade_cm") if getattr(inputs, n) is not None]
-    if len(pair) == 1:
-        other = "prior_fade_cm" if pair[0] == "prior_frequency_mhz" else "prior_frequency_mhz"
-        problems[other] = "give the prior exam's frequency and fade depth together"
-    for name in ("prior_frequency_mhz", "prior_fade_cm"):
-        value = getattr(inputs, name)
-        if value is not None and (not math.isfinite(value) or value <= 0):
-            problems[name] = f"{name} must be a finite number above 0, got {value:g}"
+    from planner.engine.prior_exam import prior_problems
+    problems.update(prior_problems(inputs.prior_frequency_mhz, inputs.prior_fade_cm))
     for name in ("expected_ti", "expected_mi", "planned_minutes"):
         value = getattr(inputs, name)
         if value is not None and (not math.isfinite(value) or value < 0):

@@ -262,8 +262,8 @@ def test_a_fade_deeper_than_the_model_allows_is_refused():
 
 
 @pytest.mark.parametrize("argv, text", [
-    (("--prior-fade-cm", "14"), "needs the prior frequency"),
-    (("--prior-frequency-mhz", "3.5"), "needs the prior fade depth"),
+    (("--prior-fade-cm", "14"), "needs the prior frequency (--prior-frequency-mhz)"),
+    (("--prior-frequency-mhz", "3.5"), "needs the prior fade depth (--prior-fade-cm)"),
     (("--prior-frequency-mhz", "3.5", "--prior-fade-cm", "1"), "not below the top of the liver"),
 ])
 def test_prior_flag_errors_are_one_line_exit_2(argv, text):

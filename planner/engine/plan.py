@@ -126,13 +126,11 @@ def make_plan(request: PlanRequest) -> Plan:
     target = load_library().get(request.target_id)
     windows = [_window_by_id(target, request.window_id)] if request.window_id else list(target.windows)
     inventory = load_inventory(request.probes_path)
-    qa_path = request.qa_path or inventory.qa_log
-    qa = None
-    if qa_path:
-        from planner.engine.qa_budget import apply_qa, qa_report
-        from planner.library.qa_log import load_qa_log
-        qa = qa_report(load_qa_log(qa_path), inventory)
-        inventory = apply_qa(inventory, qa)
+    if request.qa_path or inventory.qa_log:
+        from planner.engine.qa_budget import calibrated_inventory
+        inventory, qa = calibrated_inventory(inventory, request.qa_path)
+    else:
+        qa = None
     patient = patient_for_exam(request.patient, exam_type_of(request, target))
     assessed = assess_windows(patient, target, windows, inventory, windows[0])
     ranked, reference = rank_assessments(assessed)

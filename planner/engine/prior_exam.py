@@ -24,8 +24,8 @@ from planner.errors import InputError
 from planner.physics import broadband
 from planner.physics.constants import SIGNAL_BUDGET_DIFFUSE_DB
 
-__all__ = ["SCALE_MAX", "SCALE_MIN", "PriorCalibration", "organ_columns", "fade_depth_cm", "fade_loss_db",
-           "scale_layers", "solve_prior"]
+__all__ = ["SCALE_MAX", "SCALE_MIN", "PriorCalibration", "organ_columns", "fade_depth_cm",
+           "fade_loss_db", "prior_pair", "prior_problems", "scale_layers", "solve_prior"]
 
 SCALE_MIN: float = 0.5
 """Smallest organ-attenuation scale accepted: half the population value, beyond the +/-30-50 %
@@ -42,6 +42,31 @@ STEATOSIS_SEVERE: float = 0.80
 AttenuationSteatosisReview2022, from memory). [dB cm^-1 MHz^-1]"""
 
 _STEPS = 50
+
+
+def prior_pair(frequency_mhz: float | None, fade_cm: float | None) -> tuple[float, float] | None:
+    """The prior exam's (frequency, fade depth): both or neither (InputError, one line)."""
+    if frequency_mhz is None and fade_cm is None:
+        return None
+    if frequency_mhz is None or fade_cm is None:
+        given, missing = ("prior fade depth (--prior-fade-cm)", "prior frequency (--prior-frequency-mhz)") \
+            if frequency_mhz is None else \
+            ("prior frequency (--prior-frequency-mhz)", "prior fade depth (--prior-fade-cm)")
+        raise InputError(f"a {given} needs the {missing} too: the prior exam's frequency and "
+                         "fade depth go together")
+    return float(frequency_mhz), float(fade_cm)
+
+
+def prior_problems(frequency_mhz: float | None, fade_cm: float | None) -> dict[str, str]:
+    """Problems of the two prior-exam inputs by field name (for forms and plan files)."""
+    import math
+    values = {"prior_frequency_mhz": frequency_mhz, "prior_fade_cm": fade_cm}
+    given = [n for n, v in values.items() if v is not None]
+    if len(given) == 1:
+        other = "prior_fade_cm" if given[0] == "prior_frequency_mhz" else "prior_frequency_mhz"
+        return {other: "give the prior exam's frequency and fade depth together"}
+    return {n: f"{n} must be a finite number above 0, got {v:g}" for n, v in values.items()
+            if v is not None and (not math.isfinite(v) or v <= 0)}
 
 
 @dataclass(frozen=True)

@@ -35,7 +35,7 @@ from planner.physics import phantom
 from planner.physics.constants import BANDWIDTH_FRACTION_DEFAULT, SIGNAL_BUDGET_DIFFUSE_DB
 
 __all__ = ["IMPLAUSIBLE_FRACTION", "QA_ACTION_CM", "MeasurementQa", "ProbeQa", "QaReport",
-           "apply_qa", "qa_report"]
+           "apply_qa", "calibrated_inventory", "qa_report"]
 
 QA_ACTION_CM: float = 1.0
 """Change of depth of penetration that calls for action: 1 cm from baseline (Goodsitt1998,
@@ -219,3 +219,15 @@ def apply_qa(inventory: ProbeInventory, report: QaReport) -> ProbeInventory:
         probes.append(replace(p, budget_db=q.budget_db,
                               budget_origin=f"QA on {q.date}, probe {p.id} ({report.path})"))
     return replace(inventory, probes=tuple(probes))
+
+
+def calibrated_inventory(inventory: ProbeInventory, qa_path: str | None = None
+                         ) -> tuple[ProbeInventory, QaReport | None]:
+    """The inventory with the budgets of a QA log (``qa_path``, else the inventory's own
+    ``qa_log``), and the log's report; unchanged and None without a log."""
+    path = qa_path or inventory.qa_log
+    if not path:
+        return inventory, None
+    from planner.library.qa_log import load_qa_log
+    report = qa_report(load_qa_log(path), inventory)
+    return apply_qa(inventory, report), report
