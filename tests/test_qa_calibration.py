@@ -276,3 +276,13 @@ def test_cli_exit_codes(tmp_path):
     assert run("qa")[0] == 2
     assert run("qa", str(HARBOURSIDE / "qa.yaml"), "--probes", str(HARBOURSIDE / "probes.yaml"))[0] == 0
     assert run("plan", "--target", "liver", "--qa", str(tmp_path / "missing.yaml"))[0] in (1, 2)
+
+
+def test_the_form_carries_the_qa_log_and_the_prior_exam_of_a_plan_file():
+    from planner.planfile import PlanInputs
+    from planner.tui.compute import form_values, parse_form
+    inputs = PlanInputs(target_id="liver", bmi=30.0, qa_path=str(HARBOURSIDE / "qa.yaml"),
+                        probes_path=str(HARBOURSIDE / "probes.yaml"),
+                        prior_frequency_mhz=3.5, prior_fade_cm=14.0)
+    back, problems = parse_form(form_values(inputs))
+    assert problems == {} and back == inputs

@@ -206,12 +206,12 @@ def _calibration_findings(qa: Any, prior: Any, chosen: WindowAssessment) -> list
     """QA warnings about the chosen probe and the prior-exam calibration, as findings."""
     from planner.findings import Finding
     out = []
-    probe = chosen.best.probe if chosen.best is not None else None
-    probe_qa = qa.get(probe.id) if qa is not None and probe is not None else None
+    probe_id = chosen.best.probe.id if chosen.best is not None else None
+    probe_qa = qa.get(probe_id) if qa is not None and probe_id is not None else None
     if probe_qa is not None and probe_qa.flags:
         out.append(Finding("qa_warning", "caution", f"QA log: {len(probe_qa.flags)} warning(s) for "
-                           f"probe {probe.id}", " ".join(probe_qa.flags),
-                           {"probe": probe.id, "budget_db": probe_qa.budget_db, "date": probe_qa.date},
+                           f"probe {probe_id}", " ".join(probe_qa.flags),
+                           {"probe": probe_id, "budget_db": probe_qa.budget_db, "date": probe_qa.date},
                            ("IEC61391", "Goodsitt1998", "ServiceManualPenetration")))
     if prior is not None:
         out.append(Finding("prior_exam_calibration", "info", "Prior exam calibrates the organ's attenuation",

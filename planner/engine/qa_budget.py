@@ -109,6 +109,54 @@ def _where(log: QaLog, e: QaEntry) -> str:
     return f"{log.path}{line}: measurements[{e.index}]"
 
 
+@dataclass
+class _Rated:
+    """A measurement while it is checked (mutable: the session check may drop it)."""
+
+    entry: QaEntry
+    budget_db: float
+    predicted_cm: float
+    flags: list[str]
+
+    @property
+    def used(self) -> bool:
+        return not self.flags
+
+
+def _rate(log: QaLog, e: QaEntry, bw: float) -> _Rated:
+    """The budget a measurement implies and the plausibility check against the model."""
+    budget = float(phantom.budget_from_penetration_db(
+        e.depth_of_penetration_cm, e.phantom_attenuation_db_per_cm_mhz, e.frequency_mhz, bw))
+    predicted = float(phantom.penetration_cm(SIGNAL_BUDGET_DIFFUSE_DB.value,
+                                             e.phantom_attenuation_db_per_cm_mhz, e.frequency_mhz, bw))
+    off = abs(e.depth_of_penetration_cm - predicted) / predicted
+    flags = []
+    if off > IMPLAUSIBLE_FRACTION:
+        flags.append(f"{_where(log, e)}: depth of penetration {e.depth_of_penetration_cm:g} cm is "
+                     f"{100 * off:.0f} % from the {predicted:.1f} cm the default budget predicts at "
+                     f"{e.frequency_mhz:g} MHz in a {e.phantom_attenuation_db_per_cm_mhz:g} dB/cm/MHz "
+                     f"phantom (limit {100 * IMPLAUSIBLE_FRACTION:.0f} %): not used; check the "
+                     "phantom attenuation, frequency and units")
+    return _Rated(e, budget, predicted, flags)
+
+
+def _check_session(log: QaLog, items: list[_Rated], bw: float) -> None:
+    """Drop the measurements of one session that disagree with its median budget (> 1 cm)."""
+    good = [r for r in items if r.used]
+    if len(good) < 2:
+        return
+    middle = statistics.median(r.budget_db for r in good)
+    for r in good:
+        e = r.entry
+        at = float(phantom.penetration_cm(middle, e.phantom_attenuation_db_per_cm_mhz,
+                                          e.frequency_mhz, bw))
+        if abs(at - e.depth_of_penetration_cm) > QA_ACTION_CM:
+            r.flags.append(f"{_where(log, e)}: {e.depth_of_penetration_cm:g} cm is "
+                           f"{abs(at - e.depth_of_penetration_cm):.1f} cm from the {at:.1f} cm the "
+                           f"session's median budget ({middle:.1f} dB) implies at {e.frequency_mhz:g} "
+                           f"MHz (limit {QA_ACTION_CM:g} cm): not used")
+
+
 def _probe_qa(log: QaLog, probe_id: str, entries: list[QaEntry], inventory: ProbeInventory) -> ProbeQa:
     probe = next((p for p in inventory.probes if p.id == probe_id), None)
     bw = probe.bandwidth_fraction if probe is not None else BANDWIDTH_FRACTION_DEFAULT.value
@@ -117,52 +165,22 @@ def _probe_qa(log: QaLog, probe_id: str, entries: list[QaEntry], inventory: Prob
         flags.append(f"probe {probe_id!r} is not in the {inventory.origin}: its budget is not used "
                      f"(pulse bandwidth taken as {bw:g})")
     entries = sorted(entries, key=lambda e: (e.date, e.index))
-    rated = []
-    for e in entries:
-        budget = float(phantom.budget_from_penetration_db(
-            e.depth_of_penetration_cm, e.phantom_attenuation_db_per_cm_mhz, e.frequency_mhz, bw))
-        predicted = float(phantom.penetration_cm(SIGNAL_BUDGET_DIFFUSE_DB.value,
-                                                 e.phantom_attenuation_db_per_cm_mhz, e.frequency_mhz, bw))
-        off = abs(e.depth_of_penetration_cm - predicted) / predicted
-        own: list[str] = []
-        if off > IMPLAUSIBLE_FRACTION:
-            own.append(f"{_where(log, e)}: depth of penetration {e.depth_of_penetration_cm:g} cm is "
-                       f"{100 * off:.0f} % from the {predicted:.1f} cm the default budget predicts at "
-                       f"{e.frequency_mhz:g} MHz in a {e.phantom_attenuation_db_per_cm_mhz:g} dB/cm/MHz "
-                       f"phantom (limit {100 * IMPLAUSIBLE_FRACTION:.0f} %): not used; check the "
-                       "phantom attenuation, frequency and units")
-        rated.append([e, budget, predicted, not own, own])
-    by_date: dict[str, list[list]] = {}
+    rated = [_rate(log, e, bw) for e in entries]
+    by_date: dict[str, list[_Rated]] = {}
     for r in rated:
-        by_date.setdefault(r[0].date.isoformat(), []).append(r)
+        by_date.setdefault(r.entry.date.isoformat(), []).append(r)
     for items in by_date.values():
-        good = [r for r in items if r[3]]
-        if len(good) < 2:
-            continue
-        middle = statistics.median(r[1] for r in good)
-        for r in good:
-            e = r[0]
-            at = float(phantom.penetration_cm(middle, e.phantom_attenuation_db_per_cm_mhz,
-                                              e.frequency_mhz, bw))
-            if abs(at - e.depth_of_penetration_cm) > QA_ACTION_CM:
-                r[4].append(f"{_where(log, e)}: {e.depth_of_penetration_cm:g} cm is "
-                            f"{abs(at - e.depth_of_penetration_cm):.1f} cm from the {at:.1f} cm the "
-                            f"session's median budget ({middle:.1f} dB) implies at {e.frequency_mhz:g} MHz "
-                            f"(limit {QA_ACTION_CM:g} cm): not used")
-        for r in good:
-            if r[4]:
-                r[3] = False
-    measurements = tuple(MeasurementQa(r[0], round(r[1], 2), round(r[2], 2), r[3], tuple(r[4]))
-                         for r in rated)
+        _check_session(log, items, bw)
+    measurements = tuple(MeasurementQa(r.entry, round(r.budget_db, 2), round(r.predicted_cm, 2),
+                                       r.used, tuple(r.flags)) for r in rated)
     for m in measurements:
         flags.extend(m.flags)
-    sessions_raw = [(d, statistics.median(r[1] for r in items if r[3]))
-                    for d, items in sorted(by_date.items()) if any(r[3] for r in items)]
+    sessions_raw = [(d, statistics.median(r.budget_db for r in items if r.used))
+                    for d, items in sorted(by_date.items()) if any(r.used for r in items)]
     sessions: list[tuple[str, float, float]] = []
     trend = None
-    base = entries[0]
+    base = next((r.entry for r in rated if r.used), entries[0])
     if sessions_raw:
-        base = next(r[0] for r in rated if r[3])
         for d, b in sessions_raw:
             cm = float(phantom.penetration_cm(b, base.phantom_attenuation_db_per_cm_mhz,
                                               base.frequency_mhz, bw))
