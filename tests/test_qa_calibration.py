@@ -148,6 +148,22 @@ def test_a_same_day_outlier_and_an_implausible_value_are_flagged_and_not_used(tm
     assert any("limit 50 %" in f for f in curved["flags"])
 
 
+def test_a_wide_pulse_whose_default_reach_is_unbounded_is_still_calibrated(tmp_path):
+    """75 % bandwidth at 3.5 MHz in 0.5 dB/cm/MHz: the model's loss never reaches 60 dB within
+    100 cm (penetration inf), yet a measured depth gives a finite budget that is used."""
+    assert math.isinf(float(phantom.penetration_cm(60.0, 0.5, 3.5, 0.75)))
+    inv = tmp_path / "probes.yaml"
+    inv.write_text((HARBOURSIDE / "probes.yaml").read_text().replace(
+        "    harmonic: true\n", "    harmonic: true\n    bandwidth_fraction: 0.75\n", 1))
+    log = write_log(tmp_path / "qa.yaml", [("general-curved", "2026-10-01", 3.5, 0.5, 16.5)])
+    data = json.loads(run("qa", str(log), "--probes", str(inv), "--json")[1])
+    (probe,) = data["probes"]
+    assert probe["bandwidth_fraction"] == 0.75 and probe["flags"] == []
+    assert probe["measurements"][0]["predicted_cm"] is None
+    assert probe["budget_db"] == pytest.approx(
+        float(phantom.budget_from_penetration_db(16.5, 0.5, 3.5, 0.75)), abs=0.05)
+
+
 # -- plans ---------------------------------------------------------------------------------
 def _plan(*argv: str) -> dict:
     code, out, err = run("plan", "--target", "liver", "--bmi", "35", "--json", *argv)

@@ -8,12 +8,15 @@ session (measurements on its latest date, their median) is used by the plan.
 
 Checks (each a QA warning with the file and line of the measurement):
 
-- plausibility against the model: a DOP more than :data:`IMPLAUSIBLE_FRACTION` (50 %) from the
-  DOP the default budget predicts for that phantom and frequency is not used. Under the same
-  broadband model (60 % bandwidth) the 40 dB budget of the verified 40/f teaching rule predicts
-  a DOP 46 % below the default's at every frequency (derived), so a value beyond 50 % lies
-  outside the whole spread between the two anchors and more likely is a wrong phantom
-  attenuation, frequency or unit than a real probe;
+- plausibility against the model: a measurement whose derived budget lies more than
+  :data:`IMPLAUSIBLE_FRACTION` (50 %) from the default budget is not used. The verified 40/f
+  teaching rule's budget (40 dB) is 33 % below the 60 dB default, so a budget beyond 50 % lies
+  outside the whole spread between the two anchors and more likely comes from a wrong phantom
+  attenuation, frequency or unit than from a real probe (derived). The check is made on the
+  budget, not on the depth: for wide pulses the model's loss grows ever more slowly with depth
+  (the received spectrum slides down; :mod:`planner.physics.broadband`), so the default budget
+  may predict no finite depth at all (75 % bandwidth at 3.5 MHz in 0.5 dB/cm/MHz), while the
+  budget a measured depth implies is always defined;
 - consistency within a session (one probe, one date, several frequencies or repeats): the
   budget is a property of the probe, so each measurement's DOP is compared with the DOP the
   session's median budget implies at its frequency; more than :data:`QA_ACTION_CM` (1 cm) away
@@ -29,6 +32,8 @@ from __future__ import annotations
 import statistics
 from dataclasses import dataclass, field, replace
 
+import numpy as np
+
 from planner.library.probes import ProbeInventory
 from planner.library.qa_log import QaEntry, QaLog
 from planner.physics import phantom
@@ -42,9 +47,8 @@ QA_ACTION_CM: float = 1.0
 from memory; ServiceManualPenetration, verified: "degradation in excess of 1 cm"). [cm]"""
 
 IMPLAUSIBLE_FRACTION: float = 0.50
-"""Largest relative distance of a measured DOP from the default budget's prediction that is
-still used (derived: just beyond the 46 % between the 40/f rule's and the default budget's
-predictions, module docstring). [-]"""
+"""Largest relative distance of a derived budget from the default budget that is still used
+(derived: beyond the 33 % between the 40/f rule's budget and the default, module docstring). [-]"""
 
 QA_SOURCES: tuple[str, ...] = ("IEC61391", "IEC61391DOP", "Goodsitt1998", "ServiceManualPenetration",
                                 "PhantomUserGuideDOP", "Derived")
@@ -56,8 +60,9 @@ class MeasurementQa:
 
     entry: QaEntry
     budget_db: float
-    predicted_cm: float
-    """DOP the default budget predicts for this phantom and frequency. [cm]"""
+    predicted_cm: float | None
+    """DOP the default budget predicts for this phantom and frequency (None: the model's loss
+    does not reach the default budget within 100 cm). [cm]"""
     used: bool
     flags: tuple[str, ...] = ()
 
@@ -115,7 +120,7 @@ class _Rated:
 
     entry: QaEntry
     budget_db: float
-    predicted_cm: float
+    predicted_cm: float | None
     flags: list[str]
 
     @property
@@ -127,16 +132,19 @@ def _rate(log: QaLog, e: QaEntry, bw: float) -> _Rated:
     """The budget a measurement implies and the plausibility check against the model."""
     budget = float(phantom.budget_from_penetration_db(
         e.depth_of_penetration_cm, e.phantom_attenuation_db_per_cm_mhz, e.frequency_mhz, bw))
-    predicted = float(phantom.penetration_cm(SIGNAL_BUDGET_DIFFUSE_DB.value,
-                                             e.phantom_attenuation_db_per_cm_mhz, e.frequency_mhz, bw))
-    off = abs(e.depth_of_penetration_cm - predicted) / predicted
+    reach = float(phantom.penetration_cm(SIGNAL_BUDGET_DIFFUSE_DB.value,
+                                         e.phantom_attenuation_db_per_cm_mhz, e.frequency_mhz, bw))
+    predicted = reach if np.isfinite(reach) else None
+    default = SIGNAL_BUDGET_DIFFUSE_DB.value
+    off = abs(budget - default) / default
     flags = []
     if off > IMPLAUSIBLE_FRACTION:
-        flags.append(f"{_where(log, e)}: depth of penetration {e.depth_of_penetration_cm:g} cm is "
-                     f"{100 * off:.0f} % from the {predicted:.1f} cm the default budget predicts at "
+        expect = f"; the default predicts {predicted:.1f} cm" if predicted is not None else ""
+        flags.append(f"{_where(log, e)}: depth of penetration {e.depth_of_penetration_cm:g} cm at "
                      f"{e.frequency_mhz:g} MHz in a {e.phantom_attenuation_db_per_cm_mhz:g} dB/cm/MHz "
-                     f"phantom (limit {100 * IMPLAUSIBLE_FRACTION:.0f} %): not used; check the "
-                     "phantom attenuation, frequency and units")
+                     f"phantom implies a {budget:.1f} dB budget, {100 * off:.0f} % from the default "
+                     f"{default:g} dB (limit {100 * IMPLAUSIBLE_FRACTION:.0f} %{expect}): not used; "
+                     "check the phantom attenuation, frequency and units")
     return _Rated(e, budget, predicted, flags)
 
 
@@ -171,7 +179,8 @@ def _probe_qa(log: QaLog, probe_id: str, entries: list[QaEntry], inventory: Prob
         by_date.setdefault(r.entry.date.isoformat(), []).append(r)
     for items in by_date.values():
         _check_session(log, items, bw)
-    measurements = tuple(MeasurementQa(r.entry, round(r.budget_db, 2), round(r.predicted_cm, 2),
+    measurements = tuple(MeasurementQa(r.entry, round(r.budget_db, 2),
+                                       None if r.predicted_cm is None else round(r.predicted_cm, 2),
                                        r.used, tuple(r.flags)) for r in rated)
     for m in measurements:
         flags.extend(m.flags)

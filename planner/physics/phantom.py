@@ -70,7 +70,9 @@ def penetration_cm(budget_db, attenuation_db_per_cm_mhz, frequency_mhz, bandwidt
     """The phantom depth at which a budget is used up: the inverse of
     :func:`budget_from_penetration_db` (bisection; the loss rises with depth). [cm]
 
-    A budget the phantom does not use up within ``max_depth_cm`` returns ``max_depth_cm``.
+    A budget the phantom does not use up within ``max_depth_cm`` returns ``inf``: for wide
+    pulses the loss grows ever more slowly with depth as the received spectrum slides down
+    (:mod:`planner.physics.broadband`), and may never reach a large budget.
     """
     budget = np.asarray(_positive("budget_db", budget_db), dtype=float)
     shape = np.broadcast_shapes(budget.shape, np.shape(attenuation_db_per_cm_mhz),
@@ -83,4 +85,6 @@ def penetration_cm(budget_db, attenuation_db_per_cm_mhz, frequency_mhz, bandwidt
                                exponent) >= budget
         hi = np.where(over, mid, hi)
         lo = np.where(over, lo, mid)
-    return 0.5 * (lo + hi)
+    reached = phantom_loss_db(float(max_depth_cm), attenuation_db_per_cm_mhz, frequency_mhz,
+                              bandwidth_fraction, exponent) >= budget
+    return np.where(reached, 0.5 * (lo + hi), np.inf)
