@@ -338,7 +338,7 @@ def _benchmark_protocol() -> tuple[Protocol, str]:
     base = load_protocol(base_path)
     seen, views = set(), []
     for path in [base_path] + sorted(p for p in _SHIPPED.glob("*/*.yaml") if p != base_path):
-        if path.name == "probes.yaml" or path.parent.name == "examples":
+        if path.name in ("probes.yaml", "qa.yaml") or path.parent.name == "examples":
             continue
         for view in load_protocol(path).views:
             if (view.target, view.window) not in seen:
