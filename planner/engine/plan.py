@@ -214,9 +214,13 @@ def _calibration_findings(qa: Any, prior: Any, chosen: WindowAssessment) -> list
                            {"probe": probe_id, "budget_db": probe_qa.budget_db, "date": probe_qa.date},
                            ("IEC61391", "Goodsitt1998", "ServiceManualPenetration")))
     if prior is not None:
+        calibrated = chosen.best is not None and chosen.best.probe.budget_db is not None
+        caveat = "" if calibrated else (
+            " The probe's budget is the uncalibrated default: the estimate moves with it (a "
+            "phantom QA log, --qa, anchors it).")
         out.append(Finding("prior_exam_calibration", "info", "Prior exam calibrates the organ's attenuation",
                            f"Speckle faded at {prior.fade_cm:g} cm at {prior.frequency_mhz:g} MHz before: "
-                           f"{prior.implication()}. This plan uses it.",
+                           f"{prior.implication()}. This plan uses it.{caveat}",
                            {"scale": round(prior.scale, 3),
                             "effective_db_per_cm_mhz": round(prior.slope_db_per_cm_mhz, 3),
                             "tissue": prior.tissue_id, "budget_db": prior.budget_db},
