@@ -302,3 +302,20 @@ def test_the_form_carries_the_qa_log_and_the_prior_exam_of_a_plan_file():
                         prior_frequency_mhz=3.5, prior_fade_cm=14.0)
     back, problems = parse_form(form_values(inputs))
     assert problems == {} and back == inputs
+
+
+def test_sessions_at_other_frequencies_stay_finite_for_a_wide_pulse(tmp_path):
+    """A later session at another frequency whose budget the baseline's conditions never use
+    up (75 % bandwidth) still gets a finite depth-of-penetration equivalent (JSON has no inf)."""
+    inv = tmp_path / "probes.yaml"
+    inv.write_text((HARBOURSIDE / "probes.yaml").read_text().replace(
+        "    harmonic: true\n", "    harmonic: true\n    bandwidth_fraction: 0.75\n", 1))
+    log = write_log(tmp_path / "qa.yaml", [("general-curved", "2026-01-01", 2.0, 0.5, 22.0),
+                                           ("general-curved", "2026-07-01", 10.0, 0.5, 24.0)])
+    later = float(phantom.budget_from_penetration_db(24.0, 0.5, 10.0, 0.75))
+    assert math.isinf(float(phantom.penetration_cm(later, 0.5, 2.0, 0.75)))   # the case meant
+    code, out, err = run("qa", str(log), "--probes", str(inv), "--json")
+    assert code == 0, err
+    (probe,) = json.loads(out)["probes"]
+    assert all(math.isfinite(s["dop_equivalent_cm"]) for s in probe["sessions"])
+    assert probe["sessions"][1]["dop_equivalent_cm"] > probe["sessions"][0]["dop_equivalent_cm"]

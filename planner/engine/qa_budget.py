@@ -191,9 +191,7 @@ def _probe_qa(log: QaLog, probe_id: str, entries: list[QaEntry], inventory: Prob
     base = next((r.entry for r in rated if r.used), entries[0])
     if sessions_raw:
         for d, b in sessions_raw:
-            cm = float(phantom.penetration_cm(b, base.phantom_attenuation_db_per_cm_mhz,
-                                              base.frequency_mhz, bw))
-            sessions.append((d, round(b, 1), round(cm, 2)))
+            sessions.append((d, round(b, 1), round(_dop_equivalent_cm(b, base, bw), 2)))
         if len(sessions) >= 2:
             trend = _slope_cm_per_month(sessions)
             last, prev, first = sessions[-1], sessions[-2], sessions[0]
@@ -214,6 +212,22 @@ def _probe_qa(log: QaLog, probe_id: str, entries: list[QaEntry], inventory: Prob
     baseline = None if not sessions else (base.frequency_mhz, base.phantom_attenuation_db_per_cm_mhz)
     return ProbeQa(probe_id, probe is not None, bw, measurements, budget, date, tuple(sessions),
                    trend, tuple(flags), baseline)
+
+
+def _dop_equivalent_cm(budget_db: float, base: QaEntry, bw: float) -> float:
+    """The depth of penetration a budget gives under the baseline's frequency and phantom. [cm]
+
+    Exact (:func:`planner.physics.phantom.penetration_cm`) where the model's loss reaches the
+    budget; otherwise (a wide pulse, a budget from another frequency) the baseline depth moved
+    by the budget difference over the loss gradient at the baseline depth (derived)."""
+    a, f = base.phantom_attenuation_db_per_cm_mhz, base.frequency_mhz
+    cm = float(phantom.penetration_cm(budget_db, a, f, bw))
+    if np.isfinite(cm):
+        return cm
+    z0 = base.depth_of_penetration_cm
+    lo, hi = phantom.phantom_loss_db(np.array([max(z0 - 0.5, 0.0), z0 + 0.5]), a, f, bw)
+    b0 = float(phantom.budget_from_penetration_db(z0, a, f, bw))
+    return z0 + (budget_db - b0) / max(float(hi - lo) / (z0 + 0.5 - max(z0 - 0.5, 0.0)), 1e-6)
 
 
 def _slope_cm_per_month(sessions) -> float:
