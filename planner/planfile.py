@@ -121,6 +121,9 @@ class PlanInputs:
     local_policy_path: str | None = None
     doppler: bool = False
     draft: bool = False
+    qa_path: str | None = None
+    prior_frequency_mhz: float | None = None
+    prior_fade_cm: float | None = None
     signoff: SignOff = field(default_factory=SignOff)
     choices: StudentChoices = field(default_factory=StudentChoices)
 
@@ -172,9 +175,9 @@ def exam_context(inputs: PlanInputs, target) -> dict | None:
 def to_request(inputs: PlanInputs):
     """Turn the inputs into a :class:`planner.engine.PlanRequest` (InputError if impossible).
 
-    Doppler planning is asked for when a Doppler mode is planned or ``doppler`` is set;
-    the probe inventory and local policy paths are passed as given.
-    """
+    Doppler planning is asked for when a Doppler mode is planned or ``doppler`` is set; the
+    inventory, local policy and QA log paths are passed as given, the prior exam as a pair."""
+    from planner.engine.prior_exam import prior_pair
     from planner.engine.request import PlanRequest
     from planner.library.targets import load_library
     from planner.safety.context import DOPPLER_MODES
@@ -185,7 +188,8 @@ def to_request(inputs: PlanInputs):
                        context_overrides=exam_context(inputs, target),
                        probes_path=inputs.probes_path, local_policy_path=inputs.local_policy_path,
                        doppler=inputs.doppler or any(m in DOPPLER_MODES for m in inputs.modes),
-                       draft=inputs.draft)
+                       draft=inputs.draft, qa_path=inputs.qa_path,
+                       prior=prior_pair(inputs.prior_frequency_mhz, inputs.prior_fade_cm))
 
 
 def make_plan_for(inputs: PlanInputs):
@@ -251,6 +255,8 @@ def check_inputs(inputs: PlanInputs) -> dict[str, str]:
     if start is not None and (not math.isfinite(start) or not 0 < start <= 100):
         problems["student_start_mhz"] = f"start frequency must be above 0 and at most 100 MHz, " \
                                         f"got {start:g}"
+    from planner.engine.prior_exam import prior_problems
+    problems.update(prior_problems(inputs.prior_frequency_mhz, inputs.prior_fade_cm))
     for name in ("expected_ti", "expected_mi", "planned_minutes"):
         value = getattr(inputs, name)
         if value is not None and (not math.isfinite(value) or value < 0):
@@ -274,13 +280,13 @@ def check_inputs(inputs: PlanInputs) -> dict[str, str]:
 
 # -- YAML -----------------------------------------------------------------------------------
 _PATIENT_KEYS = ("bmi", "height_cm", "weight_kg", "sex", "wall_mm", "fat_mm", "depth_cm",
-                 "gestation_weeks", "conditions")
+                 "gestation_weeks", "prior_frequency_mhz", "prior_fade_cm", "conditions")
 _EXAM_KEYS = {"type": "exam_type", "modes": "modes", "contrast_agent": "contrast_agent",
               "febrile": "febrile", "pregnancy_possible": "pregnancy_possible",
               "lung_in_beam": "lung_in_beam", "expected_ti": "expected_ti",
               "expected_mi": "expected_mi", "planned_minutes": "planned_minutes",
               "doppler": "doppler"}
-_FILES_KEYS = {"probes": "probes_path", "local_policy": "local_policy_path"}
+_FILES_KEYS = {"probes": "probes_path", "local_policy": "local_policy_path", "qa": "qa_path"}
 _SIGNOFF_KEYS = tuple(f.name for f in fields(SignOff))
 _FIELD_PATHS = {"target_id": ("target",), "window_id": ("window",),
                 **{k: ("patient", k) for k in _PATIENT_KEYS},

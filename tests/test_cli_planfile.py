@@ -22,6 +22,7 @@ from planner.cli.plan_inputs import STUDENT_FLAGS
 ROOT = Path(__file__).resolve().parents[1]
 PROBES = str(ROOT / "protocols" / "fellbrook" / "probes.yaml")
 LOCAL = str(ROOT / "protocols" / "examples" / "local-policy.yaml")
+HARBOURSIDE = ROOT / "protocols" / "harbourside"
 
 CASES: dict[str, list[str]] = {
     "liver-everything-patient": ["--target", "liver", "--bmi", "38", "--sex", "female",
@@ -48,6 +49,10 @@ CASES: dict[str, list[str]] = {
         "--student-position", "left lateral decubitus", "--student-harmonic", "on",
         "--student-tilt", "fan through the wall, keep it perpendicular",
         "--student-rationale", "wall 25 mm, stone suspected"],
+    "liver-qa-prior-exam": ["--target", "liver", "--bmi", "30",
+                            "--probes", str(HARBOURSIDE / "probes.yaml"),
+                            "--qa", str(HARBOURSIDE / "qa.yaml"),
+                            "--prior-frequency-mhz", "3.5", "--prior-fade-cm", "14"],
 }
 
 

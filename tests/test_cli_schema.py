@@ -16,7 +16,7 @@ from planner.cli import main
 from planner.yamlio import load_user_yaml
 
 ROOT = Path(__file__).resolve().parents[1]
-KINDS = ["protocol", "probes", "policy", "plan", "plan-output", "trusted-keys"]
+KINDS = ["protocol", "probes", "policy", "plan", "plan-output", "trusted-keys", "qa"]
 
 
 def _run(argv: list[str]) -> tuple[int, str, str]:
@@ -49,13 +49,15 @@ def _examples(kind: str) -> list[Path]:
         data = yaml.safe_load(path.read_text(encoding="utf-8"))
         if "probes" in data:
             return "probes"
+        if "measurements" in data:
+            return "qa"
         if "views" in data or "protocol" in str(data.get("kind", "")):
             return "protocol"
         return "policy"
     return [p for p in files if kind_of(p) == kind]
 
 
-@pytest.mark.parametrize("kind", ["protocol", "probes", "policy"])
+@pytest.mark.parametrize("kind", ["protocol", "probes", "policy", "qa"])
 def test_shipped_examples_validate(kind):
     validator = jsonschema.Draft202012Validator(_schema(kind))
     examples = _examples(kind)

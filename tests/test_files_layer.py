@@ -35,9 +35,10 @@ DATA = ROOT / "planner" / "data"
 
 EXAMPLES = {
     "protocol": sorted(p for p in PROTOCOLS.glob("**/*.yaml")
-                       if p.name not in {"probes.yaml", "local-policy.yaml"}),
+                       if p.name not in {"probes.yaml", "local-policy.yaml", "qa.yaml"}),
     "probes": sorted(PROTOCOLS.glob("**/probes.yaml")) + [DATA / "probes.yaml"],
     "policy": sorted(PROTOCOLS.glob("**/local-policy.yaml")),
+    "qa": sorted(PROTOCOLS.glob("**/qa.yaml")),
 }
 
 INVENTORY = """\

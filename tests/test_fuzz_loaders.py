@@ -55,6 +55,7 @@ from planner.engine import PlanRequest, make_plan
 from planner.errors import DataError, InputError, PlannerError
 from planner import planfile
 from planner.library.probes import load_inventory
+from planner.library.qa_log import load_qa_log
 from planner.protocol import load_protocol
 from planner.safety import load_local_policy
 from planner.yamlio import atomic_write_text
@@ -83,6 +84,7 @@ LOADERS: dict[str, Callable[[Any], Any]] = {
     "probe inventory": load_inventory,
     "local policy": load_local_policy,
     "plan file": _planfile_loader,
+    "probe QA log": load_qa_log,
 }
 
 
@@ -91,6 +93,8 @@ def kind_of(path: Path) -> str:
         return "probe inventory"
     if "policy" in path.name:
         return "local policy"
+    if path.name == "qa.yaml":
+        return "probe QA log"
     return "protocol"
 
 

@@ -37,6 +37,7 @@ def test_each_kind_is_recognised():
     assert kinds["probes.yaml"] == "probes"
     assert kinds["local-policy.yaml"] == "policy"
     assert kinds["upper-abdomen.yaml"] == "protocol"
+    assert kinds["qa.yaml"] == "qa"
 
 
 def test_plan_and_trusted_key_files_are_checked(tmp_path):
@@ -60,6 +61,9 @@ BROKEN = {
     "trusted-keys": ("schema_version: 1\nkeys:\n  - key_id: xyz\n    name: ''\n"
                      "    public_key: abc\n", ["keys[0].key_id", "keys[0].name",
                                               "keys[0].public_key"]),
+    "qa": ("schema_version: 1\nmeasurements:\n  - {probe: p1, date: 2026-13-01, frequency_mhz: 3.5,\n"
+           "     phantom_attenuation_db_per_cm_mhz: 0.5, depth_of_penetration_cm: -2}\n",
+           ["measurements[0].date", "measurements[0].depth_of_penetration_cm"]),
 }
 
 

@@ -38,6 +38,7 @@ COMMANDS: dict[str, tuple[str, str]] = {
     "protocol": ("planner.cli.protocol",
                  "check protocol files, export their JSON Schema, write protocol sheets"),
     "draft": ("planner.cli.draft", "sign supervised drafts: make a key, sign a plan file, verify it"),
+    "qa": ("planner.cli.qa", "each probe's signal budget and trend from a phantom QA log"),
     "schema": ("planner.cli.schema", "print the JSON Schema of a file kind or of plan --json"),
     "ui": ("planner.cli.ui", "open the terminal UI (the default without a subcommand)"),
 }

@@ -24,6 +24,7 @@ FLAG_FIELDS: dict[str, str] = {
     "lung_in_beam": "lung_in_beam", "pregnancy_possible": "pregnancy_possible",
     "expected_ti": "expected_ti", "expected_mi": "expected_mi", "minutes": "planned_minutes",
     "probes": "probes_path", "local": "local_policy_path", "doppler": "doppler", "draft": "draft",
+    "qa": "qa_path", "prior_frequency_mhz": "prior_frequency_mhz", "prior_fade_cm": "prior_fade_cm",
 }
 """Parsed-argument name -> :class:`~planner.planfile.PlanInputs` field, for every plan input
 flag (the output flags ``--format``, ``--json``, ``-o``, ``--force``, ``--save`` and ``--from``
@@ -71,6 +72,13 @@ def add_input_arguments(p: argparse.ArgumentParser, *, bmi: bool = True) -> None
     p.add_argument("--minutes", type=finite_float, help="planned scanning minutes")
     p.add_argument("--probes", metavar="FILE", help="department probe inventory (YAML)")
     p.add_argument("--local", metavar="FILE", help="department local policy (YAML)")
+    p.add_argument("--qa", metavar="FILE",
+                   help="probe QA log (phantom depth of penetration): each probe's own signal budget")
+    p.add_argument("--prior-frequency-mhz", type=finite_float, metavar="MHZ",
+                   help="prior exam: the frequency at which the organ's speckle faded [MHz] "
+                        "(with --prior-fade-cm)")
+    p.add_argument("--prior-fade-cm", type=finite_float, metavar="CM",
+                   help="prior exam: the depth from the skin where it faded [cm]")
     p.add_argument("--doppler", action="store_true", default=None,
                    help="add Doppler planning for vessel targets")
     p.add_argument("--draft", action="store_true", default=None,

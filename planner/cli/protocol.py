@@ -1,7 +1,7 @@
 """``scanplan protocol``: department protocols: ``protocol check``, ``schema`` and ``sheet``.
 
 ``scanplan protocol check FILE... [--kind KIND]`` checks every department file against
-its own kind (protocol, probe inventory, local policy, plan file, trusted keys; recognised
+its own kind (protocol, probe inventory, local policy, plan file, trusted keys, QA log; recognised
 from its keys by :data:`planner.protocol.filekinds.FILE_KINDS`, or forced with ``--kind``),
 prints every problem on stdout, one per line (``file:line:col: key.path: message``), then
 one summary line; it exits 0 when every file is valid and 1
@@ -36,7 +36,7 @@ SHEET_FORMATS: tuple[str, ...] = ("md", "html", "json")
 """Formats of ``protocol sheet`` (the same as :data:`planner.protocol.sheet.FORMATS`)."""
 
 
-CHECK_KINDS: tuple[str, ...] = ("protocol", "plan", "probes", "policy", "trusted-keys")
+CHECK_KINDS: tuple[str, ...] = ("protocol", "plan", "probes", "policy", "trusted-keys", "qa")
 """The kinds ``protocol check --kind`` takes, for its help without importing the table
 (:data:`planner.protocol.filekinds.KIND_NAMES`; a test keeps the two equal)."""
 

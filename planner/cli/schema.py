@@ -2,7 +2,7 @@
 
 ``scanplan schema --list`` names the kinds: ``protocol``, ``probes`` (probe inventory),
 ``policy`` (local safety policy), ``plan`` (a saved plan file), ``plan-output`` (what
-``scanplan plan --json`` prints) and ``trusted-keys`` (supervisors' public keys). The schemas are generated from the models the loaders use
+``scanplan plan --json`` prints) ``trusted-keys`` (supervisors' public keys) and ``qa`` (a probe QA log). The schemas are generated from the models the loaders use
 (:data:`planner.files.SCHEMA_KINDS`), so a file that validates against its schema loads, and
 the problems the loader reports are the ones an editor shows. An editor with a YAML language
 server checks a file as it is typed when the file's first line is
@@ -24,6 +24,7 @@ KIND_HELP: dict[str, str] = {
     "plan": "a saved plan file (inputs, computed headline, decisions, signature)",
     "plan-output": "the JSON that `scanplan plan --json` prints",
     "trusted-keys": "the supervisors' public keys (`scanplan draft keygen --public`)",
+    "qa": "a probe QA log (phantom depth-of-penetration measurements)",
 }
 """What each schema kind describes, for ``--list``."""
 

@@ -130,7 +130,8 @@ def assessment_at(batch: WindowBatch, row: int, window, stack: LayerStack | None
     best_index = int(batch.probes.best[row])
     stack = stack if stack is not None else batch.stacks.stack(row)
     arr = {k: (v[row] if k == "thickness_cm" else v) for k, v in batch.arrays.items()}
-    return WindowAssessment(window, stack, batch.budget_db, batch.interface_loss_db,
+    budget = batch.budget_db if batch.probe_budget_db is None else float(batch.probe_budget_db[row])
+    return WindowAssessment(window, stack, budget, batch.interface_loss_db,
                             float(batch.ceiling_mhz[row]), float(batch.harmonic_ceiling_mhz[row]),
                             float(batch.displayed_depth_cm[row]),
                             10.0 * float(batch.displayed_depth_cm[row] - batch.depth_cm[row]),

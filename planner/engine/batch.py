@@ -15,8 +15,9 @@ from functools import lru_cache
 import numpy as np
 
 from planner.body.stack import StackBatch
-from planner.engine.reach import (ABERRATING_ROLES, RECEIVE_EDGE_MHZ, grouped_terms, joint_terms,  # noqa: F401
-                                  loss_terms, probe_ceilings_mhz, pulse_groups, wall_sigma_ns)
+from planner.engine.reach import (ABERRATING_ROLES, RECEIVE_EDGE_MHZ, budget_offset_db,  # noqa: F401
+                                  grouped_terms, joint_terms, loss_terms, probe_ceilings_mhz,
+                                  pulse_groups, wall_sigma_ns)
 from planner.library.probes import Probe
 from planner.physics import aberration, attenuation, beam, broadband, sound_speed
 from planner.physics.constants import (HARMONIC_CONVERSION_LOSS_DB, SIGNAL_BUDGET_DIFFUSE_DB,
@@ -190,6 +191,9 @@ class WindowBatch:
     """(N,) lower limit of the received spectrum (:data:`planner.engine.reach.RECEIVE_EDGE_MHZ`). [MHz]"""
     probe_ceiling_mhz: np.ndarray
     """(N,) reach ceiling with the chosen probe's own pulse (its band's top is cut there). [MHz]"""
+    probe_budget_db: np.ndarray | None = None
+    """(N,) the chosen probe's round-trip budget (its QA-derived budget when it has one,
+    :func:`planner.engine.reach.budget_offset_db`); None: ``budget_db`` for every row. [dB]"""
 
     def _pulse(self, frequency_mhz):
         k, y = grouped_terms(self.arrays, self.sigma_ns)
@@ -252,6 +256,8 @@ def assess_batches(stacks_list: list[StackBatch], target, inventory) -> list[Win
     col = np.maximum(pa.best, 0)
     window_ceiling = np.where(pool.any(axis=1), np.where(pool, ceil_p, -np.inf).max(axis=1),
                               ceil_p.min(axis=1))
+    offsets = np.array([budget_offset_db(p) for p in probes])
+    row_budget = budget + np.where(pa.best >= 0, offsets[col], 0.0)
     const = probe_constants(probes)
     bandwidth, edge = const["bandwidth_fraction"][0, col], np.full(col.size, RECEIVE_EDGE_MHZ)
     ceil_h = ceil_hp[rows_all, col]
@@ -268,7 +274,7 @@ def assess_batches(stacks_list: list[StackBatch], target, inventory) -> list[Win
                                np.asarray(shown, dtype=float),
                                np.broadcast_to(np.asarray(fat_err, dtype=float), (n,)), pa.rows(rows),
                                arr, sigma[rows], bandwidth[rows], edge[rows],
-                               ceil_p[rows_all, col][rows]))
+                               ceil_p[rows_all, col][rows], row_budget[rows]))
     return out
 
 

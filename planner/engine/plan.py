@@ -52,12 +52,13 @@ def _window_by_id(target: Any, window_id: str) -> Any:
 
 
 def assess_windows(patient: Patient, target: Any, windows: list[Any], inventory: ProbeInventory,
-                   reference: Any) -> list[WindowAssessment]:
+                   reference: Any, organ_scale: float | None = None) -> list[WindowAssessment]:
     """Build and assess the stack of every window, measured values applied.
 
     A measured wall or fat is scaled at the reference window and applied to every window
     alike; a window whose wall is deeper than a measured target depth is not a candidate
-    (for the reference window that is an input error).
+    (for the reference window that is an input error). ``organ_scale`` scales the attenuation
+    of the target organ's tissue (a prior-exam calibration, :mod:`planner.engine.prior_exam`).
     """
     ratio = measured_wall_ratio(load_wall_models()[reference.wall], patient, reference.wall_factor)
     candidates: list[tuple[Any, Any]] = []
@@ -68,6 +69,9 @@ def assess_windows(patient: Patient, target: Any, windows: list[Any], inventory:
                 raise InputError(f"measured depth {patient.depth_cm:g} cm is not deeper than the body "
                                  f"wall at {w.name} ({float(batch.above_path_cm[0]):.1f} cm)")
             continue
+        if organ_scale is not None:
+            from planner.engine.prior_exam import scale_layers
+            batch = scale_layers(batch, target.target_tissue, organ_scale)
         candidates.append((w, batch))
     assessed = assess_batches([b for _, b in candidates], target, inventory)
     return [assessment_at(a, 0, w) for (w, _), a in zip(candidates, assessed)]
@@ -124,12 +128,23 @@ def make_plan(request: PlanRequest) -> Plan:
     target = load_library().get(request.target_id)
     windows = [_window_by_id(target, request.window_id)] if request.window_id else list(target.windows)
     inventory = load_inventory(request.probes_path)
+    if request.qa_path or inventory.qa_log:
+        from planner.engine.qa_budget import calibrated_inventory
+        inventory, qa = calibrated_inventory(inventory, request.qa_path)
+    else:
+        qa = None
     patient = patient_for_exam(request.patient, exam_type_of(request, target))
     gestation = resolve_gestation(target.id, patient.gestation_weeks, target.name,
                                   frozenset(lay.role for w in windows for lay in w.path if lay.role))
     geometry = patient if gestation is None else replace(patient, gestation_weeks=gestation.weeks)
     assessed = assess_windows(geometry, target, windows, inventory, windows[0])
     ranked, reference = rank_assessments(assessed)
+    prior = None
+    if request.prior is not None:
+        from planner.engine.prior_exam import solve_prior
+        prior = solve_prior(ranked[0], target, *request.prior)
+        assessed = assess_windows(geometry, target, windows, inventory, windows[0], prior.scale)
+        ranked, reference = rank_assessments(assessed)
     chosen = ranked[0]
     ctx = RuleContext(geometry, target, tuple(ranked), chosen, inventory)
     band, band_findings = decisions.band_decision(ctx)
@@ -139,6 +154,7 @@ def make_plan(request: PlanRequest) -> Plan:
                       Decisions(band, tuple(band_findings), harmonic, tuple(harmonic_findings),
                                 tilt, tuple(tilt_findings)))
     findings = ENGINE_RULES.run(ctx)
+    findings += _calibration_findings(qa, prior, chosen)
     doppler = None
     if request.doppler:
         doppler, doppler_findings = plan_doppler(target, chosen, chosen.best.probe if chosen.best else None,
@@ -177,7 +193,8 @@ def make_plan(request: PlanRequest) -> Plan:
         monitored_index=monitored_index(exam),
         pitfalls=tuple(target.pitfalls),
         assumptions=tuple(_assumptions(patient, chosen, inventory, exam,
-                                       sex_implied=request.patient.sex is None and patient.sex is not None)
+                                       sex_implied=request.patient.sex is None and patient.sex is not None,
+                                       prior=prior)
                           + list(gestation.notes if gestation else ())),
         validity=tuple(validity), disclaimer=DISCLAIMER,
         layers=tuple(PlanLayer(lay.tissue.id, lay.label, lay.role, round(lay.thickness_cm, 3),
@@ -201,8 +218,34 @@ def _gestation_flags(gestation: GestationUse | None) -> list[ValidityFlag]:
                          source=gestation.source, status=gestation.status)]
 
 
+def _calibration_findings(qa: Any, prior: Any, chosen: WindowAssessment) -> list:
+    """QA warnings about the chosen probe and the prior-exam calibration, as findings."""
+    from planner.findings import Finding
+    out = []
+    probe_id = chosen.best.probe.id if chosen.best is not None else None
+    probe_qa = qa.get(probe_id) if qa is not None and probe_id is not None else None
+    if probe_qa is not None and probe_qa.flags:
+        out.append(Finding("qa_warning", "caution", f"QA log: {len(probe_qa.flags)} warning(s) for "
+                           f"probe {probe_id}", " ".join(probe_qa.flags),
+                           {"probe": probe_id, "budget_db": probe_qa.budget_db, "date": probe_qa.date},
+                           ("IEC61391", "Goodsitt1998", "ServiceManualPenetration")))
+    if prior is not None:
+        calibrated = chosen.best is not None and chosen.best.probe.budget_db is not None
+        caveat = "" if calibrated else (
+            " The probe's budget is the uncalibrated default: the estimate moves with it (a "
+            "phantom QA log, --qa, anchors it).")
+        out.append(Finding("prior_exam_calibration", "info", "Prior exam calibrates the organ's attenuation",
+                           f"Speckle faded at {prior.fade_cm:g} cm at {prior.frequency_mhz:g} MHz before: "
+                           f"{prior.implication()}. This plan uses it.{caveat}",
+                           {"scale": round(prior.scale, 3),
+                            "effective_db_per_cm_mhz": round(prior.slope_db_per_cm_mhz, 3),
+                            "tissue": prior.tissue_id, "budget_db": prior.budget_db},
+                           ("AttenuationSteatosisReview2022", "Derived")))
+    return out
+
+
 def _assumptions(patient: Patient, chosen: WindowAssessment, inventory: ProbeInventory,
-                 exam: ExamContext, sex_implied: bool = False) -> list[str]:
+                 exam: ExamContext, sex_implied: bool = False, prior: Any = None) -> list[str]:
     out = []
     if not patient.bmi_given:
         out.append(f"No BMI given: the reference habitus (BMI {patient.bmi:g}) is assumed.")
@@ -222,8 +265,14 @@ def _assumptions(patient: Patient, chosen: WindowAssessment, inventory: ProbeInv
         out.append(f"Measured target depth {patient.depth_cm:g} cm sets the organ path length "
                    "through every window.")
     out.append(f"Probes from the {inventory.origin}.")
-    out.append(f"Signal budget {chosen.budget_db:g} dB round trip; tissue values are population averages "
-               "(speed +/-3 %, attenuation +/-30-50 %).")
+    origin = chosen.best.probe.budget_origin if chosen.best is not None else ""
+    where = f" from {origin}," if origin else ""
+    out.append(f"Signal budget {chosen.budget_db:g} dB{where} round trip; tissue values are population "
+               "averages (speed +/-3 %, attenuation +/-30-50 %).")
+    if prior is not None:
+        out.append(f"Prior exam: speckle faded at {prior.fade_cm:g} cm at {prior.frequency_mhz:g} MHz; "
+                   f"{prior.implication()}; the {prior.organ} attenuation is scaled by "
+                   f"{prior.scale:.2f} in this plan.")
     out.extend(chosen.stack.notes)
     out.append(f"Exam context: {exam.exam_type.replace('_', ' ')}.")
     return out

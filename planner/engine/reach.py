@@ -12,6 +12,7 @@ import numpy as np
 
 from planner.body.stack import FAT_ROLES, StackBatch
 from planner.physics import aberration, attenuation, broadband, ceiling
+from planner.physics.constants import SIGNAL_BUDGET_DIFFUSE_DB
 
 ABERRATING_ROLES = FAT_ROLES | {"muscle"}
 """Wall layers whose fat lobules, septa and muscle make the phase screen (HinkelmanAbdominal)."""
@@ -84,10 +85,30 @@ def joint_terms(arrays: list[dict], sigma_ns: np.ndarray, harmonic: bool = False
     return out, exps
 
 
-def pulse_groups(probes) -> list[tuple[float, float]]:
-    """The distinct pulses of an inventory: (bandwidth fraction, received-spectrum edge) pairs
-    (the edge is :data:`RECEIVE_EDGE_MHZ` for every probe)."""
-    return sorted({(p.bandwidth_fraction, RECEIVE_EDGE_MHZ) for p in probes})
+def pulse_groups(probes, default_budget_db: float | None = None) -> list[tuple[float, float, float]]:
+    """The distinct pulses of an inventory: (bandwidth fraction, received-spectrum edge,
+    budget offset) triples (the edge is :data:`RECEIVE_EDGE_MHZ` for every probe).
+
+    The offset is :func:`budget_offset_db`: a probe whose diffuse budget was calibrated in a
+    QA phantom (``Probe.budget_db``) solves its ceiling with its own budget. [-], [MHz], [dB]
+    """
+    return sorted({(p.bandwidth_fraction, RECEIVE_EDGE_MHZ, budget_offset_db(p, default_budget_db))
+                   for p in probes})
+
+
+def budget_offset_db(probe, default_budget_db: float | None = None) -> float:
+    """How far a probe's own diffuse budget lies from the default one (0 without QA). [dB]
+
+    ``Probe.budget_db`` is the probe's diffuse budget derived from its phantom depth of
+    penetration (:mod:`planner.engine.qa_budget`); the default is
+    :data:`planner.physics.constants.SIGNAL_BUDGET_DIFFUSE_DB`. A strong specular target keeps its
+    allowance on top of either.
+    """
+    own = getattr(probe, "budget_db", None)
+    if own is None:
+        return 0.0
+    base = SIGNAL_BUDGET_DIFFUSE_DB.value if default_budget_db is None else default_budget_db
+    return float(own) - float(base)
 
 
 def ceilings_mhz(terms_f, terms_h, budget_f, budget_h, pulses):
@@ -96,7 +117,8 @@ def ceilings_mhz(terms_f, terms_h, budget_f, budget_h, pulses):
 
     ``terms_*`` are the grouped loss terms (:func:`joint_terms`, same exponents), ``budget_*``
     (N,) the budget left after the interface (and, for the harmonic, conversion) losses and
-    ``pulses`` G ``(bandwidth, edge)`` pairs. The ceiling is the highest centre frequency whose
+    ``pulses`` G ``(bandwidth, edge)`` pairs or ``(bandwidth, edge, budget offset)`` triples
+    (the offset [dB] is added to both budgets of that pulse, :func:`budget_offset_db`). The ceiling is the highest centre frequency whose
     broadband round-trip loss (layers and wall aberration,
     :func:`planner.physics.broadband.broadband_loss_db`) fits; a harmonic's transmit edge is
     half the pulse's edge (its echo returns at twice the transmit frequency). A pulse below
@@ -105,8 +127,11 @@ def ceilings_mhz(terms_f, terms_h, budget_f, budget_h, pulses):
     n, g = budget_f.size, len(pulses)
     bw = np.array([p[0] for p in pulses], dtype=float)
     edge = np.array([p[1] for p in pulses], dtype=float)
+    offset = np.array([p[2] if len(p) > 2 else 0.0 for p in pulses], dtype=float)
     k = np.concatenate([np.repeat(terms_f[0], g, axis=0), np.repeat(terms_h[0], g, axis=0)])
     budget = np.concatenate([np.repeat(budget_f, g), np.repeat(budget_h, g)])
+    if offset.any():
+        budget = budget + np.tile(offset, 2 * n)
     b = np.tile(bw, 2 * n)
     e = np.concatenate([np.tile(edge, n), np.tile(0.5 * edge, n)])
     broad = b >= broadband.NARROWBAND_BELOW
@@ -123,12 +148,14 @@ def ceilings_mhz(terms_f, terms_h, budget_f, budget_h, pulses):
 def probe_ceilings_mhz(terms_f, terms_h, budget_f, budget_h, probes):
     """Fundamental and harmonic reach ceilings of every probe, two arrays (N, P). [MHz]
 
-    Each probe's own pulse (its bandwidth; :data:`RECEIVE_EDGE_MHZ`) is integrated, once per
-    distinct pulse of the inventory (the default inventory has one).
+    Each probe's own pulse (its bandwidth; :data:`RECEIVE_EDGE_MHZ`) is integrated with its own
+    budget (:func:`budget_offset_db`), once per distinct pulse of the inventory (the default
+    inventory has one).
     """
     pulses = pulse_groups(probes)
     sf, sh = ceilings_mhz(terms_f, terms_h, budget_f, budget_h, pulses)
-    index = [pulses.index((p.bandwidth_fraction, RECEIVE_EDGE_MHZ)) for p in probes]
+    index = [pulses.index((p.bandwidth_fraction, RECEIVE_EDGE_MHZ, budget_offset_db(p)))
+             for p in probes]
     return sf[:, index], sh[:, index]
 
 

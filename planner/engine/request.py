@@ -31,6 +31,11 @@ class PlanRequest:
         Add Doppler planning for vessel targets.
     draft : bool
         Mark the plan as a draft for supervised practice.
+    qa_path : str or None
+        A probe QA log (:mod:`planner.engine.qa_budget`); None uses the inventory's ``qa_log``.
+    prior : (frequency_mhz, fade_cm) or None
+        A prior exam's frequency and the depth where the target organ's speckle faded
+        (:mod:`planner.engine.prior_exam`). [MHz], [cm]
     """
 
     target_id: str
@@ -42,6 +47,8 @@ class PlanRequest:
     local_policy_path: str | None = None
     doppler: bool = False
     draft: bool = False
+    qa_path: str | None = None
+    prior: tuple[float, float] | None = None
 
 
 FEMALE_EXAMS: tuple[str, ...] = ("obstetric", "gynaecological")

@@ -135,6 +135,12 @@ def sweep_plans(request: PlanRequest, bmi) -> list[SweepRow]:
     target = load_library().get(request.target_id)
     windows = [_window(target, request.window_id)] if request.window_id else list(target.windows)
     inventory = load_inventory(request.probes_path)
+    if request.qa_path or inventory.qa_log:
+        from planner.engine.qa_budget import calibrated_inventory
+        inventory = calibrated_inventory(inventory, request.qa_path)[0]
+    if request.prior is not None:
+        raise InputError("the prior-exam calibration (--prior-frequency-mhz, --prior-fade-cm) is "
+                         "for one patient's plan, not a BMI sweep")
     b = np.atleast_1d(np.asarray(bmi, dtype=float))
     patient = replace(patient_for_exam(request.patient, exam_type_of(request, target)),
                       bmi=float(b[0]), bmi_given=True)

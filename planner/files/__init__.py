@@ -14,6 +14,7 @@ so every problem comes out at once as ``file:line:col: key.path: message``.
 - plan file: :class:`planner.files.plan.PlanFile`; loader ``planner.planfile.load_plan_inputs``;
 - trusted keys: :class:`planner.files.trusted.TrustedKeysFile`;
   loader ``planner.signing.load_trusted_keys``;
+- probe QA log: :class:`planner.files.qa.QaFile`; loader ``planner.library.qa_log.load_qa_log``;
 - target library: :class:`planner.files.targets.TargetsFile`;
   loader ``planner.library.targets.parse_library``;
 - package data (``planner/data``): :mod:`planner.files.package`; read fast at run time
@@ -52,6 +53,7 @@ SCHEMA_KINDS: dict[str, Callable[[], dict[str, Any]]] = {
     "plan": _lazy("planner.files.schemas:plan_schema"),
     "plan-output": _lazy("planner.engine.serialize:plan_output_schema"),
     "trusted-keys": _lazy("planner.files.schemas:trusted_keys_schema"),
+    "qa": _lazy("planner.files.schemas:qa_schema"),
 }
 """File kind -> function returning its JSON Schema (draft 2020-12), in listing order."""
 

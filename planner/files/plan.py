@@ -38,6 +38,10 @@ class PatientSection(FileModel):
     fat_mm: Finite | None = Field(None, description="Measured subcutaneous fat. [mm]")
     depth_cm: Finite | None = Field(None, description="Measured skin-to-target depth. [cm]")
     gestation_weeks: Finite | None = Field(None, description="Gestational age. [weeks]")
+    prior_frequency_mhz: Finite | None = Field(None, description="Prior exam: frequency at "
+                                               "which the organ's speckle faded. [MHz]")
+    prior_fade_cm: Finite | None = Field(None, description="Prior exam: depth from the skin "
+                                         "where it faded. [cm]")
     conditions: dict[Text, Grade] | None = Field(None, description="Condition: grade.")
 
 
@@ -61,6 +65,7 @@ class FilesSection(FileModel):
 
     probes: Text | None = Field(None, description="Probe inventory file.")
     local_policy: Text | None = Field(None, description="Local safety policy file.")
+    qa: Text | None = Field(None, description="Probe QA log (phantom depth of penetration).")
 
 
 class SupervisionSection(FileModel):

@@ -6,7 +6,8 @@ Format (``schema_version: 1``): ``probes``, a non-empty list of probes with ``id
 ``elevation_aperture_mm`` [mm], ``elevation_focus_cm`` [cm], ``footprint_mm: [length,
 width]`` [mm], ``receive_f_number`` [-], ``pulse_cycles`` [-], ``harmonic`` and, optionally,
 ``bandwidth_fraction`` [-] (fractional -6 dB pulse-echo bandwidth; default 0.6). Optional
-``department``, ``title`` and ``source`` ({source, status, note}) describe the file.
+``department``, ``title`` and ``source`` ({source, status, note}) describe the file; optional
+``qa_log`` names the probes' phantom QA log (kind ``qa``, relative to the inventory).
 The ranges are plausibility bounds (common practice), not limits of any product.
 """
 
@@ -85,6 +86,8 @@ class InventoryFile(FileModel):
     department: Text | None = None
     title: Text | None = None
     source: InventorySource | None = None
+    qa_log: Text | None = Field(default=None, description="The department's QA log of these "
+                                "probes (schema kind qa), relative to this file.")
 
     def duplicate_ids(self) -> list[tuple[int, str]]:
         """``(index, id)`` of every probe whose id was already used earlier in the list."""

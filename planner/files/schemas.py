@@ -10,7 +10,7 @@ from typing import Any
 
 from planner.files.base import json_schema_of
 
-__all__ = ["inventory_schema", "policy_schema", "plan_schema", "trusted_keys_schema"]
+__all__ = ["inventory_schema", "policy_schema", "plan_schema", "qa_schema", "trusted_keys_schema"]
 
 _ID = "https://scanplan.invalid/schemas/{}-v1.json"
 
@@ -41,3 +41,10 @@ def trusted_keys_schema() -> dict[str, Any]:
     from planner.files.trusted import TrustedKeysFile
     return json_schema_of(TrustedKeysFile, title="scanplan trusted keys (schema_version 1)",
                           schema_id=_ID.format("trusted-keys"))
+
+
+def qa_schema() -> dict[str, Any]:
+    """Schema of a probe QA log (phantom depth-of-penetration measurements)."""
+    from planner.files.qa import QaFile
+    return json_schema_of(QaFile, title="scanplan probe QA log (schema_version 1)",
+                          schema_id=_ID.format("qa"))

@@ -45,6 +45,11 @@ class Probe:
     bandwidth_fraction: float = BANDWIDTH_FRACTION_DEFAULT.value
     """Fractional -6 dB bandwidth of the pulse-echo spectrum (default: a typical array,
     :data:`planner.physics.constants.BANDWIDTH_FRACTION_DEFAULT`, from memory). [-]"""
+    budget_db: float | None = None
+    """The probe's own diffuse round-trip budget, derived from its QA phantom depth of
+    penetration (:mod:`planner.engine.qa_budget`); None uses the default budget. [dB]"""
+    budget_origin: str = ""
+    """Where ``budget_db`` came from, for the plan's assumptions (e.g. "QA on 2026-10-01")."""
 
     @property
     def centre_mhz(self) -> float:
@@ -58,6 +63,9 @@ class ProbeInventory:
 
     probes: tuple[Probe, ...]
     origin: str
+    qa_log: str | None = None
+    """The inventory's QA log (``qa_log:`` in the file, resolved against the inventory's folder),
+    or None."""
 
     def ids(self) -> list[str]:
         return [p.id for p in self.probes]
@@ -136,5 +144,9 @@ def _read_inventory(path: str | Path) -> ProbeInventory:
             problems.add(("probes", index, "id"), f"duplicate probe id {probe_id!r}")
     problems.raise_if_any("Invalid probe inventory")
     assert model is not None
+    qa_log = None
+    if model.qa_log:
+        qa_log = str(Path(path).parent / model.qa_log) if not Path(model.qa_log).is_absolute() \
+            else model.qa_log
     return ProbeInventory(tuple(probe_from_entry(p.model_dump()) for p in model.probes),
-                          str(path))
+                          str(path), qa_log)

@@ -49,6 +49,7 @@ FILE_KINDS: tuple[FileKind, ...] = (
                                             "approved_by"),
              "planner.safety.policy:load_local_policy"),
     FileKind("trusted-keys", "trusted keys", _has("keys"), "planner.signing:load_trusted_keys"),
+    FileKind("qa", "probe QA log", _has("measurements"), "planner.library.qa_log:load_qa_log"),
 )
 """The department file kinds, in recognition order (first match wins)."""
 

@@ -188,6 +188,8 @@ def build_sheet(protocol: Protocol, *, protocol_path: str | os.PathLike[str] | N
     classes = tuple(habitus) if habitus else CLASS_IDS
     inv_path, inv_text = _inventory_path(protocol, protocol_path, probes_path)
     inventory = load_inventory(inv_path)
+    if inventory.qa_log:
+        inv_text = f"{inv_text}, each probe's signal budget from its QA log {Path(inventory.qa_log).name}"
     given_local = load_local_policy(local_path) if local_path is not None else None
     policy = given_local or protocol_policy(protocol, protocol_path)
     obstetric = protocol.exam_type == "obstetric"
@@ -336,7 +338,7 @@ def _benchmark_protocol() -> tuple[Protocol, str]:
     base = load_protocol(base_path)
     seen, views = set(), []
     for path in [base_path] + sorted(p for p in _SHIPPED.glob("*/*.yaml") if p != base_path):
-        if path.name == "probes.yaml" or path.parent.name == "examples":
+        if path.name in ("probes.yaml", "qa.yaml") or path.parent.name == "examples":
             continue
         for view in load_protocol(path).views:
             if (view.target, view.window) not in seen:

@@ -30,9 +30,11 @@ FLAGS = ("pregnancy_possible", "contrast_agent", "febrile", "lung_in_beam", "dop
 _TEXT_INPUTS = ("bmi", "height_cm", "weight_kg", "wall_mm", "fat_mm", "depth_cm", "conditions",
                 "gestation_weeks", "expected_ti", "expected_mi", "planned_minutes", "student",
                 "student_reflection", "student_start_mhz", *CHOICE_TEXT_FIELDS)
-CARRIED = ("probes_path", "local_policy_path", *SUPERVISOR_FIELDS)
-"""Inputs a plan file may hold that the form keeps but does not edit (department files, and
-the supervisor's fields, which only a verified signature fills)."""
+CARRIED = ("probes_path", "local_policy_path", "qa_path", "prior_frequency_mhz", "prior_fade_cm",
+           *SUPERVISOR_FIELDS)
+"""Inputs a plan file may hold that the form keeps but does not edit (department files, with
+the probe QA log and a prior exam's calibration, and the supervisor's fields, which only a
+verified signature fills). A probe inventory's own ``qa_log`` applies in the form as well."""
 _SELECTS = ("sex", "window_id", "exam_type", "student_harmonic")
 DRAFT_FIRST_FIELD = "student"
 """The field Ctrl+G moves the focus to: the first of the student's own."""
