@@ -99,7 +99,8 @@ def compare_choices(plan, choices: StudentChoices) -> tuple[ChoiceRow, ...]:
     if band.low is None or band.high is None:
         tool_band = "no usable band"
     else:
-        start = f"start {band.high:.1f} MHz" if band.feasible else "detail not reached"
+        start = (f"start {band.start if band.start is not None else band.high:.1f} MHz"
+                 if band.feasible else "detail not reached")
         tool_band = f"{start} (band {band.low:.1f}-{band.high:.1f} MHz)"
     mhz = choices.start_mhz
     inside = (mhz is not None and band.low is not None and band.high is not None

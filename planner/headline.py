@@ -35,7 +35,7 @@ def headline_data(plan, stamp=None) -> dict[str, Any]:
     return {
         **stamp.as_data(),
         "band": {"low": mhz(band.low), "high": mhz(band.high),
-                 "start": mhz(band.high) if band.feasible else None},
+                 "start": mhz(band.start if band.start is not None else band.high) if band.feasible else None},
         "probe": plan.probe.id if plan.probe is not None else None,
         "window": plan.window.id,
         "harmonic": bool(plan.harmonic.advised),

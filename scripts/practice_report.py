@@ -7,7 +7,7 @@ Each case of the table is planned through the engine path the ``scanplan plan`` 
 serialiser), and four values of the plan are compared with what practice gives:
 
 start band
-    The plan's start frequency (``frequency_mhz.high`` of a feasible band: the text report's
+    The plan's start frequency (``frequency_mhz.start`` of a feasible band: the text report's
     "start at ... MHz") lies inside the practice band, allowing 0.25 MHz either side
     (:data:`TOLERANCE_MHZ`). A plan without a feasible band disagrees.
 probe type
@@ -221,7 +221,7 @@ def plan_values(data: dict[str, Any]) -> dict[str, Any]:
     """The four compared values of a plan's JSON data."""
     band = data.get("frequency_mhz") or {}
     probe = data.get("probe") or {}
-    return {"start_band": band.get("high") if band.get("feasible") else None,
+    return {"start_band": band.get("start") if band.get("feasible") else None,
             "probe_type": probe.get("type"),
             "harmonic": bool((data.get("harmonic") or {}).get("advised")),
             "first_window": (data.get("window") or {}).get("id")}

@@ -81,8 +81,28 @@ def test_thick_walled_liver_bmi35_harmonic_advised():
     assert p.harmonic.transmit_mhz.high >= p.probe.band_mhz[0]
 
 
-def test_slim_liver_harmonic_optional():
-    assert plan("liver", bmi=21).harmonic.advised is False
+def test_slim_liver_harmonic_routine_and_its_reason_is_not_the_wall():
+    """Slim adult liver: harmonic imaging is routine in adult abdominal scanning
+    (THIRadioGraphics), so it is advised, for that reason and not for clutter (thin wall)."""
+    h = plan("liver", bmi=21).harmonic
+    assert h.advised is True and "routine" in h.reason and "clutter" not in h.reason
+
+
+def test_harmonic_transmit_keeps_the_second_harmonic_in_the_upper_band():
+    """Transmit range inside the probe's band with 2 f0 in its upper half and inside it
+    (not pinned to the probe's lowest frequency)."""
+    p = plan("liver", bmi=45)
+    low, high = p.probe.band_mhz
+    t = p.harmonic.transmit_mhz
+    assert t.low >= (low + high) / 4 - 0.05 and 2 * t.high <= high + 1e-9 and t.low > low
+
+
+def test_no_clutter_reason_from_bmi_on_a_route_without_fat():
+    """Transvaginal embryo and Achilles at BMI 45: the wall at the route decides (no fat there),
+    so no 'clutter likely' advice (the BMI alone never decides it)."""
+    for target in ("embryo", "achilles-tendon"):
+        h = plan(target, bmi=45).harmonic
+        assert "clutter is likely" not in h.reason.lower() and "bmi" not in h.reason.lower()
 
 
 def test_lung_b_lines_never_harmonic():

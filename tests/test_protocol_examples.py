@@ -29,7 +29,7 @@ from planner.provenance import STATUSES
 from planner.references import REFERENCES
 
 ROOT = Path(__file__).parents[1] / "protocols"
-NOT_PROTOCOLS = {"probes.yaml", "local-policy.yaml"}
+NOT_PROTOCOLS = {"probes.yaml", "local-policy.yaml", "qa.yaml"}   # other file kinds
 SHIPPED = sorted(p for p in ROOT.glob("**/*.yaml") if p.name not in NOT_PROTOCOLS)
 
 

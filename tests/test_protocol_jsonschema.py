@@ -20,7 +20,7 @@ from planner.yamlio import load_user_yaml
 
 ROOT = Path(__file__).parents[1] / "protocols"
 SHIPPED = sorted(p for p in ROOT.glob("**/*.yaml")
-                 if p.name not in {"probes.yaml", "local-policy.yaml"})
+                 if p.name not in {"probes.yaml", "local-policy.yaml", "qa.yaml"})
 BROKEN = Path(__file__).parent / "fixtures" / "protocols_broken"
 
 

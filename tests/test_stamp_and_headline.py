@@ -97,7 +97,7 @@ def test_the_plan_file_stores_the_headline(saved):
     data = json.loads(run("plan", "--from", str(saved), "--json")[1])
     band = data["frequency_mhz"]
     assert computed["band"] == {"low": round(band["low"], 2), "high": round(band["high"], 2),
-                                "start": round(band["high"], 2)}
+                                "start": round(band["start"], 2)}
     assert computed["probe"] == data["probe"]["id"]
     assert computed["window"] == data["window"]["id"]
     assert computed["harmonic"] is data["harmonic"]["advised"]

@@ -7,6 +7,7 @@ plan through the rule registry (:mod:`planner.engine.registry`).
 from __future__ import annotations
 
 import math
+from typing import Any
 
 from planner.engine.assess import finest_detail_mm
 from planner.engine.context import RuleContext
@@ -22,12 +23,20 @@ CLUTTER_FAT_MM: float = 18.65
 cut-off that marks BMI >= 30 (Chandak2018), where harmonic imaging is clearly better
 (THIRadioGraphics). [mm]"""
 
-CLUTTER_BMI: float = 30.0
-"""BMI from which harmonic imaging is clearly better in abdominal imaging (THIRadioGraphics). [kg/m^2]"""
+ROUTINE_HARMONIC_EXAMS: frozenset[str] = frozenset({"general_abdominal", "obstetric", "gynaecological",
+                                                    "cardiac"})
+"""Exam types whose transabdominal or transthoracic routes use harmonic imaging routinely
+(THIRadioGraphics for the adult abdomen; Tanabe2000THI and Spencer1998Harmonic for the heart;
+obstetric and pelvic transabdominal routes share the abdominal wall: common practice)."""
 
 
 def _r(x: float, nd: int = 1) -> float:
     return round(float(x), nd)
+
+
+def _range(low: float, high: float) -> str:
+    """``low-high`` in MHz, or one value when they are equal."""
+    return f"{low:g}" if abs(high - low) < 0.05 else f"{low:g}-{high:g}"
 
 
 def band_decision(ctx: RuleContext) -> tuple[FrequencyBand, list[Finding]]:
@@ -42,7 +51,7 @@ def band_decision(ctx: RuleContext) -> tuple[FrequencyBand, list[Finding]]:
     reach_high = min(opt.probe.high_mhz, ceiling)
     top = max(reach_high, opt.probe.low_mhz)
     received = a.received_centre_mhz(top)
-    values: dict[str, float | None] = {"detail_mm": target.detail_mm, "detail_floor_mhz": _r(opt.floor_mhz, 2),
+    values: dict[str, Any] = {"detail_mm": target.detail_mm, "detail_floor_mhz": _r(opt.floor_mhz, 2),
               "reach_ceiling_mhz": _r(ceiling, 2), "window_reach_ceiling_mhz": _r(a.ceiling_mhz, 2),
               "budget_db": a.budget_db,
               "depth_cm": _r(a.stack.depth_cm), "probe_low_mhz": opt.probe.low_mhz,
@@ -63,20 +72,36 @@ def band_decision(ctx: RuleContext) -> tuple[FrequencyBand, list[Finding]]:
         + ". Detail: the lowest transmit frequency at which both the axial resolution (half the "
         "spatial pulse length, pulse cycles x wavelength / 2) and the lateral resolution at focus "
         "(wavelength x F-number) are as fine as the detail the exam must resolve.")
+    floor_basis = "detail" if opt.floor_mhz >= opt.probe.low_mhz - 1e-9 else "probe"
     if opt.feasible:
-        summary = FrequencyBand(_r(opt.low_mhz), _r(opt.high_mhz), True)
+        from planner.engine.artefacts import ABERRATING_WALL_MM
+        from planner.engine.start import basis_text, start_frequency
+        from planner.engine.reach import ABERRATING_ROLES
+        wall_mm = 10.0 * sum(lay.thickness_cm for lay in a.stack.layers if lay.role in ABERRATING_ROLES)
+        start, start_basis, start_values = start_frequency(a, opt, target.exam_type, wall_mm,
+                                                           ABERRATING_WALL_MM)
+        values.update(start_values, start_mhz=start, floor_basis=floor_basis)
+        summary = FrequencyBand(_r(opt.low_mhz), _r(opt.high_mhz), True, start, start_basis, floor_basis)
+        floor_text = (f"{target.detail_mm:g} mm detail needs at least {opt.floor_mhz:.1f} MHz at "
+                      f"F/{opt.f_number:.1f}" if floor_basis == "detail" else
+                      f"{target.detail_mm:g} mm detail does not bind (it needs only "
+                      f"{opt.floor_mhz:.1f} MHz at F/{opt.f_number:.1f}), so the band starts at the "
+                      "probe's lowest frequency")
         return summary, [Finding(
             "band.recommended", "info", "Frequency band",
-            f"Use {opt.low_mhz:.1f}-{opt.high_mhz:.1f} MHz on the {opt.probe.label}: "
-            f"{target.detail_mm:g} mm detail needs at least {opt.floor_mhz:.1f} MHz at F/{opt.f_number:.1f}; "
-            f"the echo from {a.stack.depth_cm:.1f} cm stays within the {a.budget_db:g} dB budget "
-            f"up to {ceiling:.1f} MHz.", values, sources, explanation)] \
+            f"Use {opt.low_mhz:.1f}-{opt.high_mhz:.1f} MHz on the {opt.probe.label}, starting at "
+            f"{start:.1f} MHz ({basis_text(start_basis)}): {floor_text}; the echo from "
+            f"{a.stack.depth_cm:.1f} cm stays within the {a.budget_db:g} dB budget "
+            f"up to {ceiling:.1f} MHz.", values, sources + ("Duck1990", "BornWolf1999"),
+            explanation + " Start: the lowest of the reach with 1.3 times the average attenuation, "
+            "the frequency at which a wall of 15 mm or more keeps the focus diffraction-limited "
+            "(Marechal criterion), the usual top start of the exam, and the probe's top.")] \
             + downshift_findings(ctx, opt.high_mhz, values)
     best_detail = finest_detail_mm(opt, reach_high)
     values["finest_detail_mm"] = _r(best_detail, 2) if math.isfinite(best_detail) else None
     low = opt.probe.low_mhz
     high = max(low, reach_high)
-    summary = FrequencyBand(_r(low), _r(high), False)
+    summary = FrequencyBand(_r(low), _r(high), False, floor_basis=floor_basis)
     if reach_high < opt.probe.low_mhz:
         msg = (f"Even {opt.probe.low_mhz:g} MHz loses more than the {a.budget_db:g} dB budget over "
                f"{a.stack.depth_cm:.1f} cm (reach ceiling {ceiling:.1f} MHz): expect a weak, noisy "
@@ -131,18 +156,39 @@ def downshift_findings(ctx: RuleContext, band_top_mhz: float, values: dict) -> l
         "single-frequency value (derived).")]
 
 
+def harmonic_transmit_mhz(probe, harmonic_ceiling_mhz: float) -> tuple[float, float] | None:
+    """Transmit range for harmonic imaging on ``probe``: the second harmonic is received in
+    the upper half of the probe's band (f0 >= (low + high) / 4, common practice: the harmonic
+    receive filter sits there) and inside it (2 f0 <= high), and the harmonic echo reaches
+    (f0 <= the harmonic ceiling). None when no transmit frequency satisfies the reach and the
+    probe's band. [MHz]"""
+    high = min(harmonic_ceiling_mhz, probe.high_mhz / 2.0)
+    if high < probe.low_mhz:
+        return None
+    low = min(max(probe.low_mhz, (probe.low_mhz + probe.high_mhz) / 4.0), high)
+    return _r(low), _r(high)
+
+
 def harmonic_decision(ctx: RuleContext) -> tuple[HarmonicDecision, list[Finding]]:
-    """Advise harmonic imaging when clutter is likely and the harmonic echo still reaches."""
-    a, opt, target, patient = ctx.chosen, ctx.option, ctx.target, ctx.patient
+    """Advise harmonic imaging where practice uses it routinely or the wall at the window makes
+    clutter likely, and the harmonic echo still reaches; never for exams whose signs are
+    artefacts; judged by the wall at the chosen window, not by the BMI."""
+    a, opt, target = ctx.chosen, ctx.option, ctx.target
     fat_mm = a.stack.subcutaneous_fat_cm * 10.0
+    window = ctx.window
     values = {"subcutaneous_fat_mm": _r(fat_mm), "harmonic_ceiling_mhz": _r(a.harmonic_ceiling_mhz, 2),
-              "conversion_loss_db": HARMONIC_CONVERSION_LOSS_DB.value, "budget_db": a.budget_db}
+              "conversion_loss_db": HARMONIC_CONVERSION_LOSS_DB.value, "budget_db": a.budget_db,
+              "clutter_fat_mm": CLUTTER_FAT_MM}
     sources = ("HarmonicGlossary", "Ralls2000THI", "THIRadioGraphics", "Chandak2018",
                HARMONIC_CONVERSION_LOSS_DB.source)
     explanation = ("Harmonic imaging transmits f0 and receives 2 f0; the loss per cm is "
                    "alpha(f0) + alpha(2 f0), plus the conversion loss of the harmonic "
-                   f"({HARMONIC_CONVERSION_LOSS_DB.value:g} dB). It suppresses near-field clutter "
-                   "and reverberation from a thick wall but penetrates less.")
+                   f"({HARMONIC_CONVERSION_LOSS_DB.value:g} dB). The harmonic forms beyond the wall, "
+                   "so it suppresses the wall's clutter, reverberation and much of its aberration, "
+                   "but penetrates less. It is routine in adult abdominal, obstetric and cardiac "
+                   "imaging (THIRadioGraphics, Tanabe2000THI, Spencer1998Harmonic); near-field "
+                   f"clutter is likely from {CLUTTER_FAT_MM:g} mm of subcutaneous fat at the window "
+                   "(Chandak2018).")
     if target.harmonic_contraindicated:
         return HarmonicDecision(False, "Not for this exam: its diagnostic signs are artefacts that "
                                 "harmonic imaging suppresses.", "contraindicated"), [Finding(
@@ -152,26 +198,33 @@ def harmonic_decision(ctx: RuleContext) -> tuple[HarmonicDecision, list[Finding]
     if opt is None or not opt.probe.harmonic:
         return HarmonicDecision(False, "The chosen probe has no harmonic receive mode.",
                                 "no_harmonic_mode"), []
+    transmit = harmonic_transmit_mhz(opt.probe, a.harmonic_ceiling_mhz)
+    clutter = fat_mm >= CLUTTER_FAT_MM
+    routine = target.exam_type in ROUTINE_HARMONIC_EXAMS and not window.endocavitary
     top_f0 = min(a.harmonic_ceiling_mhz, opt.probe.high_mhz / 2.0)
-    reaches = top_f0 >= opt.probe.low_mhz
-    clutter = fat_mm >= CLUTTER_FAT_MM or patient.bmi >= CLUTTER_BMI
-    values.update(transmit_low_mhz=opt.probe.low_mhz, transmit_high_mhz=_r(top_f0, 2))
-    if clutter and reaches:
-        reason = (f"Subcutaneous fat {fat_mm:.0f} mm (BMI {patient.bmi:.0f}) makes near-field clutter likely; "
-                  f"the harmonic echo still reaches {a.stack.depth_cm:.1f} cm with transmit "
-                  f"{opt.probe.low_mhz:g}-{top_f0:.1f} MHz.")
-        return HarmonicDecision(True, reason, "advised",
-                                TransmitBand(opt.probe.low_mhz, _r(top_f0))), [Finding(
-            "harmonic.advised", "advice", "Harmonic imaging advised", reason, values, sources, explanation)]
+    if transmit is not None:
+        values.update(transmit_low_mhz=transmit[0], transmit_high_mhz=transmit[1])
+    why = (f"subcutaneous fat {fat_mm:.0f} mm at {window.name} makes near-field clutter likely"
+           if clutter else "harmonic imaging is routine for this exam (sharper contrast, less "
+           "reverberation)")
+    if (clutter or routine) and transmit is not None:
+        reason = (f"{why[0].upper()}{why[1:]}; the harmonic echo still reaches "
+                  f"{a.stack.depth_cm:.1f} cm with transmit {_range(*transmit)} MHz "
+                  f"(received at {_range(2 * transmit[0], 2 * transmit[1])} MHz).")
+        return HarmonicDecision(True, reason, "advised", TransmitBand(*transmit)), [Finding(
+            "harmonic.advised", "advice", "Harmonic imaging advised", reason, values,
+            sources + (("Tanabe2000THI", "Spencer1998Harmonic") if routine else ()), explanation)]
     if clutter:
-        reason = (f"Clutter is likely (fat {fat_mm:.0f} mm), but the harmonic echo would need transmit "
-                  f"{top_f0:.1f} MHz or less, below the probe's {opt.probe.low_mhz:g} MHz: use the "
-                  "fundamental, and try harmonic imaging only for the near field.")
+        reason = (f"Clutter is likely (fat {fat_mm:.0f} mm at {window.name}), but the harmonic echo "
+                  f"would need transmit {top_f0:.1f} MHz or less, below the probe's "
+                  f"{opt.probe.low_mhz:g} MHz: use the fundamental, and try harmonic imaging only "
+                  "for the near field.")
         return HarmonicDecision(False, reason, "out_of_reach"), [Finding(
             "harmonic.out_of_reach", "caution", "Harmonic echo will not reach the target", reason,
             values, sources, explanation)]
-    reason = (f"Thin wall (fat {fat_mm:.0f} mm): clutter is unlikely, so harmonic imaging is optional"
-              + (f"; it reaches with transmit up to {top_f0:.1f} MHz." if reaches else
+    reason = (f"Thin wall at {window.name} (fat {fat_mm:.0f} mm): clutter is unlikely, so harmonic "
+              "imaging is optional"
+              + (f"; it reaches with transmit {_range(*transmit)} MHz." if transmit else
                  "; it would not reach this depth."))
     return HarmonicDecision(False, reason, "optional"), []
 

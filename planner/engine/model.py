@@ -49,11 +49,21 @@ class PatientSummary:
 
 @dataclass(frozen=True, slots=True)
 class FrequencyBand:
-    """Recommended band [detail floor, reach ceiling] on the chosen probe; None when no probe. [MHz]"""
+    """Recommended band [floor, reach ceiling] on the chosen probe and the frequency to start
+    at; None when no probe. [MHz]
+
+    ``floor_basis`` says what sets ``low``: ``"detail"`` (the lowest frequency that resolves
+    the exam's detail) or ``"probe"`` (the probe's lowest frequency: detail does not bind).
+    ``start_basis`` says what sets ``start`` (:mod:`planner.engine.start`): ``"margin"``,
+    ``"wall"``, ``"practice"`` or ``"probe"``; empty when the band is not feasible.
+    """
 
     low: float | None
     high: float | None
     feasible: bool
+    start: float | None = None
+    start_basis: str = ""
+    floor_basis: str = ""
 
 
 @dataclass(frozen=True, slots=True)

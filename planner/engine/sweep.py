@@ -19,7 +19,7 @@ from planner.body.patient import Patient
 from planner.body.stack import build_stack_batch, measured_wall_ratio
 from planner.body.walls import load_wall_models
 from planner.engine.batch import WindowBatch, assess_batch, assess_batches
-from planner.engine.decisions import CLUTTER_BMI, CLUTTER_FAT_MM
+from planner.engine.decisions import CLUTTER_FAT_MM, ROUTINE_HARMONIC_EXAMS
 from planner.engine.request import PlanRequest, exam_type_of, patient_for_exam
 from planner.errors import InputError
 from planner.library.probes import ProbeInventory, default_inventory, load_inventory
@@ -105,14 +105,14 @@ class SweepRow:
                 "harmonic": self.harmonic, "feasible": self.feasible}
 
 
-def harmonic_advised(batch: WindowBatch, rows: np.ndarray, col: np.ndarray, bmi: np.ndarray,
-                     contraindicated: bool) -> np.ndarray:
-    """Where harmonic imaging is advised: clutter likely and the harmonic echo still reaches.
-
-    Clutter is likely from :data:`~planner.engine.decisions.CLUTTER_FAT_MM` of subcutaneous fat
-    or BMI :data:`~planner.engine.decisions.CLUTTER_BMI` (Chandak2018; THIRadioGraphics); the
-    harmonic echo reaches when the transmit ceiling min(harmonic reach, probe top / 2) is not
-    below the probe's lowest frequency.
+def harmonic_advised(batch: WindowBatch, rows: np.ndarray, col: np.ndarray, target,
+                     window) -> np.ndarray:
+    """Where harmonic imaging is advised, as :func:`planner.engine.decisions.harmonic_decision`
+    decides it: not contraindicated, a harmonic-capable probe, routine for the exam
+    (:data:`~planner.engine.decisions.ROUTINE_HARMONIC_EXAMS`, not endocavitary) or clutter
+    likely from :data:`~planner.engine.decisions.CLUTTER_FAT_MM` of subcutaneous fat at the
+    window (Chandak2018), and a transmit frequency in the probe's band whose harmonic reaches
+    (min(harmonic reach, probe top / 2) not below the probe's lowest frequency).
     """
     probes = batch.probes.probes
     p_low = np.array([p.low_mhz for p in probes])[col]
@@ -121,8 +121,30 @@ def harmonic_advised(batch: WindowBatch, rows: np.ndarray, col: np.ndarray, bmi:
     subcut = np.array([lay.role == "subcutaneous_fat" for lay in batch.stacks.layers], dtype=bool)
     fat_mm = np.cumsum(np.where(subcut[None, :], batch.arrays["thickness_cm"], 0.0), axis=1)[:, -1] * 10.0
     top = np.minimum(batch.harmonic_ceiling_mhz[rows], p_high / 2.0)
-    clutter = (fat_mm[rows] >= CLUTTER_FAT_MM) | (bmi >= CLUTTER_BMI)
-    return (not contraindicated) & capable & clutter & (top >= p_low)
+    routine = target.exam_type in ROUTINE_HARMONIC_EXAMS and not window.endocavitary
+    clutter = (fat_mm[rows] >= CLUTTER_FAT_MM) | routine
+    return (not target.harmonic_contraindicated) & capable & clutter & (top >= p_low)
+
+
+def start_of_rows(batch: WindowBatch, rows: np.ndarray, col: np.ndarray, target) -> np.ndarray:
+    """The plan's start frequency (:func:`planner.engine.start.start_rows`) for the rows of a
+    window batch on their chosen probes, in one vectorised solve. [MHz]"""
+    from planner.engine.artefacts import ABERRATING_WALL_MM
+    from planner.engine.reach import ABERRATING_ROLES, joint_terms
+    from planner.engine.start import margin_ceilings_mhz, start_rows
+    probes = batch.probes.probes
+    k, y = joint_terms([batch.arrays], batch.sigma_ns)
+    budget = (batch.probe_budget_db if batch.probe_budget_db is not None
+              else np.full(batch.depth_cm.shape, batch.budget_db)) - batch.interface_loss_db
+    margin = margin_ceilings_mhz(k[rows], y, budget[rows], batch.bandwidth_fraction[rows],
+                                 batch.low_edge_mhz[rows])
+    wall_cols = np.array([lay.role in ABERRATING_ROLES for lay in batch.stacks.layers], dtype=bool)
+    wall_mm = 10.0 * np.where(wall_cols[None, :], batch.arrays["thickness_cm"], 0.0).sum(axis=1)[rows]
+    start, _, _ = start_rows(margin, batch.sigma_ns[rows], wall_mm, [probes[c].type for c in col],
+                             np.array([probes[c].high_mhz for c in col]),
+                             batch.probes.low_mhz[rows, col], batch.probes.high_mhz[rows, col],
+                             target.exam_type, ABERRATING_WALL_MM)
+    return start
 
 
 def sweep_plans(request: PlanRequest, bmi) -> list[SweepRow]:
@@ -167,9 +189,16 @@ def sweep_plans(request: PlanRequest, bmi) -> list[SweepRow]:
         alive &= k == k.min(axis=0, keepdims=True)
     chosen = np.argmax(alive, axis=0)
     out: list[SweepRow] = []
+    cols = np.array([int(batches[chosen[i]].probes.best[i]) for i in rows])
+    starts = np.full(b.size, np.nan)
+    for w, wb in enumerate(batches):          # one vectorised start solve per window
+        sel = rows[(chosen == w) & (cols >= 0)]
+        sel = sel[wb.probes.feasible[sel, cols[sel]]] if sel.size else sel
+        if sel.size:
+            starts[sel] = start_of_rows(wb, sel, cols[sel], target)
     for i in rows:
         wb = batches[chosen[i]]
-        col = int(wb.probes.best[i])
+        col = int(cols[i])
         if col < 0:
             out.append(SweepRow(float(b[i]), windows[chosen[i]].id, None, None, None, None, False, False))
             continue
@@ -180,8 +209,9 @@ def sweep_plans(request: PlanRequest, bmi) -> list[SweepRow]:
         else:
             low = probe.low_mhz
             high = max(low, min(probe.high_mhz, float(wb.probe_ceiling_mhz[i])))
-        harmonic = bool(harmonic_advised(wb, np.array([i]), np.array([col]), b[i:i + 1],
-                                         target.harmonic_contraindicated)[0])
-        out.append(SweepRow(float(b[i]), windows[chosen[i]].id, probe.id, round(high, 1), round(high, 1),
+        harmonic = bool(harmonic_advised(wb, np.array([i]), np.array([col]), target,
+                                         windows[chosen[i]])[0])
+        start = round(float(starts[i]), 1) if ok else None
+        out.append(SweepRow(float(b[i]), windows[chosen[i]].id, probe.id, start, round(high, 1),
                             round(low, 1), harmonic, ok))
     return out

@@ -83,14 +83,27 @@ HABITUS_SUFFIX = ", this class and heavier"
 """Added to the label where it is listed, as the heavier rows of the view do not repeat it."""
 
 
+START_CHANGE_MHZ: float = 0.5
+"""Change of the start frequency that counts as a different set-up (about one step of a
+scanner's frequency control; common practice). [MHz]"""
+
+
+def start_changes(a, b) -> bool:
+    """True when two bands' start frequencies differ by :data:`START_CHANGE_MHZ` or more."""
+    if a.start is None or b.start is None:
+        return (a.start is None) != (b.start is None)
+    return abs(a.start - b.start) >= START_CHANGE_MHZ - 1e-9
+
+
 def changes_plan(plan: Plan, reference: SheetRow | None) -> bool:
     """True when ``plan`` differs from ``reference``, the view's row of the next lighter
-    class, in what the sonographer sets up: the probe, harmonic imaging, or whether the
-    detail is reached (None: no lighter row to compare with)."""
+    class, in what the sonographer sets up: the probe, the start frequency, harmonic imaging,
+    or whether the detail is reached (None: no lighter row to compare with)."""
     if reference is None:
         return True
     probe = plan.probe.id if plan.probe is not None else None
     return (probe != (reference.probe.id if reference.probe else None)
+            or start_changes(plan.frequency_mhz, reference.band_mhz)
             or plan.harmonic.advised != reference.harmonic.advised
             or plan.frequency_mhz.feasible != reference.band_mhz.feasible)
 

@@ -18,8 +18,11 @@ def _band(plan: Plan) -> str:
     f = plan.frequency_mhz
     if f.low is None or f.high is None:
         return "no usable band"
-    tag = (f"; start at {f.high:.1f} MHz, the highest that reaches" if f.feasible
-           else "  (needed detail NOT reached)")
+    if f.feasible and f.start is not None:
+        from planner.engine.start import basis_text
+        tag = f"; start at {f.start:.1f} MHz, {basis_text(f.start_basis)}"
+    else:
+        tag = "  (needed detail NOT reached)"
     return f"{f.low:.1f}-{f.high:.1f} MHz{tag}"
 
 

@@ -100,6 +100,10 @@ def band_text(plan: Plan) -> str:
     low, high = band.low, band.high
     if low is None or high is None:
         return "[bold $error]no usable band[/]"
+    if band.feasible and band.start is not None:
+        from planner.engine.start import basis_text
+        return (f"[b]start {band.start:.1f} MHz[/b] · band {low:.1f}–{high:.1f} MHz "
+                f"[$text-muted]({escape(basis_text(band.start_basis))})[/]")
     text = f"[b]{low:.1f}–{high:.1f} MHz[/b]"
     if not band.feasible:
         text += "  [bold $error]needed detail NOT reached[/]"
@@ -157,6 +161,8 @@ def summary_rows(plan: Plan) -> list[tuple[str, str]]:
 def _harmonic_band(harmonic: HarmonicDecision) -> str:
     band = harmonic.transmit_mhz
     if harmonic.advised and band is not None:
+        if band.high - band.low < 0.05:
+            return f": transmit {band.low:.1f} MHz"
         return f": transmit {band.low:.1f}–{band.high:.1f} MHz"
     return ""
 
