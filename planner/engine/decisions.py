@@ -156,6 +156,12 @@ def downshift_findings(ctx: RuleContext, band_top_mhz: float, values: dict) -> l
         "single-frequency value (derived).")]
 
 
+def harmonic_routine(target, window) -> bool:
+    """Harmonic imaging is routine for this exam on this route (:data:`ROUTINE_HARMONIC_EXAMS`,
+    not an endocavitary route)."""
+    return target.exam_type in ROUTINE_HARMONIC_EXAMS and not window.endocavitary
+
+
 def harmonic_transmit_mhz(probe, harmonic_ceiling_mhz: float) -> tuple[float, float] | None:
     """Transmit range for harmonic imaging on ``probe``: the second harmonic is received in
     the upper half of the probe's band (f0 >= (low + high) / 4, common practice: the harmonic
@@ -200,7 +206,7 @@ def harmonic_decision(ctx: RuleContext) -> tuple[HarmonicDecision, list[Finding]
                                 "no_harmonic_mode"), []
     transmit = harmonic_transmit_mhz(opt.probe, a.harmonic_ceiling_mhz)
     clutter = fat_mm >= CLUTTER_FAT_MM
-    routine = target.exam_type in ROUTINE_HARMONIC_EXAMS and not window.endocavitary
+    routine = harmonic_routine(target, window)
     top_f0 = min(a.harmonic_ceiling_mhz, opt.probe.high_mhz / 2.0)
     if transmit is not None:
         values.update(transmit_low_mhz=transmit[0], transmit_high_mhz=transmit[1])

@@ -19,7 +19,7 @@ from planner.body.patient import Patient
 from planner.body.stack import build_stack_batch, measured_wall_ratio
 from planner.body.walls import load_wall_models
 from planner.engine.batch import WindowBatch, assess_batch, assess_batches
-from planner.engine.decisions import CLUTTER_FAT_MM, ROUTINE_HARMONIC_EXAMS
+from planner.engine.decisions import CLUTTER_FAT_MM, harmonic_routine
 from planner.engine.request import PlanRequest, exam_type_of, patient_for_exam
 from planner.errors import InputError
 from planner.library.probes import ProbeInventory, default_inventory, load_inventory
@@ -121,8 +121,7 @@ def harmonic_advised(batch: WindowBatch, rows: np.ndarray, col: np.ndarray, targ
     subcut = np.array([lay.role == "subcutaneous_fat" for lay in batch.stacks.layers], dtype=bool)
     fat_mm = np.cumsum(np.where(subcut[None, :], batch.arrays["thickness_cm"], 0.0), axis=1)[:, -1] * 10.0
     top = np.minimum(batch.harmonic_ceiling_mhz[rows], p_high / 2.0)
-    routine = target.exam_type in ROUTINE_HARMONIC_EXAMS and not window.endocavitary
-    clutter = (fat_mm[rows] >= CLUTTER_FAT_MM) | routine
+    clutter = (fat_mm[rows] >= CLUTTER_FAT_MM) | harmonic_routine(target, window)
     return (not target.harmonic_contraindicated) & capable & clutter & (top >= p_low)
 
 
