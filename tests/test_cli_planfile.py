@@ -29,8 +29,8 @@ CASES: dict[str, list[str]] = {
                                  "--condition", "steatosis:2", "--condition", "bowel_gas",
                                  "--window", "right-intercostal", "--expected-ti", "0.7",
                                  "--minutes", "15", "--draft"],
-    "kidney-measured": ["--target", "kidney", "--height-cm", "170", "--weight-kg", "95",
-                        "--wall-mm", "40", "--depth-cm", "12"],
+    "kidney-measured": ["--target", "kidney", "--side", "left", "--height-cm", "170",
+                        "--weight-kg", "95", "--wall-mm", "40", "--depth-cm", "12"],
     "appendix-fat": ["--target", "appendix", "--fat-mm", "35", "--condition", "no_breath_hold"],
     "pleura-lung-mi": ["--target", "pleura", "--bmi", "28", "--lung-in-beam",
                        "--expected-mi", "0.9"],
@@ -114,7 +114,7 @@ def test_body_size_flags_replace_the_files_height_and_weight(tmp_path):
     """A file with height and weight reopened with --bmi plans with that BMI (not an error)."""
     path = tmp_path / "plan.yaml"
     plan_json(*CASES["kidney-measured"], "--save", str(path))
-    expected = ["--target", "kidney", "--bmi", "33", "--wall-mm", "40", "--depth-cm", "12"]
+    expected = ["--target", "kidney", "--side", "left", "--bmi", "33", "--wall-mm", "40", "--depth-cm", "12"]
     assert plan_json("--from", str(path), "--bmi", "33") == plan_json(*expected)
 
 

@@ -162,13 +162,23 @@ def test_fat_layer_is_drawn_too_deep_SonographySpeedTutorial():
     assert f.values["fat_error_mm"] == pytest.approx(10 * fat_cm * (1540 / 1450 - 1), rel=0.02)
 
 
-def test_windows_ranked_feasible_first_then_by_loss():
-    p = plan("kidney", bmi=35)
-    feasible = [w.feasible for w in p.windows]
-    assert feasible == sorted(feasible, reverse=True)
-    for a, b in zip(p.windows, p.windows[1:]):
-        if a.feasible == b.feasible:
-            assert a.round_trip_loss_db <= b.round_trip_loss_db
+def test_windows_ranked_feasible_first_then_close_by_practice_then_by_loss():
+    """Feasible first; windows within 6 dB of the best by the usual order of practice; the rest
+    by loss (CLOSE_LOSS_DB, common practice)."""
+    from planner.engine.request import CLOSE_LOSS_DB
+    from planner.library.targets import load_library
+    for target, bmi in (("kidney", 35), ("gallbladder", 21), ("liver", 45)):
+        p = plan(target, bmi=bmi)
+        order = {w.id: w.practice_order or 99 for w in load_library().get(target).windows}
+        feasible = [w.feasible for w in p.windows]
+        assert feasible == sorted(feasible, reverse=True)
+        best = min(w.round_trip_loss_db for w in p.windows if w.feasible)
+        close = [w for w in p.windows if w.feasible and w.round_trip_loss_db <= best + CLOSE_LOSS_DB + 0.05]
+        assert p.windows[:len(close)] == close[:len(close)] or {w.id for w in p.windows[:len(close)]} == {w.id for w in close}
+        ranks = [(order[w.id], w.round_trip_loss_db) for w in p.windows[:len(close)]]
+        assert ranks == sorted(ranks)
+        rest = [w.round_trip_loss_db for w in p.windows[len(close):] if w.feasible]
+        assert rest == sorted(rest)
 
 
 def test_json_contract_keys():

@@ -53,7 +53,7 @@ from planner.engine.serialize import plan_to_json_data
 from planner.body.patient import Patient
 from planner.engine import PlanRequest, make_plan
 from planner.errors import DataError, InputError, PlannerError
-from planner import planfile
+from planner import plancheck, planfile
 from planner.library.probes import load_inventory
 from planner.library.qa_log import load_qa_log
 from planner.protocol import load_protocol
@@ -682,7 +682,7 @@ def plan_inputs(draw):
 @given(inputs=plan_inputs())
 def test_saved_plan_round_trips_exactly(inputs):
     """What is saved is what is loaded: every field, floats to the last bit, any text."""
-    assume(not planfile.check_inputs(inputs))
+    assume(not plancheck.check_inputs(inputs))
     with tempfile.TemporaryDirectory() as folder:
         path = Path(folder) / "plan.yaml"
         planfile.save_plan_inputs(path, inputs)
@@ -698,7 +698,7 @@ def test_saved_plan_round_trips_exactly(inputs):
 @fuzz_settings(200)
 @given(inputs=plan_inputs(), data=st.data())
 def test_mutated_saved_plans_load_or_are_refused_with_a_line(inputs, data, workspace):
-    assume(not planfile.check_inputs(inputs))
+    assume(not plancheck.check_inputs(inputs))
     path = workspace / "scratch" / "saved.yaml"
     planfile.save_plan_inputs(path, inputs, overwrite=True)
     if data.draw(st.booleans(), label="structural"):

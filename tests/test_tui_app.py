@@ -323,3 +323,23 @@ async def test_new_plan_and_escape_back_to_the_inputs():
         assert "bmi" in screen.outcome.problems and "BMI" in text_of(screen, "#plan-status")
         assert "new plan" in text_of(screen, "#masthead")
         assert "DEMO DATA" not in text_of(screen, "#masthead")
+
+
+async def test_the_side_field_shows_for_paired_targets_and_plans_that_side():
+    """Right kidney through the liver, left coronal through the spleen (KidneyWindowsTeaching):
+    the Side field appears for the kidney only and changes the windows planned."""
+    app = ScanplanApp()
+    async with app.run_test(size=(100, 30)) as pilot:
+        screen = await ready(app, pilot)
+        await pilot.press("ctrl+t", *list("thyroid"), "enter")
+        await pilot.pause()
+        assert not screen.query_one("#row-side").display
+        await pilot.press("ctrl+t", "ctrl+u", *list("kidney"), "enter")
+        await pilot.pause()
+        assert screen.plan.target.id == "kidney" and screen.query_one("#row-side").display
+        assert screen.plan.inputs.side == "right"
+        screen.query_one("#side").value = "left"
+        await pilot.pause()
+        assert screen.plan.inputs.side == "left"
+        assert "Left kidney" in text_of(screen, "#masthead")
+        assert all("liver" not in w.id for w in screen.plan.windows)

@@ -8,7 +8,8 @@ import sys
 import pytest
 
 from planner.errors import DataError, InputError
-from planner.planfile import (PlanInputs, SignOff, check_inputs, inputs_to_data, load_plan_inputs,
+from planner.plancheck import check_inputs
+from planner.planfile import (PlanInputs, SignOff, inputs_to_data, load_plan_inputs,
                               make_plan_for, save_plan_inputs, to_request)
 
 FULL = PlanInputs(target_id="fetal-head", window_id=None, bmi=None, height_cm=165.0, weight_kg=98.5,
@@ -151,7 +152,7 @@ def test_doppler_mode_asks_for_doppler_planning():
 
 def test_inputs_to_data_writes_every_key():
     data = inputs_to_data(PlanInputs())
-    assert list(data) == ["schema_version", "target", "window", "patient", "exam", "files",
+    assert list(data) == ["schema_version", "target", "window", "side", "patient", "exam", "files",
                           "supervision", "decisions"]
     assert set(data["decisions"]) == {"probe", "start_mhz", "window", "position", "harmonic",
                                       "tilt", "rationale"}

@@ -17,7 +17,7 @@ from planner.errors import InputError
 __all__ = ["FLAG_FIELDS", "STUDENT_FLAGS", "add_input_arguments", "inputs_from_args"]
 
 FLAG_FIELDS: dict[str, str] = {
-    "target": "target_id", "window": "window_id", "bmi": "bmi", "height_cm": "height_cm",
+    "target": "target_id", "window": "window_id", "side": "side", "bmi": "bmi", "height_cm": "height_cm",
     "weight_kg": "weight_kg", "sex": "sex", "wall_mm": "wall_mm", "fat_mm": "fat_mm",
     "depth_cm": "depth_cm", "gestation_weeks": "gestation_weeks", "condition": "conditions",
     "exam": "exam_type", "mode": "modes", "contrast": "contrast_agent", "febrile": "febrile",
@@ -55,6 +55,8 @@ def add_input_arguments(p: argparse.ArgumentParser, *, bmi: bool = True) -> None
     p.add_argument("--fat-mm", type=finite_float, help="measured subcutaneous fat thickness [mm]")
     p.add_argument("--depth-cm", type=finite_float, help="measured skin-to-target depth [cm]")
     p.add_argument("--window", help="use this window only (ids in `scanplan targets --json`)")
+    p.add_argument("--side", choices=("left", "right"),
+                   help="side of a paired target (kidney, carotid, limb veins, ...; default right)")
     p.add_argument("--condition", action="append", metavar="NAME[:GRADE]",
                    help="steatosis, ascites, full_bladder, empty_bladder, bowel_gas, limited_mobility, "
                         "no_breath_hold, post_prandial, oedema (repeatable)")

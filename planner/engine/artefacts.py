@@ -75,7 +75,7 @@ def edge_shadow_findings(ctx: RuleContext) -> list[Finding]:
         return []
     return [Finding(
         "artefact.edge_shadow", "info", "Edge shadows at the rims",
-        f"Rays grazing the curved wall of the {target.name.lower()} (radius about {radius:.0f} mm) bend "
+        f"Rays grazing the curved wall of the {target.name_in_sentence} (radius about {radius:.0f} mm) bend "
         f"or reflect there; behind each rim a band about {width:.1f} mm wide gets less than half the "
         "sound and may look like a shadow. Do not take it for a stone shadow: a true shadow starts at an "
         "echogenic focus. Change the angle to move it.",

@@ -14,6 +14,7 @@ from planner.engine.context import RuleContext
 from planner.engine.model import (DisplayDecision, FrequencyBand, HarmonicDecision, TiltDecision,
                                   TransmitBand)
 from planner.findings import Finding
+from planner.library.names import in_sentence
 from planner.physics import beam, specular
 from planner.physics.constants import HARMONIC_CONVERSION_LOSS_DB, SIGNAL_BUDGET_DIFFUSE_DB, \
     SPECULAR_ALLOWANCE_DB
@@ -210,7 +211,7 @@ def harmonic_decision(ctx: RuleContext) -> tuple[HarmonicDecision, list[Finding]
     top_f0 = min(a.harmonic_ceiling_mhz, opt.probe.high_mhz / 2.0)
     if transmit is not None:
         values.update(transmit_low_mhz=transmit[0], transmit_high_mhz=transmit[1])
-    why = (f"subcutaneous fat {fat_mm:.0f} mm at {window.name} makes near-field clutter likely"
+    why = (f"subcutaneous fat {fat_mm:.0f} mm at {in_sentence(window.name)} makes near-field clutter likely"
            if clutter else "harmonic imaging is routine for this exam (sharper contrast, less "
            "reverberation)")
     if (clutter or routine) and transmit is not None:
@@ -221,14 +222,14 @@ def harmonic_decision(ctx: RuleContext) -> tuple[HarmonicDecision, list[Finding]
             "harmonic.advised", "advice", "Harmonic imaging advised", reason, values,
             sources + (("Tanabe2000THI", "Spencer1998Harmonic") if routine else ()), explanation)]
     if clutter:
-        reason = (f"Clutter is likely (fat {fat_mm:.0f} mm at {window.name}), but the harmonic echo "
+        reason = (f"Clutter is likely (fat {fat_mm:.0f} mm at {in_sentence(window.name)}), but the harmonic echo "
                   f"would need transmit {top_f0:.1f} MHz or less, below the probe's "
                   f"{opt.probe.low_mhz:g} MHz: use the fundamental, and try harmonic imaging only "
                   "for the near field.")
         return HarmonicDecision(False, reason, "out_of_reach"), [Finding(
             "harmonic.out_of_reach", "caution", "Harmonic echo will not reach the target", reason,
             values, sources, explanation)]
-    reason = (f"Thin wall at {window.name} (fat {fat_mm:.0f} mm): clutter is unlikely, so harmonic "
+    reason = (f"Thin wall at {in_sentence(window.name)} (fat {fat_mm:.0f} mm): clutter is unlikely, so harmonic "
               "imaging is optional"
               + (f"; it reaches with transmit {_range(*transmit)} MHz." if transmit else
                  "; it would not reach this depth."))

@@ -8,6 +8,7 @@ from planner.body.conditions import CONDITIONS
 from planner.body.walls import load_wall_models
 from planner.engine.context import RuleContext
 from planner.findings import Finding
+from planner.library.names import in_sentence
 
 ADVICE_BY_CONDITION: dict[str, tuple[str, str, str, tuple[str, ...]]] = {
     "no_breath_hold": ("advice", "No breath hold",
@@ -79,7 +80,7 @@ def habitus_findings(ctx: RuleContext) -> list[Finding]:
              f"estimated from BMI {p.bmi:.1f} (16th-84th centile {lo * 10:.0f}-{hi * 10:.0f} mm)")
     out = [Finding(
         "habitus.wall", "info", f"Habitus: {label}",
-        f"Body wall at {ctx.window.name}: {s.wall_cm * 10:.0f} mm, {basis}; subcutaneous fat "
+        f"Body wall at {in_sentence(ctx.window.name)}: {s.wall_cm * 10:.0f} mm, {basis}; subcutaneous fat "
         f"{s.subcutaneous_fat_cm * 10:.0f} mm. Target {s.depth_cm:.1f} cm deep.",
         {"bmi": round(p.bmi, 1), "who_class": class_id, "wall_mm": round(s.wall_cm * 10, 1),
          "wall_band_mm": [round(lo * 10, 1), round(hi * 10, 1)], "measured": measured,
@@ -101,10 +102,10 @@ def limited_exam_findings(ctx: RuleContext) -> list[Finding]:
         return []
     pannus = bool(getattr(load_wall_models().get(ctx.window.wall), "pannus", False))
     helper = "use positioning and a helper for the pannus" if pannus else "use positioning"
-    why = (f"subcutaneous fat {fat_mm:.0f} mm at {ctx.window.name}; from {threshold:.0f} mm, the "
+    why = (f"subcutaneous fat {fat_mm:.0f} mm at {in_sentence(ctx.window.name)}; from {threshold:.0f} mm, the "
            f"fat of a trunk wall at BMI {LIMITED_EXAM_BMI:g}, a limited exam becomes likely"
            if fat_mm >= threshold else
-           f"BMI {p.bmi:.0f} on a trunk route ({ctx.window.name}, fat {fat_mm:.0f} mm); from BMI "
+           f"BMI {p.bmi:.0f} on a trunk route ({in_sentence(ctx.window.name)}, fat {fat_mm:.0f} mm); from BMI "
            f"{LIMITED_EXAM_BMI:g} a limited exam becomes likely")
     return [Finding(
             "habitus.limited_exam", "caution", "Large habitus: plan for a limited exam",

@@ -170,6 +170,8 @@ class InputsSummary:
     exam_type: str
     probes: str
     local_policy: str | None
+    side: str | None = None
+    """``"left"`` or ``"right"`` for a paired target; None for an unpaired one."""
 
 
 @dataclass(frozen=True, slots=True)
@@ -203,3 +205,10 @@ class Plan:
     depth_curves: DepthCurves | None = field(default=None, metadata={"json": False})
     """Round-trip loss against depth through the chosen window (the UI and HTML plots draw it)."""
 
+
+    @property
+    def target_title(self) -> str:
+        """The target's name, with the side planned for a paired one ("Left kidney")."""
+        from planner.library.names import in_sentence
+        side = self.inputs.side if self.inputs is not None else None
+        return f"{side.capitalize()} {in_sentence(self.target.name)}" if side else self.target.name

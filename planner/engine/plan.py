@@ -20,7 +20,8 @@ from planner.engine.doppler_plan import DOPPLER_PLAN_MODES, plan_doppler
 from planner.engine.model import (SCHEMA_VERSION, ChosenWindow, InputsSummary, PatientSummary, Plan,
                                   PlanLayer, ProbeSummary, TargetSummary, WindowBand, WindowSummary)
 from planner.engine.registry import ENGINE_RULES
-from planner.engine.request import FEMALE_EXAMS, PlanRequest, exam_type_of, patient_for_exam
+from planner.engine.request import (FEMALE_EXAMS, PlanRequest, exam_type_of, patient_for_exam, side_of,
+                                    window_rank_keys, windows_for_side)
 from planner.errors import InputError
 from planner.findings import severity_rank
 from planner.library.probes import ProbeInventory, load_inventory
@@ -78,12 +79,17 @@ def assess_windows(patient: Patient, target: Any, windows: list[Any], inventory:
 
 
 def rank_assessments(assessments: list[WindowAssessment]) -> tuple[list[WindowAssessment], float]:
-    """Feasible windows first, then by round-trip loss at a common reference frequency."""
+    """Feasible windows first; among them those of close loss by the usual order of practice;
+    then by round-trip loss at a common reference frequency (:func:`window_rank_keys`, the
+    sweep's ranking too)."""
     feasible_highs = [a.best.high_mhz for a in assessments if a.best is not None and a.feasible]
     reference = max(feasible_highs) if feasible_highs else 3.5
     prime_losses(assessments, reference)
-    ranked = sorted(assessments, key=lambda a: (not a.feasible, a.loss_db(reference)))
-    return ranked, reference
+    keys = window_rank_keys([[a.feasible] for a in assessments],
+                            [[a.loss_db(reference)] for a in assessments],
+                            [a.window.practice_order for a in assessments])
+    order = sorted(range(len(assessments)), key=lambda i: tuple(float(k[i, 0]) for k in keys))
+    return [assessments[i] for i in order], reference
 
 
 def default_exam_context(request: PlanRequest, target: Any, window: Any,
@@ -126,7 +132,9 @@ def _window_summary(a: WindowAssessment, reference_mhz: float, cls: type = Windo
 def make_plan(request: PlanRequest) -> Plan:
     """Compute the plan for one patient and target (architecture: DEVELOPERS.md)."""
     target = load_library().get(request.target_id)
-    windows = [_window_by_id(target, request.window_id)] if request.window_id else list(target.windows)
+    side = side_of(request, target)
+    windows = ([_window_by_id(target, request.window_id)] if request.window_id
+               else windows_for_side(target, side))
     inventory = load_inventory(request.probes_path)
     if request.qa_path or inventory.qa_log:
         from planner.engine.qa_budget import calibrated_inventory
@@ -195,7 +203,8 @@ def make_plan(request: PlanRequest) -> Plan:
         assumptions=tuple(_assumptions(patient, chosen, inventory, exam,
                                        sex_implied=request.patient.sex is None and patient.sex is not None,
                                        prior=prior)
-                          + list(gestation.notes if gestation else ())),
+                          + list(gestation.notes if gestation else ())
+                          + _side_assumption(target, side, request)),
         validity=tuple(validity), disclaimer=DISCLAIMER,
         layers=tuple(PlanLayer(lay.tissue.id, lay.label, lay.role, round(lay.thickness_cm, 3),
                                lay.tissue.speed_m_per_s, lay.tissue.attenuation_db_per_cm_mhz,
@@ -204,7 +213,7 @@ def make_plan(request: PlanRequest) -> Plan:
         budget_db=chosen.budget_db, doppler=doppler,
         draft=request.draft,
         inputs=InputsSummary(target.id, request.window_id, exam.exam_type, inventory.origin,
-                             request.local_policy_path),
+                             request.local_policy_path, side),
         depth_curves=plan_depth_curves(chosen, band.low, band.high),
     )
 
@@ -242,6 +251,21 @@ def _calibration_findings(qa: Any, prior: Any, chosen: WindowAssessment) -> list
                             "tissue": prior.tissue_id, "budget_db": prior.budget_db},
                            ("AttenuationSteatosisReview2022", "Derived")))
     return out
+
+
+def _side_assumption(target: Any, side: str | None, request: PlanRequest) -> list[str]:
+    """The side planned for a paired target, and where it came from (given, implied by the
+    window, or assumed)."""
+    if side is None:
+        return []
+    name = target.name_in_sentence
+    if request.side:
+        return [f"The {side} {name} is planned."]
+    if request.window_id:
+        return [f"The {side} {name} is planned: the side window {request.window_id!r} serves."]
+    other = "left" if side == "right" else "right"
+    return [f"The {side} {name} is planned (no side given; use --side {other} for the other): "
+            "windows serve that side."]
 
 
 def _assumptions(patient: Patient, chosen: WindowAssessment, inventory: ProbeInventory,

@@ -51,7 +51,7 @@ def no_window_findings(ctx: RuleContext) -> list[Finding]:
         ideas.insert(0, "the endocavitary route")
     ideas.append("another imaging method if the question needs finer detail")
     return [Finding("plan.no_window", "warning", "No window gives the needed detail",
-                    f"No candidate window of the {target.name.lower()} shows {target.detail_mm:g} mm detail "
+                    f"No candidate window of the {target.name_in_sentence} shows {target.detail_mm:g} mm detail "
                     f"for this patient. Options: {'; '.join(ideas)}.",
                     {"windows_tried": [a.window.id for a in ranked]}, ("CommonPractice", "NHSGGC468"))]
 

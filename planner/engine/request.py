@@ -49,6 +49,62 @@ class PlanRequest:
     draft: bool = False
     qa_path: str | None = None
     prior: tuple[float, float] | None = None
+    side: str | None = None
+    """``"left"`` or ``"right"`` for a paired target (None: the right side, stated in the
+    assumptions); a side for an unpaired target is refused."""
+
+
+SIDES: tuple[str, ...] = ("right", "left")
+"""The sides of a paired target; the first is the default."""
+
+CLOSE_LOSS_DB: float = 6.0
+"""Windows whose round-trip loss is within this of the best are ranked by the usual order of
+practice (the route tried first), then by loss: a 6 dB difference is about one step of the
+gain a sonographer sets anyway (common practice). [dB]"""
+
+
+def side_of(request: "PlanRequest", target) -> str | None:
+    """The side planned: the request's for a paired target, else the side of the window the
+    request names, else the right when some window serves one side only; None for an
+    unpaired target, or a paired one with no side given whose windows serve both sides. A side given for an unpaired
+    target, or one the named window does not serve, is an input error (one line)."""
+    if not getattr(target, "paired", False):
+        if request.side is not None:
+            from planner.errors import InputError
+            raise InputError(f"{target.name} is not a paired structure: --side does not apply")
+        return None
+    if request.side is not None and request.side not in SIDES:
+        from planner.errors import InputError
+        raise InputError(f"side must be left or right, got {request.side!r}")
+    window = next((w for w in target.windows if w.id == request.window_id), None)
+    if window is not None and window.side is not None:
+        if request.side not in (None, window.side):
+            from planner.errors import InputError
+            raise InputError(f"window {window.id!r} serves the {window.side} {target.name_in_sentence}, "
+                             f"not the {request.side}")
+        return window.side
+    if request.side is None and not target.sided_windows:
+        return None  # no window serves one side only: the side would change nothing
+    return request.side or SIDES[0]
+
+
+def windows_for_side(target, side: str | None) -> list:
+    """The target's windows that serve ``side`` (a window without a side serves both)."""
+    return [w for w in target.windows if side is None or w.side in (None, side)]
+
+
+def window_rank_keys(feasible, loss, order):
+    """Ranking keys of W windows for N patients, vectorised: feasible first; among the
+    feasible, those within :data:`CLOSE_LOSS_DB` of the best loss by the usual order of
+    practice; then by loss. ``feasible`` and ``loss`` (W, N), ``order`` (W,) (a window with no
+    usual order counts after those with one). Returns a tuple of (W, N) key arrays."""
+    import numpy as np
+    feasible = np.asarray(feasible, dtype=bool)
+    loss = np.asarray(loss, dtype=float)
+    rank = np.asarray([99 if o is None else o for o in order], dtype=float)[:, None]
+    best = np.where(feasible, loss, np.inf).min(axis=0, keepdims=True)
+    close = feasible & (loss <= best + CLOSE_LOSS_DB)
+    return (~feasible).astype(float), (~close).astype(float), np.where(close, rank, 99.0), loss
 
 
 FEMALE_EXAMS: tuple[str, ...] = ("obstetric", "gynaecological")

@@ -20,7 +20,8 @@ from planner.body.stack import build_stack_batch, measured_wall_ratio
 from planner.body.walls import load_wall_models
 from planner.engine.batch import WindowBatch, assess_batch, assess_batches
 from planner.engine.decisions import CLUTTER_FAT_MM, harmonic_routine
-from planner.engine.request import PlanRequest, exam_type_of, patient_for_exam
+from planner.engine.request import (PlanRequest, exam_type_of, patient_for_exam, side_of, window_rank_keys,
+                                    windows_for_side)
 from planner.errors import InputError
 from planner.library.probes import ProbeInventory, default_inventory, load_inventory
 from planner.library.targets import load_library
@@ -154,7 +155,8 @@ def sweep_plans(request: PlanRequest, bmi) -> list[SweepRow]:
     :data:`REFERENCE_FREQUENCY_MHZ`); a window deeper than a measured depth is skipped.
     """
     target = load_library().get(request.target_id)
-    windows = [_window(target, request.window_id)] if request.window_id else list(target.windows)
+    windows = ([_window(target, request.window_id)] if request.window_id
+               else windows_for_side(target, side_of(request, target)))
     inventory = load_inventory(request.probes_path)
     if request.qa_path or inventory.qa_log:
         from planner.engine.qa_budget import calibrated_inventory
@@ -180,10 +182,9 @@ def sweep_plans(request: PlanRequest, bmi) -> list[SweepRow]:
     ref = np.where(feasible.any(axis=0), np.where(feasible, best_high, -np.inf).max(axis=0),
                    REFERENCE_FREQUENCY_MHZ)
     loss = np.stack([wb.loss_db(ref) for wb in batches])
-    key_loss = np.where(valid, loss, np.inf)
-    key_feasible = np.where(valid, (~feasible).astype(float), np.inf)
+    keys = window_rank_keys(feasible, np.where(valid, loss, np.inf), [w.practice_order for w in windows])
     alive = np.ones_like(valid)
-    for key in (key_feasible, key_loss):
+    for key in (np.where(valid, k, np.inf) for k in keys):
         k = np.where(alive, key, np.inf)
         alive &= k == k.min(axis=0, keepdims=True)
     chosen = np.argmax(alive, axis=0)

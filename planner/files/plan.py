@@ -134,6 +134,8 @@ class PlanFile(FileModel):
     schema_version: Literal[1] = Field(description="File format version; must be 1.")
     target: Text = Field(description="Target id of the target library.")
     window: Text | None = Field(None, description="Window id; null: rank every window.")
+    side: Literal["left", "right"] | None = Field(
+        None, description="Side of a paired target; null: the right side (or not paired).")
     patient: PatientSection | None = None
     exam: ExamSection | None = None
     files: FilesSection | None = None

@@ -121,6 +121,11 @@ class Window(FileModel):
     midline_rectus: bool
     bone_in_path: bool
     notes: OptText = ""
+    side: Literal["left", "right"] | None = Field(
+        default=None, description="The side this window serves for a paired target (None: either).")
+    practice_order: Annotated[int, Field(ge=1, le=20)] | None = Field(
+        default=None, description="Usual order of practice (1 = the first route tried); breaks "
+                                  "ties between windows of close loss.")
 
 
 class Target(FileModel):
@@ -141,6 +146,7 @@ class Target(FileModel):
     calcification_risk: Risk
     harmonic_contraindicated: bool
     bone_near_focus: bool = False
+    paired: bool = Field(default=False, description="A left and a right structure (plans take a side).")
     pitfalls: list[Text]
     windows: Annotated[list[Window], Field(min_length=1)]
 

@@ -26,6 +26,7 @@ from typing import Iterator
 
 from planner.datafiles import package_data, vocabulary
 from planner.errors import DataError, InputError
+from planner.library.names import in_sentence
 from planner.library.probes import PROBE_TYPES
 from planner.provenance import Sourced
 
@@ -33,7 +34,7 @@ __all__ = [
     "BONE_WALLS", "CURVATURES", "ENDOCAVITARY_WALLS", "EXAM_TYPES", "INTERCOSTAL_WALLS",
     "LAYER_ROLES", "ORIENTATIONS", "PROBE_TYPES", "REFLECTORS", "REGIONS", "RISK_LEVELS",
     "SCHEMA_VERSION", "SURFACE_REFLECTORS", "WALL_MODEL_IDS", "PathLayer", "Surface", "Target",
-    "TargetLibrary", "Window", "build_library", "load_library", "load_library_file",
+    "TargetLibrary", "Window", "build_library", "in_sentence", "load_library", "load_library_file",
     "parse_library",
 ]
 
@@ -143,6 +144,10 @@ class Window:
     bone_in_path: bool
     notes: str = ""
     provenance: dict[str, Sourced] = field(default_factory=dict, hash=False, repr=False)
+    side: str | None = None
+    """The side this window serves for a paired target (None: either side)."""
+    practice_order: int | None = None
+    """Usual order of practice (1 = the first route tried; None: no usual order)."""
 
     @property
     def endocavitary(self) -> bool:
@@ -189,6 +194,19 @@ class Target:
     windows: tuple[Window, ...]
     provenance: dict[str, Sourced] = field(default_factory=dict, hash=False, repr=False)
     bone_near_focus: bool = False
+    paired: bool = False
+    """A left and a right structure: plans take a side (``PlanRequest.side``)."""
+
+    @property
+    def sided_windows(self) -> bool:
+        """True when some window serves one side only (so the side changes the plan)."""
+        return any(window.side is not None for window in self.windows)
+
+    @property
+    def name_in_sentence(self) -> str:
+        """The name as it reads inside a sentence: first letter lower case, except for a
+        proper name ("Achilles tendon")."""
+        return in_sentence(self.name)
 
     def window_ids(self) -> tuple[str, ...]:
         """Ids of the windows, usual first."""
@@ -291,7 +309,7 @@ def _window(raw: dict) -> Window:
                   raw["breathing"].strip(), factor.value,
                   tuple(_layer(layer) for layer in raw["path"]), gap, raw["gas_risk"],
                   raw["midline_rectus"], raw["bone_in_path"], (raw.get("notes") or "").strip(),
-                  provenance)
+                  provenance, raw.get("side"), raw.get("practice_order"))
 
 
 def _target(target_id: str, raw: dict) -> Target:
@@ -304,7 +322,7 @@ def _target(target_id: str, raw: dict) -> Target:
                   tuple(p.strip() for p in raw["pitfalls"]),
                   tuple(_window(w) for w in raw["windows"]),
                   {"typical_depth_cm": depth, "detail_mm": detail},
-                  raw.get("bone_near_focus", False))
+                  raw.get("bone_near_focus", False), bool(raw.get("paired", False)))
 
 
 def build_library(data: dict) -> TargetLibrary:

@@ -201,6 +201,7 @@ class _Checker:
                     self.check_window(fallback.get("window"), windows, view.get("target"),
                                       f_path + ("window",))
                     self.check_probe(fallback.get("probe"), probe_ids, f_path + ("probe",))
+            self.check_side(view, path)
             for m_index, measurement in enumerate(_items(view.get("measurements"))):
                 if isinstance(measurement, dict):
                     m_path = path + ("measurements", m_index)
@@ -236,6 +237,25 @@ class _Checker:
             return
         self.problems.add(path, f"unknown window {window!r} for target {target!r}; "
                                 f"its windows: {', '.join(windows)}")
+
+    def check_side(self, view: dict[Any, Any], path: tuple) -> None:
+        """A side only for a paired target; the view's window and its fallbacks serve it."""
+        side, target_id = view.get("side"), view.get("target")
+        target = self.library.targets.get(target_id) if isinstance(target_id, str) else None
+        if side not in ("left", "right") or target is None:
+            return
+        if not target.paired:
+            self.problems.add(path + ("side",), f"{target.name} is not a paired structure: "
+                                                "a side does not apply")
+            return
+        sided = {w.id: w.side for w in target.windows}
+        steps = [(path + ("window",), view.get("window"))] + [
+            (path + ("fallbacks", i, "window"), f.get("window"))
+            for i, f in enumerate(_items(view.get("fallbacks"))) if isinstance(f, dict)]
+        for where, window in steps:
+            if isinstance(window, str) and sided.get(window) not in (None, side):
+                self.problems.add(where, f"window {window!r} serves the {sided[window]} "
+                                         f"{target.name_in_sentence}, not the {side} of this view")
 
     def check_band(self, band: dict[Any, Any], path: tuple) -> None:
         def number(key: str) -> float | None:

@@ -203,6 +203,8 @@ class View:
     expected_minutes: float = _f("The department's time estimate for this view.",
                                  minimum=0, exclusive_minimum=True, maximum=60, unit="min")
     images: tuple[RequiredImage, ...] = _f("Images to archive, in order.", min_items=1)
+    side: str | None = _f("Side of a paired target (kidney, carotid, limb veins ...); the "
+                          "window and every fallback must serve it.", None, choices=("left", "right"))
     position_note: str | None = _f("Details of the position (pillows, arm up ...).", None)
     probe: str | None = _f("Probe id when it differs from the protocol's main probe.", None,
                            pattern=ID_PATTERN)

@@ -158,6 +158,12 @@ def _view_context(protocol: Protocol, view: View, target, window, patient: Patie
     return default_exam_context(request, target, window)
 
 
+def _sided_name(name: str, side: str | None) -> str:
+    """"Left kidney" for a view with a side, else the target's name."""
+    from planner.library.names import in_sentence
+    return f"{side.capitalize()} {in_sentence(name)}" if side else name
+
+
 def build_sheet(protocol: Protocol, *, protocol_path: str | os.PathLike[str] | None = None,
                 habitus: tuple[str, ...] | None = None,
                 probes_path: str | os.PathLike[str] | None = None,
@@ -246,14 +252,15 @@ def _plan_views(protocol: Protocol, classes: tuple[str, ...], inv_path: str | No
         contexts.append(ctx)
         rows: list[SheetRow] = []
         for c in classes:
-            key = (view.target, view.window, c, ctx)
-            if key not in memo:
+            key = (view.target, view.window, c, ctx)    # a named window fixes the path:
+            if key not in memo:                          # the side only names the view
                 memo[key] = make_plan(PlanRequest(view.target, patients[c], window_id=view.window,
-                                                  context=ctx, probes_path=inv_path))
+                                                  side=view.side, context=ctx, probes_path=inv_path))
             rows.append(sheet_row(c, REPRESENTATIVE_BMI[c], memo[key], rows[-1] if rows else None))
         plots.append(memo[(view.target, view.window, plot_class, ctx)])
         views.append(SheetView(
-            view.id, view.title, NamedRef(target.id, target.name), NamedRef(window.id, window.name),
+            view.id, view.title, NamedRef(target.id, _sided_name(target.name, view.side)),
+            NamedRef(window.id, window.name),
             view.position, view.position_note, view.breathing, view.expected_minutes,
             _probe_ref(inventory, view.probe or protocol.equipment.probe),
             view.doppler.modes if view.doppler else (), plots[-1].monitored_index, plot_class,

@@ -29,7 +29,7 @@ def _summary_rows(plan: Plan) -> list[tuple[str, str]]:
     tilt = (f"within {plan.tilt.max_deviation_deg:.1f} deg of perpendicular"
             if plan.tilt.max_deviation_deg is not None else "free (diffuse target)")
     return [
-        ("Target", f"{plan.target.name} ({plan.target.reflector})"),
+        ("Target", f"{plan.target_title} ({plan.target.reflector})"),
         ("Patient", f"BMI {plan.patient.bmi:g}, {plan.patient.who_class_label}"),
         ("Probe", plan.probe.label if plan.probe else "none fits"),
         ("Band", _band(plan)),
@@ -58,7 +58,7 @@ def plan_markdown(plan: Plan, signoff: dict[str, str] | None = None, stamp=None,
     """Render a Plan as Markdown (a draft carries the banner, the student's decisions
     against the plan, the signature status and the sign-off block; the foot the stamp)."""
     from planner.stamp import current_stamp
-    out = [f"# Scan plan: {plan.target.name}", ""]
+    out = [f"# Scan plan: {plan.target_title}", ""]
     if plan.draft:
         out += [f"> **{DRAFT_BANNER}**", ""]
     out += ["| | |", "|---|---|"] + [f"| {k} | {v} |" for k, v in _summary_rows(plan)] + [""]
@@ -136,7 +136,7 @@ def plan_html(plan: Plan, signoff: dict[str, str] | None = None, stamp=None,
     more = "".join(f"<li><b>{e(f.title)}</b>: {e(f.message)}</li>"
                    for f in plan.findings + plan.safety if f.relevance == "more")
     refs = "".join(f"<li><b>{e(k)}</b>: {e(_cite(k))}</li>" for k in _sources(plan))
-    body = [f"<h1>Scan plan: {e(plan.target.name)}</h1>"]
+    body = [f"<h1>Scan plan: {e(plan.target_title)}</h1>"]
     if plan.draft:
         body.append(f"<p class='draft'>{e(DRAFT_BANNER)}</p>")
     body += [f"<table>{rows}</table>", "<h2>Round-trip loss against depth</h2>", depth_plot_svg(plan),
@@ -169,5 +169,5 @@ def plan_html(plan: Plan, signoff: dict[str, str] | None = None, stamp=None,
     body.append(f"<p class='stamp'>{e(stamp.line())}</p>")
     return ("<!DOCTYPE html><html lang='en'><head><meta charset='utf-8'>"
             f"<meta name='generator' content='{e(stamp.generated_by)}'>"
-            f"<title>Scan plan: {e(plan.target.name)}</title><style>{_CSS}</style></head><body>"
+            f"<title>Scan plan: {e(plan.target_title)}</title><style>{_CSS}</style></head><body>"
             + "".join(body) + "</body></html>\n")

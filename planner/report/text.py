@@ -35,7 +35,7 @@ def plan_text(plan: Plan, stamp=None, review=None) -> str:
     lines: list[str] = []
     if plan.draft:
         lines.append("DRAFT FOR SUPERVISED PRACTICE - to be reviewed and signed off by a supervisor")
-    lines.append(f"{t.name}  [{t.id}, {t.reflector}]")
+    lines.append(f"{plan.target_title}  [{t.id}, {t.reflector}]")
     conds = ", ".join(f"{k}:{v}" for k, v in p.conditions.items()) or "none"
     lines.append(f"Patient: BMI {p.bmi:g} ({p.who_class_label}), conditions: {conds}"
                  + (f", {p.gestation_weeks:g} weeks" if p.gestation_weeks else ""))

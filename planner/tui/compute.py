@@ -32,7 +32,7 @@ NUMBER_FIELDS: dict[str, str] = {
 """Fields typed as numbers, with a short label for messages."""
 
 FIELD_LABELS: dict[str, str] = {**NUMBER_FIELDS, "target_id": "target", "window_id": "window",
-                                "sex": "sex", "conditions": "conditions", "exam_type": "exam type",
+                                "side": "side", "sex": "sex", "conditions": "conditions", "exam_type": "exam type",
                                 "modes": "modes", "pregnancy_possible": "pregnancy possible",
                                 "student_start_mhz": "start frequency"}
 """Every field the UI can mark, with its short label."""
@@ -162,7 +162,8 @@ def parse_form(raw: dict[str, Any]) -> tuple[PlanInputs, dict[str, str]]:
         febrile=bool(raw.get("febrile")), pregnancy_possible=bool(raw.get("pregnancy_possible")),
         lung_in_beam=bool(raw.get("lung_in_beam")), doppler=bool(raw.get("doppler")),
         probes_path=raw.get("probes_path") or None, local_policy_path=raw.get("local_policy_path") or None,
-        qa_path=raw.get("qa_path") or None, prior_frequency_mhz=_carried(raw, "prior_frequency_mhz"),
+        qa_path=raw.get("qa_path") or None, side=raw.get("side") or None,
+        prior_frequency_mhz=_carried(raw, "prior_frequency_mhz"),
         prior_fade_cm=_carried(raw, "prior_fade_cm"), draft=bool(raw.get("draft")),
         signoff=SignOff(**{k: str(raw.get(k, "") or "") for k in SIGNOFF_FIELDS}),
         choices=choices, **numbers)
@@ -178,7 +179,7 @@ def form_values(inputs: PlanInputs) -> dict[str, Any]:
                febrile=inputs.febrile, pregnancy_possible=inputs.pregnancy_possible,
                lung_in_beam=inputs.lung_in_beam, doppler=inputs.doppler,
                probes_path=inputs.probes_path, local_policy_path=inputs.local_policy_path,
-               qa_path=inputs.qa_path, prior_frequency_mhz=inputs.prior_frequency_mhz,
+               qa_path=inputs.qa_path, side=inputs.side, prior_frequency_mhz=inputs.prior_frequency_mhz,
                prior_fade_cm=inputs.prior_fade_cm, draft=inputs.draft)
     out.update({k: getattr(inputs.signoff, k) for k in SIGNOFF_FIELDS})
     c = inputs.choices
@@ -224,7 +225,8 @@ def compute(raw: dict[str, Any]) -> Outcome:
     outcome = Outcome(inputs, problems)
     try:
         if not problems:
-            from planner.planfile import check_inputs, make_plan_for
+            from planner.plancheck import check_inputs
+            from planner.planfile import make_plan_for
             outcome.problems = check_inputs(inputs)
             if not outcome.problems:
                 outcome.plan = make_plan_for(inputs)

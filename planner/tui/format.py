@@ -140,7 +140,7 @@ def summary_rows(plan: Plan) -> list[tuple[str, str]]:
     target, window, probe, display = plan.target, plan.window, plan.probe, plan.display
     n = len(plan.windows)
     rows = [
-        ("Target", f"[b]{escape(target.name)}[/b] · {escape(target.reflector)}"
+        ("Target", f"[b]{escape(plan.target_title)}[/b] · {escape(target.reflector)}"
                    f" · detail {target.detail_mm:g} mm"),
         ("Patient", patient_text(plan)),
         ("Band", band_text(plan)),

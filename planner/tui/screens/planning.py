@@ -250,6 +250,9 @@ class PlanningScreen(FileActions):
         library = self.panel.library if self.built else None
         if library is not None and inputs.target_id in library:
             name = library.get(inputs.target_id).name
+        plan = self.outcome.plan if self.outcome is not None else None
+        if plan is not None and plan.target.id == inputs.target_id:
+            name = plan.target_title  # with the side planned ("Left kidney")
         signature = ""
         if self.signed is not None:
             from planner.tui.signoff import state_for, supervisor_fields

@@ -35,7 +35,7 @@ CARRIED = ("probes_path", "local_policy_path", "qa_path", "prior_frequency_mhz",
 """Inputs a plan file may hold that the form keeps but does not edit (department files, with
 the probe QA log and a prior exam's calibration, and the supervisor's fields, which only a
 verified signature fills). A probe inventory's own ``qa_log`` applies in the form as well."""
-_SELECTS = ("sex", "window_id", "exam_type", "student_harmonic")
+_SELECTS = ("sex", "window_id", "side", "exam_type", "student_harmonic")
 DRAFT_FIRST_FIELD = "student"
 """The field Ctrl+G moves the focus to: the first of the student's own."""
 _EVENTS = (Input.Changed, Select.Changed, Checkbox.Changed, TargetPicked)
@@ -98,6 +98,9 @@ class InputPanel(VerticalScroll):
         yield FieldRow("Window", Select([("automatic", AUTO)], value=AUTO,
                                         allow_blank=False, compact=True, id="window_id"),
                        field="window_id")
+        yield FieldRow("Side", Select([("automatic", AUTO), ("right", "right"), ("left", "left")],
+                                      value=v.get("side") or AUTO, allow_blank=False, compact=True,
+                                      id="side"), field="side")
         yield Static("Exam", classes="section")
         yield FieldRow("Exam type", Select([("target's usual", AUTO)], value=AUTO,
                                            allow_blank=False, compact=True, id="exam_type"),
@@ -144,6 +147,7 @@ class InputPanel(VerticalScroll):
 
     def on_mount(self) -> None:
         self.query_one("#signoff").display = bool(self.values["draft"])
+        self._show_side(self.values["target_id"])
         self.query_one("#bmi", Input).focus()
 
     # -- engine data ------------------------------------------------------------------------
@@ -170,6 +174,12 @@ class InputPanel(VerticalScroll):
         if self.library is not None and target_id in self.library:
             options += [(w.name, w.id) for w in self.library.get(target_id).windows]
         return options
+
+    def _show_side(self, target_id: str) -> None:
+        """The side field only for a paired target (kidney, carotid, limb veins, ...)."""
+        paired = (self.library is not None and target_id in self.library
+                  and self.library.get(target_id).paired)
+        self.query_one("#row-side").display = paired
 
     # -- reading and writing the form -------------------------------------------------------
     def raw_values(self) -> dict[str, Any]:
@@ -203,6 +213,8 @@ class InputPanel(VerticalScroll):
             window.set_options(self._window_options(values["target_id"]))
             ids = [value for _, value in self._window_options(values["target_id"])]
             window.value = values.get("window_id") if values.get("window_id") in ids else AUTO
+            self.query_one("#side", Select).value = values.get("side") or AUTO
+            self._show_side(values["target_id"])
             self.query_one("#sex", Select).value = values.get("sex") or AUTO
             self.query_one("#student_harmonic", Select).value = \
                 values.get("student_harmonic") or AUTO
@@ -240,6 +252,8 @@ class InputPanel(VerticalScroll):
             window = self.query_one("#window_id", Select)
             window.set_options(self._window_options(event.target_id))
             window.value = AUTO
+            self.query_one("#side", Select).value = AUTO
+        self._show_side(event.target_id)
         self.post_message(InputsEdited())
 
     @on(Checkbox.Changed, "#draft")
