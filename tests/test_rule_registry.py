@@ -16,7 +16,7 @@ from planner.findings import Finding, Rule, RuleRegistry
 from planner.safety import ExamContext, safety_findings
 
 TESTS = Path(__file__).resolve().parent
-AREAS = {"habitus", "band", "plan", "harmonic", "tilt", "artefact", "shadow", "window", "condition",
+AREAS = {"habitus", "band", "plan", "probe", "harmonic", "tilt", "artefact", "shadow", "window", "condition",
          "doppler", "safety"}
 
 

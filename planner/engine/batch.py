@@ -99,7 +99,7 @@ def probe_constants(probes: tuple[Probe, ...]) -> dict[str, np.ndarray]:
 
 
 def probe_arrays(probes, window, depth_cm, detail_mm: float, ceiling_mhz,
-                 preferred) -> ProbeArrays:
+                 preferred, detail_fraction: float = 1.0, curved_first=None) -> ProbeArrays:
     """Detail floor, band, feasibility and the chosen probe for N depths and reach ceilings.
 
     ``window`` is the window (every row) or an (N, P) array of fit codes (rows from several
@@ -108,7 +108,8 @@ def probe_arrays(probes, window, depth_cm, detail_mm: float, ceiling_mhz,
     The detail floor is the lowest transmit centre frequency at which both the axial
     resolution (pulse cycles x wavelength / 2, half the spatial pulse length) and the lateral
     resolution at focus (wavelength x F-number, the receive F-number or depth over aperture
-    when deeper) are as fine as ``detail_mm`` (:func:`planner.physics.beam.min_frequency_axial_mhz`,
+    when deeper, at the depth of the structures that need the detail: ``detail_fraction``
+    times the target's depth) are as fine as ``detail_mm`` (:func:`planner.physics.beam.min_frequency_axial_mhz`,
     ``min_frequency_lateral_mhz``; Kremkau2015, from memory). A probe gives the detail when
     its band, cut at the reach ceiling, still reaches the floor.
 
@@ -130,18 +131,19 @@ def probe_arrays(probes, window, depth_cm, detail_mm: float, ceiling_mhz,
                           (depth.shape[0], len(probes)))
     const = probe_constants(probes)
     p_low, p_high = const["low_mhz"], const["high_mhz"]
-    f_num = np.maximum(const["receive_f_number"], depth * 10.0 / const["aperture_mm"])
+    f_num = np.maximum(const["receive_f_number"],
+                       depth * detail_fraction * 10.0 / const["aperture_mm"])
     floor = np.maximum(beam.min_frequency_axial_mhz(detail_mm, const["pulse_cycles"]),
                        beam.min_frequency_lateral_mhz(detail_mm, f_num))
     high = np.broadcast_to(np.minimum(p_high, ceiling), fit.shape)
     low = np.maximum(p_low, floor)
     feasible = (fit <= 1) & (high >= p_low) & (low <= high)
-    best = choose_probe_index(probes, fit, feasible, high, list(preferred))
+    best = choose_probe_index(probes, fit, feasible, high, list(preferred), curved_first)
     return ProbeArrays(probes, fit, floor, low, high, f_num, feasible, best)
 
 
 def choose_probe_index(probes, fit: np.ndarray, feasible: np.ndarray, high_mhz: np.ndarray,
-                       preferred: list[str]) -> np.ndarray:
+                       preferred: list[str], curved_first=None) -> np.ndarray:
     """The probe a sonographer would pick, for N patients at once: index per row, -1 for none.
 
     Only the target's usual probe types are considered when the inventory has any of them
@@ -150,12 +152,17 @@ def choose_probe_index(probes, fit: np.ndarray, feasible: np.ndarray, high_mhz: 
     one that reaches at all, then the usual order (or, when nothing reaches, the most
     penetrating probe: the lowest band), then a clean footprint fit, then the highest
     reachable frequency. The keys are compared in that order (lexicographic minimum per row).
+    Where ``curved_first`` (N,) is True (a larger patient: the wall at the window is at least
+    the target's ``curved_array_from_wall_mm``), a curved array comes first in the usual order.
     """
     types = [p.type for p in probes]
     pool = choice_pool(probes, fit, preferred)
     p_low = probe_constants(tuple(probes))["low_mhz"]
     pref = np.array([preferred.index(t) if t in preferred else len(preferred) for t in types],
                     dtype=float)[None, :]
+    if curved_first is not None:
+        curved = np.array([t == "curvilinear" for t in types], dtype=bool)[None, :]
+        pref = np.where(np.asarray(curved_first, dtype=bool)[:, None] & curved, -1.0, pref)
     reaches = high_mhz >= p_low
     keys = [~(fit <= 1), ~feasible, ~reaches, np.where(reaches, pref, p_low), fit != 0, -high_mhz]
     alive = pool.copy()
@@ -221,6 +228,16 @@ class WindowBatch:
         return (best >= 0) & self.probes.feasible[rows, np.maximum(best, 0)]
 
 
+def curved_first_rows(stacks_list: list[StackBatch], target) -> np.ndarray | None:
+    """(N,) True where the body wall at the window reaches the target's
+    ``curved_array_from_wall_mm`` (rows of every window stacked); None when the target has none."""
+    threshold = getattr(target, "curved_array_from_wall_mm", None)
+    if threshold is None:
+        return None
+    return np.concatenate([10.0 * np.asarray(s.wall_cm, dtype=float) >= threshold
+                           for s in stacks_list])
+
+
 def assess_batch(stacks: StackBatch, target, inventory) -> WindowBatch:
     """Reach ceilings, depth errors and probe choice of one window for N patients."""
     return assess_batches([stacks], target, inventory)[0]
@@ -251,7 +268,9 @@ def assess_batches(stacks_list: list[StackBatch], target, inventory) -> list[Win
     ceil_p, ceil_hp = probe_ceilings_mhz(terms_f, terms_h, budget_f, budget_h, probes)
     depth = np.concatenate([np.cumsum(a["thickness_cm"], axis=1)[:, -1] if a["thickness_cm"].shape[1]
                             else np.zeros(n) for a, n in zip(arrays, sizes)])     # as LayerStack
-    pa = probe_arrays(probes, fit, depth, target.detail_mm, ceil_p, target.probe_types)
+    pa = probe_arrays(probes, fit, depth, target.detail_mm, ceil_p, target.probe_types,
+                      getattr(target, "detail_depth_fraction", 1.0),
+                      curved_first_rows(stacks_list, target))
     rows_all = np.arange(depth.size)
     col = np.maximum(pa.best, 0)
     window_ceiling = np.where(pool.any(axis=1), np.where(pool, ceil_p, -np.inf).max(axis=1),

@@ -122,6 +122,11 @@ class LossProfile:
                 "target_depth_cm": round(self.target_depth_cm, 3), "budget_db": self.budget_db}
 
 
+CEILING_TOLERANCE_MHZ: float = 0.002
+"""Margin below a solved reach ceiling before a plotted frequency is rounded down (the
+root finder stops within about 1e-3 MHz). [MHz]"""
+
+
 def loss_profile(layers: Sequence[LayerAcoustics], frequencies_mhz: Sequence[float], *,
                  budget_db: float | None = None, points: int = PROFILE_POINTS,
                  bandwidth_fraction: float = 0.0, low_edge_mhz: float = 0.0) -> LossProfile:
@@ -198,11 +203,12 @@ def candidate_frequencies_mhz(band_low: float | None, band_high: float | None,
     if band_low and band_high:
         top = float(band_high)
         if ceiling_mhz and float(ceiling_mhz) < top:
-            top = float(ceiling_mhz)          # the band's end is rounded; the ceiling is exact
+            # the band's end is rounded; the ceiling is exact to the solver's tolerance
+            top = float(ceiling_mhz) - CEILING_TOLERANCE_MHZ
         picks += [float(band_low), top]
     else:
         if ceiling_mhz:
-            picks.append(float(ceiling_mhz))
+            picks.append(float(ceiling_mhz) - CEILING_TOLERANCE_MHZ)
         if probe_band_mhz:
             picks.append(float(probe_band_mhz[0]))
     top_probe = float(probe_band_mhz[1]) if probe_band_mhz else None

@@ -119,6 +119,13 @@ class WindowSummary:
     probe: str | None
     position: str
     breathing: str
+    adjunct: bool = False
+    """A window practice keeps for when the standard ones fail (ranked after them)."""
+
+    @property
+    def label(self) -> str:
+        """The name, marked when the window is an adjunct ("Posterior, prone (adjunct)")."""
+        return f"{self.name} (adjunct)" if self.adjunct else self.name
 
 
 @dataclass(frozen=True, slots=True)

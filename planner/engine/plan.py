@@ -87,7 +87,8 @@ def rank_assessments(assessments: list[WindowAssessment]) -> tuple[list[WindowAs
     prime_losses(assessments, reference)
     keys = window_rank_keys([[a.feasible] for a in assessments],
                             [[a.loss_db(reference)] for a in assessments],
-                            [a.window.practice_order for a in assessments])
+                            [a.window.practice_order for a in assessments],
+                            [a.window.adjunct for a in assessments])
     order = sorted(range(len(assessments)), key=lambda i: tuple(float(k[i, 0]) for k in keys))
     return [assessments[i] for i in order], reference
 
@@ -126,7 +127,8 @@ def _window_summary(a: WindowAssessment, reference_mhz: float, cls: type = Windo
                round(a.ceiling_mhz, 2),
                None if opt is None else WindowBand(round(opt.shown_band[0], 1),
                                                    round(opt.shown_band[1], 1)),
-               None if opt is None else opt.probe.id, a.window.position, a.window.breathing, **extra)
+               None if opt is None else opt.probe.id, a.window.position, a.window.breathing,
+               a.window.adjunct, **extra)
 
 
 def make_plan(request: PlanRequest) -> Plan:

@@ -13,7 +13,7 @@ from __future__ import annotations
 
 from typing import Any
 
-from planner.engine import artefacts, habitus_rules, likely
+from planner.engine import artefacts, habitus_rules, likely, probe_rules
 from planner.engine.context import Decisions, RuleContext
 from planner.findings import Finding, Rule, RuleRegistry
 
@@ -66,6 +66,9 @@ for _rule in (
     Rule("habitus.limited_exam", "habitus", "patients from BMI 30",
          habitus_rules.limited_exam_findings),
     Rule("band.decision", "band", "every plan (the band decider's findings)", band_findings),
+    Rule("probe.curved_for_habitus", "probe",
+         "targets whose practice takes a curved array in larger patients, planned on one",
+         probe_rules.curved_for_habitus_findings, probe_rules.applies),
     Rule("plan.no_window", "plan", "plans where no window gives the needed detail",
          no_window_findings, _no_feasible_window),
     Rule("harmonic.decision", "harmonic", "every plan (the harmonic decider's findings)",

@@ -93,18 +93,27 @@ def windows_for_side(target, side: str | None) -> list:
     return [w for w in target.windows if side is None or w.side in (None, side)]
 
 
-def window_rank_keys(feasible, loss, order):
-    """Ranking keys of W windows for N patients, vectorised: feasible first; among the
-    feasible, those within :data:`CLOSE_LOSS_DB` of the best loss by the usual order of
-    practice; then by loss. ``feasible`` and ``loss`` (W, N), ``order`` (W,) (a window with no
-    usual order counts after those with one). Returns a tuple of (W, N) key arrays."""
+def window_rank_keys(feasible, loss, order, adjunct=None):
+    """Ranking keys of W windows for N patients, vectorised: feasible first; then the standard
+    windows before the adjuncts (practice tries an adjunct when the standard windows fail:
+    WHOManual2011 for water in the stomach, CielmaNeonatalHead for the mastoid fontanelle,
+    KidneyWindowsTeaching for prone); among the feasible windows of that class, those within
+    :data:`CLOSE_LOSS_DB` of its best loss by the usual order of practice; then by loss.
+    ``feasible`` and ``loss`` (W, N), ``order`` and ``adjunct`` (W,) (a window with no usual
+    order counts after those with one). Returns a tuple of (W, N) key arrays."""
     import numpy as np
     feasible = np.asarray(feasible, dtype=bool)
     loss = np.asarray(loss, dtype=float)
     rank = np.asarray([99 if o is None else o for o in order], dtype=float)[:, None]
-    best = np.where(feasible, loss, np.inf).min(axis=0, keepdims=True)
-    close = feasible & (loss <= best + CLOSE_LOSS_DB)
-    return (~feasible).astype(float), (~close).astype(float), np.where(close, rank, 99.0), loss
+    extra = np.zeros(rank.shape, dtype=bool) if adjunct is None else \
+        np.asarray(adjunct, dtype=bool).reshape(-1, 1)
+    standard = feasible & ~extra
+    later = np.broadcast_to(extra & standard.any(axis=0, keepdims=True), feasible.shape)
+    pool = feasible & ~later
+    best = np.where(pool, loss, np.inf).min(axis=0, keepdims=True)
+    close = pool & (loss <= best + CLOSE_LOSS_DB)
+    return ((~feasible).astype(float), later.astype(float), (~close).astype(float),
+            np.where(close, rank, 99.0), loss)
 
 
 FEMALE_EXAMS: tuple[str, ...] = ("obstetric", "gynaecological")

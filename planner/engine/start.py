@@ -62,6 +62,10 @@ USUAL_START_MHZ: dict[tuple[str, str], Sourced] = {
         7.5, "Diagnostics2023Probes", "verified", "Table 2: endocavitary probes 5-7.5 MHz"),
     ("neonatal_head", "microconvex"): Sourced(
         10.0, "CielmaNeonatalHead", "verified", "7-10 MHz through the anterior fontanelle"),
+    ("small_parts", "linear_hf"): Sourced(
+        15.0, "UVAThyroidTechnique", "verified", "a high-frequency (10-15 MHz) linear transducer"),
+    ("small_parts", "linear"): Sourced(
+        15.0, "UVAThyroidTechnique", "verified", "a high-frequency (10-15 MHz) linear transducer"),
     ("peripheral_vascular", "linear"): Sourced(
         10.0, "AIUMPeripheralVenous", "from_memory", "equipment: linear 5-10 MHz for the deep veins"),
 }

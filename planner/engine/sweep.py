@@ -182,7 +182,8 @@ def sweep_plans(request: PlanRequest, bmi) -> list[SweepRow]:
     ref = np.where(feasible.any(axis=0), np.where(feasible, best_high, -np.inf).max(axis=0),
                    REFERENCE_FREQUENCY_MHZ)
     loss = np.stack([wb.loss_db(ref) for wb in batches])
-    keys = window_rank_keys(feasible, np.where(valid, loss, np.inf), [w.practice_order for w in windows])
+    keys = window_rank_keys(feasible, np.where(valid, loss, np.inf), [w.practice_order for w in windows],
+                            [w.adjunct for w in windows])
     alive = np.ones_like(valid)
     for key in (np.where(valid, k, np.inf) for k in keys):
         k = np.where(alive, key, np.inf)

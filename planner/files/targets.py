@@ -74,6 +74,7 @@ if TYPE_CHECKING:
     RibGap: TypeAlias = SourcedNumber
     Depth: TypeAlias = SourcedNumber
     Detail: TypeAlias = SourcedNumber
+    WallMm: TypeAlias = SourcedNumber
 else:
     Thickness = _sourced("Thickness", gt=0, le=40)
     Tilt = _sourced("Tilt", ge=0, le=90)
@@ -82,6 +83,7 @@ else:
     RibGap = _sourced("RibGap", gt=0, le=100)
     Depth = _sourced("Depth", gt=0, le=40)
     Detail = _sourced("Detail", gt=0, le=100)
+    WallMm = _sourced("WallMm", gt=0, le=300)
 
 
 class PathLayer(FileModel):
@@ -126,6 +128,10 @@ class Window(FileModel):
     practice_order: Annotated[int, Field(ge=1, le=20)] | None = Field(
         default=None, description="Usual order of practice (1 = the first route tried); breaks "
                                   "ties between windows of close loss.")
+    adjunct: bool = Field(
+        default=False, description="A window practice keeps for when the standard ones fail or "
+                                   "adds after them (water-filled stomach, mastoid fontanelle, "
+                                   "prone): ranked after every feasible standard window.")
 
 
 class Target(FileModel):
@@ -138,7 +144,14 @@ class Target(FileModel):
     target_tissue: Tissue
     typical_depth_cm: Depth
     detail_mm: Detail
+    detail_depth_cm: Depth | None = Field(
+        default=None, description="Depth of the structures that need the detail in an average "
+                                  "adult, when shallower than typical_depth_cm (default: the "
+                                  "target's depth).")
     probe_types: Annotated[list[ProbeType], Field(min_length=1)]
+    curved_array_from_wall_mm: WallMm | None = Field(
+        default=None, description="Body wall at the window [mm] from which practice takes a "
+                                  "curved array before a linear one (larger patients).")
     surfaces: list[Surface]
     fluid_filled: bool
     wall_tissue: Tissue | None

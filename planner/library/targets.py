@@ -24,10 +24,13 @@ from functools import lru_cache
 from pathlib import Path
 from typing import Iterator
 
-from planner.datafiles import package_data, vocabulary
+from planner.datafiles import package_data
 from planner.errors import DataError, InputError
 from planner.library.names import in_sentence
 from planner.library.probes import PROBE_TYPES
+from planner.library.vocab import (BONE_WALLS, CURVATURES, ENDOCAVITARY_WALLS, EXAM_TYPES,
+                                   INTERCOSTAL_WALLS, LAYER_ROLES, ORIENTATIONS, REFLECTORS,
+                                   REGIONS, RISK_LEVELS, SURFACE_REFLECTORS, WALL_MODEL_IDS)
 from planner.provenance import Sourced
 
 __all__ = [
@@ -40,54 +43,6 @@ __all__ = [
 
 SCHEMA_VERSION: int = 1
 """The ``schema_version`` a target library file must declare."""
-
-_VOCABULARY = vocabulary()
-_WALLS: dict = package_data("walls.yaml")["walls"]
-
-WALL_MODEL_IDS: tuple[str, ...] = tuple(_WALLS)
-"""Body-wall models a window may name (``planner/data/walls.yaml``, used by :mod:`planner.body`)."""
-
-REGIONS: tuple[str, ...] = _VOCABULARY["regions"]
-"""Body regions used to group targets."""
-
-EXAM_TYPES: tuple[str, ...] = tuple(_VOCABULARY["exam_types"])
-"""Exam types (``planner/data/vocabulary.yaml``); they select the thermal-index and scan-time
-tables."""
-
-REFLECTORS: tuple[str, ...] = _VOCABULARY["reflectors"]
-"""Dominant echo type of what the exam must judge."""
-
-SURFACE_REFLECTORS: tuple[str, ...] = _VOCABULARY["surface_reflectors"]
-"""Echo type of one surface of interest."""
-
-ORIENTATIONS: tuple[str, ...] = _VOCABULARY["orientations"]
-"""Orientation of a surface relative to the skin."""
-
-CURVATURES: tuple[str, ...] = _VOCABULARY["curvatures"]
-"""Shape of a surface as the beam meets it."""
-
-RISK_LEVELS: tuple[str, ...] = _VOCABULARY["risk_levels"]
-"""Levels of calcification risk and of gas risk."""
-
-LAYER_ROLES: dict[str, str] = _VOCABULARY["layer_roles"]
-"""Optional roles of a path layer and the tissue each role requires.
-
-``bladder``: the full-bladder window (replaced when the bladder is empty);
-``stomach``: the water-filled stomach used as a window.
-"""
-
-INTERCOSTAL_WALLS: tuple[str, ...] = tuple(w for w, raw in _WALLS.items() if raw.get("intercostal"))
-"""Wall models of intercostal windows (``intercostal: true`` in ``walls.yaml``); their windows
-must give ``rib_gap_mm``."""
-
-ENDOCAVITARY_WALLS: tuple[str, ...] = tuple(w for w, raw in _WALLS.items()
-                                            if raw.get("endocavitary"))
-"""Wall models of endocavitary routes (``endocavitary: true`` in ``walls.yaml``)."""
-
-BONE_WALLS: tuple[str, ...] = tuple(w for w, raw in _WALLS.items() if raw.get("includes_bone"))
-"""Wall models with bone in the wall itself (``includes_bone: true``); their windows set
-``bone_in_path``."""
-
 
 @dataclass(frozen=True, slots=True)
 class PathLayer:
@@ -148,6 +103,9 @@ class Window:
     """The side this window serves for a paired target (None: either side)."""
     practice_order: int | None = None
     """Usual order of practice (1 = the first route tried; None: no usual order)."""
+    adjunct: bool = False
+    """A window practice uses when the standard ones fail, or adds after them; it ranks after
+    every feasible standard window, however low its loss."""
 
     @property
     def endocavitary(self) -> bool:
@@ -196,6 +154,20 @@ class Target:
     bone_near_focus: bool = False
     paired: bool = False
     """A left and a right structure: plans take a side (``PlanRequest.side``)."""
+    curved_array_from_wall_mm: float | None = None
+    """Body wall at the window from which practice takes a curved array before a linear one
+    ("in larger patients"); None: the usual order of ``probe_types`` always. [mm]"""
+    detail_depth_cm: float | None = None
+    """Depth of the structures that need ``detail_mm`` in an average patient, when shallower
+    than ``typical_depth_cm`` (None: the whole depth). [cm]"""
+
+    @property
+    def detail_depth_fraction(self) -> float:
+        """Share of the target's depth at which the detail is judged (1: at the deepest part);
+        a patient's detail depth is their target depth times this share (derived). [-]"""
+        if self.detail_depth_cm is None:
+            return 1.0
+        return min(1.0, self.detail_depth_cm / self.typical_depth_cm)
 
     @property
     def sided_windows(self) -> bool:
@@ -309,11 +281,21 @@ def _window(raw: dict) -> Window:
                   raw["breathing"].strip(), factor.value,
                   tuple(_layer(layer) for layer in raw["path"]), gap, raw["gas_risk"],
                   raw["midline_rectus"], raw["bone_in_path"], (raw.get("notes") or "").strip(),
-                  provenance, raw.get("side"), raw.get("practice_order"))
+                  provenance, raw.get("side"), raw.get("practice_order"),
+                  bool(raw.get("adjunct", False)))
 
 
 def _target(target_id: str, raw: dict) -> Target:
     depth, detail = _sourced(raw["typical_depth_cm"]), _sourced(raw["detail_mm"])
+    provenance = {"typical_depth_cm": depth, "detail_mm": detail}
+    detail_depth = None
+    if raw.get("detail_depth_cm") is not None:
+        provenance["detail_depth_cm"] = _sourced(raw["detail_depth_cm"])
+        detail_depth = provenance["detail_depth_cm"].value
+    curved_from = None
+    if raw.get("curved_array_from_wall_mm") is not None:
+        provenance["curved_array_from_wall_mm"] = _sourced(raw["curved_array_from_wall_mm"])
+        curved_from = provenance["curved_array_from_wall_mm"].value
     return Target(target_id, raw["name"].strip(), raw["region"], raw["reflector"],
                   raw["exam_type"], raw["target_tissue"], depth.value, detail.value,
                   tuple(raw["probe_types"]), tuple(_surface(s) for s in raw["surfaces"]),
@@ -321,8 +303,8 @@ def _target(target_id: str, raw: dict) -> Target:
                   raw["calcification_risk"], raw["harmonic_contraindicated"],
                   tuple(p.strip() for p in raw["pitfalls"]),
                   tuple(_window(w) for w in raw["windows"]),
-                  {"typical_depth_cm": depth, "detail_mm": detail},
-                  raw.get("bone_near_focus", False), bool(raw.get("paired", False)))
+                  provenance, raw.get("bone_near_focus", False), bool(raw.get("paired", False)),
+                  curved_from, detail_depth)
 
 
 def build_library(data: dict) -> TargetLibrary:

@@ -67,7 +67,7 @@ def plan_markdown(plan: Plan, signoff: dict[str, str] | None = None, stamp=None,
     for i, win in enumerate(plan.windows, 1):
         band = win.band_mhz
         band_txt = "-" if not band else f"{band.low:.1f}-{band.high:.1f}"
-        out.append(f"| {i} | {win.name} | {'yes' if win.feasible else 'no'} | "
+        out.append(f"| {i} | {win.label} | {'yes' if win.feasible else 'no'} | "
                    f"{win.round_trip_loss_db:.1f} | {win.depth_cm:.1f} | {band_txt} |")
     out += ["", "## Findings and the reasons behind them", ""]
     for f in plan.findings:
@@ -123,7 +123,7 @@ def plan_html(plan: Plan, signoff: dict[str, str] | None = None, stamp=None,
     e = escape
     rows = "".join(f"<tr><th>{e(k)}</th><td>{e(v)}</td></tr>" for k, v in _summary_rows(plan))
     wins = "".join(
-        f"<tr><td>{i}</td><td>{e(w.name)}</td><td>{'yes' if w.feasible else 'no'}</td>"
+        f"<tr><td>{i}</td><td>{e(w.label)}</td><td>{'yes' if w.feasible else 'no'}</td>"
         f"<td>{w.round_trip_loss_db:.1f}</td><td>{w.depth_cm:.1f}</td></tr>"
         for i, w in enumerate(plan.windows, 1))
     finds = "".join(

@@ -60,7 +60,7 @@ def plan_text(plan: Plan, stamp=None, review=None) -> str:
     for i, win in enumerate(plan.windows, 1):
         band = win.band_mhz
         band_txt = f"{band.low:.1f}-{band.high:.1f} MHz" if band else "-"
-        lines.append(f"  {i}. {win.name:<34} {'ok ' if win.feasible else 'NO '} "
+        lines.append(f"  {i}. {win.label:<34} {'ok ' if win.feasible else 'NO '} "
                      f"{win.round_trip_loss_db:5.1f} dB  {win.depth_cm:5.1f} cm  {band_txt}")
     lines += ["", "Findings:"]
     for f in plan.findings:

@@ -26,7 +26,7 @@ def windows_rows(plan: Plan) -> list[tuple[str, ...]]:
     rows: list[tuple[str, ...]] = []
     for rank, w in enumerate(plan.windows, 1):
         band = w.band_mhz
-        rows.append((str(rank), w.name, "yes" if w.feasible else "NO",
+        rows.append((str(rank), w.label, "yes" if w.feasible else "NO",
                      f"{w.round_trip_loss_db:.0f}", f"{w.depth_cm:.1f}",
                      f"{band.low:.1f}–{band.high:.1f}" if band else "–"))
     return rows
