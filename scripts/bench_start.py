@@ -60,7 +60,8 @@ LAUNCHER = ("import sys; sys.meta_path[:] = [f for f in sys.meta_path if 'editab
             "repr(f)]; sys.path.insert(0, {root!r}); from planner.cli import main; "
             "sys.exit(main())")
 PAINTED = {"bare": re.compile(r"bare textual app"), "scanplan": re.compile(r"scanplan\s+│")}
-PLANNED = re.compile(r"Band\s+\d+(\.\d+)?–\d+(\.\d+)? MHz")
+PLANNED = re.compile(r"[Bb]and\s+\d+(\.\d+)?–\d+(\.\d+)? MHz")
+"""The plan summary's band ("Band  start 2.9 MHz · band 1.2–3.7 MHz", or the band alone)."""
 
 
 def scanplan_command(root: str | None) -> list[str]:

@@ -343,3 +343,18 @@ async def test_the_side_field_shows_for_paired_targets_and_plans_that_side():
         assert screen.plan.inputs.side == "left"
         assert "Left kidney" in text_of(screen, "#masthead")
         assert all("liver" not in w.id for w in screen.plan.windows)
+
+
+async def test_a_prior_exam_typed_in_the_form_calibrates_the_plan():
+    """The last report's frequency and fade depth (UI fields): one alone is marked on the other
+    field; both replan with the patient's effective attenuation (the CLI's --prior-* flags)."""
+    app = ScanplanApp()
+    async with app.run_test(size=(100, 40)) as pilot:
+        screen = await ready(app, pilot)
+        await retype(pilot, screen, "prior_frequency_mhz", "3.5")
+        await pilot.pause(0.3)
+        assert "together" in screen.query_one("#row-prior_fade_cm").error
+        await retype(pilot, screen, "prior_fade_cm", "9")
+        await pilot.pause(0.3)
+        assert screen.plan.inputs is not None
+        assert any(f.code == "prior_exam_calibration" for f in screen.plan.findings)

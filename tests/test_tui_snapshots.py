@@ -59,5 +59,10 @@ def test_depth_profile_100x30(snap_compare):
     async def run_before(pilot) -> None:
         await _ready(pilot)
         await pilot.press("f5")
-        await pilot.pause(0.1)
+        for _ in range(100):       # both plots mount on first show; wait until they have
+            await pilot.pause(0.05)
+            if pilot.app.screen.query("#profile-plot") and pilot.app.screen.query("#odds-strip"):
+                break
+        for _ in range(6):         # and until their layout has settled (plotext sizes on render)
+            await pilot.pause(0.2)
     assert snap_compare(ScanplanApp(), terminal_size=(100, 30), run_before=run_before)

@@ -76,13 +76,19 @@ def band_decision(ctx: RuleContext) -> tuple[FrequencyBand, list[Finding]]:
     floor_basis = "detail" if opt.floor_mhz >= opt.probe.low_mhz - 1e-9 else "probe"
     if opt.feasible:
         from planner.engine.artefacts import ABERRATING_WALL_MM
+        from planner.engine.spread import spread_finding
         from planner.engine.start import basis_text, start_frequency
         from planner.engine.reach import ABERRATING_ROLES
         wall_mm = 10.0 * sum(lay.thickness_cm for lay in a.stack.layers if lay.role in ABERRATING_ROLES)
-        start, start_basis, start_values = start_frequency(a, opt, target.exam_type, wall_mm,
-                                                           ABERRATING_WALL_MM)
-        values.update(start_values, start_mhz=start, floor_basis=floor_basis)
-        summary = FrequencyBand(_r(opt.low_mhz), _r(opt.high_mhz), True, start, start_basis, floor_basis)
+        start, start_basis, start_values, spread = start_frequency(
+            a, opt, target.exam_type, wall_mm, ABERRATING_WALL_MM,
+            depth_known=ctx.patient.depth_cm is not None)
+        values.update(start_values, start_mhz=start, floor_basis=floor_basis,
+                      start_median_mhz=spread["start_median"],
+                      start_probability=spread["start_probability"],
+                      top_probability=spread["top_probability"])
+        summary = FrequencyBand(_r(opt.low_mhz), _r(opt.high_mhz), True, start, start_basis,
+                                floor_basis, **spread)
         where = (f" {a.stack.depth_cm * target.detail_depth_fraction:.1f} cm deep"
                  if getattr(target, "detail_depth_fraction", 1.0) < 1.0 else "")
         floor_text = (f"{target.detail_mm:g} mm detail{where} needs at least {opt.floor_mhz:.1f} MHz at "
@@ -96,10 +102,11 @@ def band_decision(ctx: RuleContext) -> tuple[FrequencyBand, list[Finding]]:
             f"{start:.1f} MHz ({basis_text(start_basis)}): {floor_text}; the echo from "
             f"{a.stack.depth_cm:.1f} cm stays within the {a.budget_db:g} dB budget "
             f"up to {ceiling:.1f} MHz.", values, sources + ("Duck1990", "BornWolf1999"),
-            explanation + " Start: the lowest of the reach with 1.3 times the average attenuation, "
+            explanation + " Start: the lowest of the frequency that 80 % of patients like this one "
+            "still reach (the wall, the path's attenuation and the budget sampled), "
             "the frequency at which a wall of 15 mm or more keeps the focus diffraction-limited "
-            "(Marechal criterion), the usual top start of the exam, and the probe's top.")] \
-            + downshift_findings(ctx, opt.high_mhz, values)
+            "(Marechal criterion), the usual top start of the exam, and the probe's top."),
+            spread_finding(summary)] + downshift_findings(ctx, opt.high_mhz, values)
     best_detail = finest_detail_mm(opt, reach_high)
     values["finest_detail_mm"] = _r(best_detail, 2) if math.isfinite(best_detail) else None
     low = opt.probe.low_mhz

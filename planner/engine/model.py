@@ -48,14 +48,39 @@ class PatientSummary:
 
 
 @dataclass(frozen=True, slots=True)
+class ReachPoint:
+    """How likely a transmit frequency is to reach the target in a patient like this one."""
+
+    frequency_mhz: float
+    probability: float
+
+
+@dataclass(frozen=True, slots=True)
+class SpreadDriver:
+    """One uncertain input and how much of the reach's spread it explains.
+
+    ``reach_range_mhz`` is the 10th-90th centile of the reach now, ``known_range_mhz`` the same
+    with this input known (at its median); ``explains`` the share of the spread's variance
+    that knowing it removes; ``action`` what would pin it down.
+    """
+
+    input: str
+    explains: float
+    reach_range_mhz: tuple[float, float]
+    known_range_mhz: tuple[float, float]
+    action: str
+
+
+@dataclass(frozen=True, slots=True)
 class FrequencyBand:
     """Recommended band [floor, reach ceiling] on the chosen probe and the frequency to start
     at; None when no probe. [MHz]
 
     ``floor_basis`` says what sets ``low``: ``"detail"`` (the lowest frequency that resolves
     the exam's detail) or ``"probe"`` (the probe's lowest frequency: detail does not bind).
-    ``start_basis`` says what sets ``start`` (:mod:`planner.engine.start`): ``"margin"``,
-    ``"wall"``, ``"practice"`` or ``"probe"``; empty when the band is not feasible.
+    ``start_basis`` says what sets ``start`` (:mod:`planner.engine.start`): ``"margin"`` (the
+    reach of 80 % of patients like this one), ``"wall"``, ``"practice"`` or ``"probe"``; empty
+    when the band is not feasible.
     """
 
     low: float | None
@@ -64,6 +89,16 @@ class FrequencyBand:
     start: float | None = None
     start_basis: str = ""
     floor_basis: str = ""
+    start_median: float | None = None
+    """The start for the median patient of this habitus (no spread). [MHz]"""
+    start_probability: float | None = None
+    """Share of patients like this one that ``start`` reaches. [-]"""
+    top_probability: float | None = None
+    """Share of patients like this one that the band's top (``high``) reaches. [-]"""
+    reach_probability: tuple[ReachPoint, ...] = ()
+    """Probability of reaching on a grid across the probe's band, frequencies increasing."""
+    drivers: tuple[SpreadDriver, ...] = ()
+    """The uncertain inputs, most of the spread first (:mod:`planner.engine.spread`)."""
 
 
 @dataclass(frozen=True, slots=True)

@@ -1,14 +1,15 @@
-"""The frequency to start at: the highest the echo reaches with a margin, the focus still sharp
-through the wall, and no higher than practice starts for the exam.
+"""The frequency to start at: the highest the echo reaches in most patients like this one, the
+focus still sharp through the wall, and no higher than practice starts for the exam.
 
 The band's top is the reach ceiling, the frequency at which the population-average patient
 uses the whole signal budget. A practitioner starts below it, for three reasons the plan
 states (``frequency_mhz.start_basis``):
 
 ``margin``
-    Tissue attenuation varies between people by +/-30-50 % (the plan's stated assumption;
-    Duck1990 ranges): the start is the ceiling of a patient whose path attenuates
-    :data:`ATTENUATION_MARGIN` times the average, so it still reaches most patients.
+    The wall, the path's attenuation and the signal budget are uncertain for one patient
+    (:mod:`planner.engine.spread`): the start is the frequency that 80 % of patients like this
+    one still reach (the 20th centile of the sampled reach ceilings), so it reaches most of
+    them. ``start_median`` is the same rule for the median patient (the band's top).
 ``wall``
     Through a thick wall the phase screen blurs the focus (:mod:`planner.physics.aberration`).
     The start keeps the one-way focal gain within the Marechal criterion of a
@@ -35,12 +36,6 @@ import math
 import numpy as np
 
 from planner.provenance import Sourced
-
-ATTENUATION_MARGIN = Sourced(
-    1.3, "Duck1990", "derived",
-    "the lower end of the +/-30-50 % inter-subject spread of soft-tissue attenuation the plan "
-    "states; a patient at +30 % still reaches at the start")
-"""Factor on the path's attenuation for the start frequency's reach. [-]"""
 
 MARECHAL_STREHL = Sourced(0.8, "BornWolf1999", "verified",
                           "Marechal criterion: a focus is diffraction-limited while its Strehl ratio is >= 0.8")
@@ -72,7 +67,7 @@ USUAL_START_MHZ: dict[tuple[str, str], Sourced] = {
 """Highest usual start frequency of an exam type with a probe family. [MHz]"""
 
 BASIS_TEXT = {
-    "margin": "the highest that still reaches with {m:g} times the average attenuation",
+    "margin": "the highest that still reaches {p:.0f} % of patients like this one",
     "wall": "the wall's uneven sound speed would blur the focus above it",
     "practice": "the top of the usual start for this exam; go higher only for near-field detail",
     "probe": "the probe's top",
@@ -90,24 +85,6 @@ def marechal_mhz(sigma_ns):
     with np.errstate(divide="ignore"):
         return np.where(sigma > 0, math.sqrt(-math.log(MARECHAL_STREHL.value))
                         / (2.0 * math.pi * np.maximum(sigma, 1e-12) * 1e-3), np.inf)
-
-
-def margin_ceilings_mhz(k, y, budget, bandwidth, edge) -> np.ndarray:
-    """Reach ceilings of N rows with :data:`ATTENUATION_MARGIN` times their loss coefficients
-    (grouped terms ``k`` (N, U), ``y`` (U,): layers and wall aberration), each row's pulse. [MHz]"""
-    from planner.physics import broadband, ceiling
-    from planner.physics.attenuation import solve_power_sum_mhz
-    k = np.atleast_2d(np.asarray(k, dtype=float)) * ATTENUATION_MARGIN.value
-    budget = np.atleast_1d(np.asarray(budget, dtype=float))
-    b = np.broadcast_to(np.asarray(bandwidth, dtype=float), budget.shape)
-    e = np.broadcast_to(np.asarray(edge, dtype=float), budget.shape)
-    out = np.empty(budget.shape)
-    narrow = b < broadband.NARROWBAND_BELOW
-    if narrow.any():
-        out[narrow] = solve_power_sum_mhz(k[narrow], y, budget[narrow])
-    if (~narrow).any():
-        out[~narrow] = ceiling.ceiling_rows(k[~narrow], y, budget[~narrow], b[~narrow], e[~narrow])
-    return out
 
 
 BASES: tuple[str, ...] = ("practice", "wall", "margin", "probe")
@@ -144,23 +121,64 @@ def start_rows(margin, sigma_ns, wall_mm, probe_types, probe_high, band_low, ban
 
 
 def start_frequency(assessment, option, exam_type: str, wall_mm: float,
-                    aberrating_wall_mm: float) -> tuple[float, str, dict]:
-    """``(start, basis, values)`` of the plan's chosen window and probe (a feasible band). [MHz]"""
-    from planner.engine.reach import grouped_terms
+                    aberrating_wall_mm: float, depth_known: bool = False) -> tuple[float, str, dict, dict]:
+    """``(start, basis, values, spread)`` of the plan's chosen window and probe (a feasible
+    band). ``spread`` holds the :class:`~planner.engine.model.FrequencyBand` fields of the
+    reach across patients: ``start_median``, ``start_probability``, ``top_probability``,
+    ``reach_probability`` and ``drivers`` (:mod:`planner.engine.spread`). [MHz]"""
+    from planner.engine import spread
     memo = assessment.memo
-    if "terms" not in memo:
-        memo["terms"] = grouped_terms(assessment.arrays, assessment.sigma_ns)
-    k, y = memo["terms"]
-    margin = margin_ceilings_mhz(k, y, [assessment.budget_db - assessment.interface_loss_db],
-                                 assessment.bandwidth_fraction, assessment.low_edge_mhz)
-    start, basis, candidates = start_rows(
-        margin, [assessment.sigma_ns], [wall_mm], [option.probe.type], [option.probe.high_mhz],
-        [option.low_mhz], [option.high_mhz], exam_type, aberrating_wall_mm)
+    key = ("draws", option.probe.id, depth_known)
+    if key not in memo:
+        memo[key] = spread.plan_draws(spread.assessment_inputs(assessment, option.probe, depth_known))
+    full, known = memo[key]
+    args = ([assessment.sigma_ns], [wall_mm], [option.probe.type], [option.probe.high_mhz],
+            [option.low_mhz], [option.high_mhz], exam_type, aberrating_wall_mm)
+    start, basis, candidates = start_rows(spread.robust_reach_mhz(full)[None], *args)
+    median, _, _ = start_rows([assessment.probe_ceiling_mhz], *args)
     values = {f"start_{name}_mhz": round(float(v[0]), 2) for name, v in candidates.items()
               if math.isfinite(float(v[0]))}
-    return float(start[0]), basis[0], values
+    return float(start[0]), basis[0], values, spread_fields(full, known, option, float(start[0]),
+                                                           float(median[0]))
+
+
+def spread_fields(full, known: dict, option, start: float, median: float) -> dict:
+    """The band's fields about the reach across patients (see :func:`start_frequency`)."""
+    from planner.engine import spread
+    from planner.engine.model import ReachPoint, SpreadDriver
+    lo, hi = option.probe.low_mhz, option.probe.high_mhz
+    grid = np.round(np.linspace(lo, hi, GRID_POINTS), 2)
+    p = spread.probability_reaching(full, grid)
+    at = (np.asarray(full)[None, :] >= np.array([start, option.high_mhz])[:, None]).mean(axis=1)
+
+    def capped(r: tuple[float, float]) -> tuple[float, float]:
+        return (round(min(max(r[0], lo), hi), 1), round(min(max(r[1], lo), hi), 1))
+
+    now = capped(spread.spread_range_mhz(full))
+    drivers = sorted((SpreadDriver(name, round(spread.explained_share(full, draws), 2), now,
+                                   capped(spread.spread_range_mhz(draws)), spread.ACTIONS[name])
+                      for name, draws in known.items()), key=lambda d: -d.explains)
+    return {"start_median": round(median, 1), "start_probability": round(float(at[0]), 2),
+            "top_probability": round(float(at[1]), 2),
+            "reach_probability": tuple(ReachPoint(float(f), round(float(q), 2))
+                                       for f, q in zip(grid, p)),
+            "drivers": tuple(drivers)}
+
+
+GRID_POINTS: int = 11
+"""Frequencies of ``reach_probability`` across the probe's band, its ends included. [-]"""
+
+
+def odds_text(band) -> str:
+    """How many patients like this one the start and the band's top reach, in words ("" when
+    the band has no such figures)."""
+    if band.start_probability is None or band.top_probability is None:
+        return ""
+    return (f"the start reaches {100 * band.start_probability:.0f} % of patients like this one, "
+            f"the top {100 * band.top_probability:.0f} %")
 
 
 def basis_text(basis: str) -> str:
     """The clause for ``basis``."""
-    return BASIS_TEXT[basis].format(m=ATTENUATION_MARGIN.value)
+    from planner.engine.spread import START_PROBABILITY
+    return BASIS_TEXT[basis].format(p=100 * START_PROBABILITY.value)

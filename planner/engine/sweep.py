@@ -126,19 +126,29 @@ def harmonic_advised(batch: WindowBatch, rows: np.ndarray, col: np.ndarray, targ
     return (not target.harmonic_contraindicated) & capable & clutter & (top >= p_low)
 
 
-def start_of_rows(batch: WindowBatch, rows: np.ndarray, col: np.ndarray, target) -> np.ndarray:
+def start_of_rows(batch: WindowBatch, rows: np.ndarray, col: np.ndarray, target,
+                  depth_known: bool = False) -> np.ndarray:
     """The plan's start frequency (:func:`planner.engine.start.start_rows`) for the rows of a
-    window batch on their chosen probes, in one vectorised solve. [MHz]"""
+    window batch on their chosen probes: the reach of 80 % of the sampled patients of each row
+    (:mod:`planner.engine.spread`, every row's draws in one vectorised solve). [MHz]"""
+    from planner.engine import spread
     from planner.engine.artefacts import ABERRATING_WALL_MM
-    from planner.engine.reach import ABERRATING_ROLES, joint_terms
-    from planner.engine.start import margin_ceilings_mhz, start_rows
+    from planner.engine.reach import ABERRATING_ROLES
+    from planner.engine.start import start_rows
     probes = batch.probes.probes
-    k, y = joint_terms([batch.arrays], batch.sigma_ns)
     budget = (batch.probe_budget_db if batch.probe_budget_db is not None
               else np.full(batch.depth_cm.shape, batch.budget_db)) - batch.interface_loss_db
-    margin = margin_ceilings_mhz(k[rows], y, budget[rows], batch.bandwidth_fraction[rows],
-                                 batch.low_edge_mhz[rows])
     wall_cols = np.array([lay.role in ABERRATING_ROLES for lay in batch.stacks.layers], dtype=bool)
+    t = np.asarray(batch.arrays["thickness_cm"], dtype=float)[rows]
+    st = batch.stacks
+    inputs = spread.SpreadInputs(
+        t, np.asarray(batch.arrays["attenuation_db_per_cm_mhz"], dtype=float),
+        np.asarray(batch.arrays["attenuation_exponent"], dtype=float),
+        spread.wall_prefix(t[0], float(st.wall_cm[rows][0])), wall_cols,
+        spread.wall_sigma_log(st.wall_low_cm[rows], st.wall_high_cm[rows], depth_known),
+        budget[rows], np.array([spread.budget_sd_db(probes[c]) for c in col]),
+        batch.bandwidth_fraction[rows], batch.low_edge_mhz[rows])
+    margin = spread.robust_reach_mhz(spread.sampled_ceilings_mhz(inputs))
     wall_mm = 10.0 * np.where(wall_cols[None, :], batch.arrays["thickness_cm"], 0.0).sum(axis=1)[rows]
     start, _, _ = start_rows(margin, batch.sigma_ns[rows], wall_mm, [probes[c].type for c in col],
                              np.array([probes[c].high_mhz for c in col]),
@@ -196,7 +206,8 @@ def sweep_plans(request: PlanRequest, bmi) -> list[SweepRow]:
         sel = rows[(chosen == w) & (cols >= 0)]
         sel = sel[wb.probes.feasible[sel, cols[sel]]] if sel.size else sel
         if sel.size:
-            starts[sel] = start_of_rows(wb, sel, cols[sel], target)
+            starts[sel] = start_of_rows(wb, sel, cols[sel], target,
+                                        depth_known=request.patient.depth_cm is not None)
     for i in rows:
         wb = batches[chosen[i]]
         col = int(cols[i])

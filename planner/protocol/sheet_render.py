@@ -28,7 +28,7 @@ PLOT_WIDTH = 320
 PLOT_HEIGHT = 170
 """Size of the per-view depth plot in the HTML sheet. [px]"""
 
-ROW_HEADERS: tuple[str, ...] = ("Habitus (BMI)", "Probe", "Band (MHz)", "Harmonic imaging",
+ROW_HEADERS: tuple[str, ...] = ("Habitus (BMI)", "Probe", "Band and start (MHz)", "Harmonic imaging",
                                 "Tilt", "Depth (cm)", "Main cautions")
 
 
@@ -40,7 +40,14 @@ def _band(band: FrequencyBand) -> str:
     if band.low is None or band.high is None:
         return "none"
     text = f"{band.low:.1f}-{band.high:.1f}"
-    return text if band.feasible else text + " (detail not reached)"
+    if not band.feasible:
+        return text + " (detail not reached)"
+    if band.start is not None:
+        text += f"; start {band.start:.1f}"
+        if band.start_probability is not None and band.top_probability is not None:
+            text += (f" ({100 * band.start_probability:.0f} % reach it; the top "
+                     f"{100 * band.top_probability:.0f} %)")
+    return text
 
 
 def _cells(row: SheetRow) -> list[str]:

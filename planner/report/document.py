@@ -21,7 +21,12 @@ def _band(plan: Plan) -> str:
     f = plan.frequency_mhz
     if f.low is None or f.high is None:
         return "no usable band"
-    return f"{f.low:.1f}-{f.high:.1f} MHz" + ("" if f.feasible else " (needed detail not reached)")
+    if not f.feasible or f.start is None:
+        return f"{f.low:.1f}-{f.high:.1f} MHz" + ("" if f.feasible else " (needed detail not reached)")
+    from planner.engine.start import odds_text
+    odds = odds_text(f)
+    return (f"{f.low:.1f}-{f.high:.1f} MHz; start at {f.start:.1f} MHz"
+            + (f" ({odds}; for the median patient {f.start_median:.1f} MHz)" if odds else ""))
 
 
 def _summary_rows(plan: Plan) -> list[tuple[str, str]]:

@@ -19,8 +19,10 @@ def _band(plan: Plan) -> str:
     if f.low is None or f.high is None:
         return "no usable band"
     if f.feasible and f.start is not None:
-        from planner.engine.start import basis_text
+        from planner.engine.start import basis_text, odds_text
         tag = f"; start at {f.start:.1f} MHz, {basis_text(f.start_basis)}"
+        odds = odds_text(f)
+        tag += f" ({odds})" if odds else ""
     else:
         tag = "  (needed detail NOT reached)"
     return f"{f.low:.1f}-{f.high:.1f} MHz{tag}"

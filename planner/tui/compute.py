@@ -28,6 +28,8 @@ NUMBER_FIELDS: dict[str, str] = {
     "expected_ti": "expected TI",
     "expected_mi": "expected MI",
     "planned_minutes": "planned minutes",
+    "prior_frequency_mhz": "prior exam's frequency",
+    "prior_fade_cm": "prior fade depth",
 }
 """Fields typed as numbers, with a short label for messages."""
 
@@ -110,12 +112,6 @@ def number_text(value: float | None) -> str:
     return "" if value is None else f"{value:g}"
 
 
-def _carried(raw: dict[str, Any], name: str) -> float | None:
-    """A number the form carries from a plan file without editing it (None when absent)."""
-    value = raw.get(name)
-    return float(value) if isinstance(value, (int, float)) and not isinstance(value, bool) else None
-
-
 def parse_form(raw: dict[str, Any]) -> tuple[PlanInputs, dict[str, str]]:
     """Build :class:`PlanInputs` from the form's raw values.
 
@@ -163,8 +159,7 @@ def parse_form(raw: dict[str, Any]) -> tuple[PlanInputs, dict[str, str]]:
         lung_in_beam=bool(raw.get("lung_in_beam")), doppler=bool(raw.get("doppler")),
         probes_path=raw.get("probes_path") or None, local_policy_path=raw.get("local_policy_path") or None,
         qa_path=raw.get("qa_path") or None, side=raw.get("side") or None,
-        prior_frequency_mhz=_carried(raw, "prior_frequency_mhz"),
-        prior_fade_cm=_carried(raw, "prior_fade_cm"), draft=bool(raw.get("draft")),
+        draft=bool(raw.get("draft")),
         signoff=SignOff(**{k: str(raw.get(k, "") or "") for k in SIGNOFF_FIELDS}),
         choices=choices, **numbers)
     return inputs, problems
@@ -179,8 +174,7 @@ def form_values(inputs: PlanInputs) -> dict[str, Any]:
                febrile=inputs.febrile, pregnancy_possible=inputs.pregnancy_possible,
                lung_in_beam=inputs.lung_in_beam, doppler=inputs.doppler,
                probes_path=inputs.probes_path, local_policy_path=inputs.local_policy_path,
-               qa_path=inputs.qa_path, side=inputs.side, prior_frequency_mhz=inputs.prior_frequency_mhz,
-               prior_fade_cm=inputs.prior_fade_cm, draft=inputs.draft)
+               qa_path=inputs.qa_path, side=inputs.side, draft=inputs.draft)
     out.update({k: getattr(inputs.signoff, k) for k in SIGNOFF_FIELDS})
     c = inputs.choices
     out.update({k: getattr(c, f) for k, f in CHOICE_TEXT_FIELDS.items()})

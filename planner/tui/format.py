@@ -101,9 +101,11 @@ def band_text(plan: Plan) -> str:
     if low is None or high is None:
         return "[bold $error]no usable band[/]"
     if band.feasible and band.start is not None:
-        from planner.engine.start import basis_text
+        from planner.engine.start import basis_text, odds_text
+        odds = odds_text(band)
         return (f"[b]start {band.start:.1f} MHz[/b] · band {low:.1f}–{high:.1f} MHz "
-                f"[$text-muted]({escape(basis_text(band.start_basis))})[/]")
+                f"[$text-muted]({escape(basis_text(band.start_basis))}"
+                + (f"; {escape(odds)}" if odds else "") + ")[/]")
     text = f"[b]{low:.1f}–{high:.1f} MHz[/b]"
     if not band.feasible:
         text += "  [bold $error]needed detail NOT reached[/]"

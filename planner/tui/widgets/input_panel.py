@@ -28,13 +28,12 @@ AUTO = "auto"
 
 FLAGS = ("pregnancy_possible", "contrast_agent", "febrile", "lung_in_beam", "doppler", "draft")
 _TEXT_INPUTS = ("bmi", "height_cm", "weight_kg", "wall_mm", "fat_mm", "depth_cm", "conditions",
-                "gestation_weeks", "expected_ti", "expected_mi", "planned_minutes", "student",
+                "gestation_weeks", "expected_ti", "expected_mi", "planned_minutes",
+                "prior_frequency_mhz", "prior_fade_cm", "student",
                 "student_reflection", "student_start_mhz", *CHOICE_TEXT_FIELDS)
-CARRIED = ("probes_path", "local_policy_path", "qa_path", "prior_frequency_mhz", "prior_fade_cm",
-           *SUPERVISOR_FIELDS)
+CARRIED = ("probes_path", "local_policy_path", "qa_path", *SUPERVISOR_FIELDS)
 """Inputs a plan file may hold that the form keeps but does not edit (department files, with
-the probe QA log and a prior exam's calibration, and the supervisor's fields, which only a
-verified signature fills). A probe inventory's own ``qa_log`` applies in the form as well."""
+the probe QA log, and the supervisor's fields, which only a verified signature fills). A probe inventory's own ``qa_log`` applies in the form as well."""
 _SELECTS = ("sex", "window_id", "side", "exam_type", "student_harmonic")
 DRAFT_FIRST_FIELD = "student"
 """The field Ctrl+G moves the focus to: the first of the student's own."""
@@ -93,6 +92,10 @@ class InputPanel(VerticalScroll):
         conditions = _text("conditions", v["conditions"], "e.g. steatosis:2, ascites")
         conditions.suggester = self.suggester
         yield FieldRow("Conditions", conditions, field="conditions")
+        yield FieldRow("Prior MHz", _text("prior_frequency_mhz", v.get("prior_frequency_mhz", ""),
+                                          "last exam"), field="prior_frequency_mhz")
+        yield FieldRow("Prior cm", _text("prior_fade_cm", v.get("prior_fade_cm", ""),
+                                         "where it faded"), field="prior_fade_cm")
         yield Static("Target and window", classes="section")
         yield FieldRow("Target", TargetPicker(v["target_id"]), field="target_id", stacked=True)
         yield FieldRow("Window", Select([("automatic", AUTO)], value=AUTO,

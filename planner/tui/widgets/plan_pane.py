@@ -55,7 +55,8 @@ class PlanPane(Vertical):
         if view == "safety":
             return [SafetyView(id="safety-view")]
         if view == "depth":
-            return [DepthProfile(id="profile")]
+            from planner.tui.widgets.odds_plot import ReachOdds
+            return [DepthProfile(id="profile"), ReachOdds(id="odds")]
         return [DopplerView(id="doppler-view")]
 
     async def _ensure_view(self, view: str) -> None:
@@ -88,6 +89,8 @@ class PlanPane(Vertical):
             self.query_one(SafetyView).show_plan(plan)
         elif view == "depth":
             self.query_one(DepthProfile).show_plan(plan)
+            from planner.tui.widgets.odds_plot import ReachOdds
+            self.query_one(ReachOdds).show_plan(plan)
         elif view == "doppler":
             self.query_one(DopplerView).show_plan(plan)
 
