@@ -155,8 +155,13 @@ def spread_fields(full, known: dict, option, start: float, median: float) -> dic
         return (round(min(max(r[0], lo), hi), 1), round(min(max(r[1], lo), hi), 1))
 
     now = capped(spread.spread_range_mhz(full))
+
+    def within(r: tuple[float, float]) -> tuple[float, float]:   # knowing more never widens it
+        return (max(r[0], now[0]), min(r[1], now[1]))
+
     drivers = sorted((SpreadDriver(name, round(spread.explained_share(full, draws), 2), now,
-                                   capped(spread.spread_range_mhz(draws)), spread.ACTIONS[name])
+                                   within(capped(spread.spread_range_mhz(draws))),
+                                   spread.ACTIONS[name])
                       for name, draws in known.items()), key=lambda d: -d.explains)
     return {"start_median": round(median, 1), "start_probability": round(float(at[0]), 2),
             "top_probability": round(float(at[1]), 2),
