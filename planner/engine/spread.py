@@ -267,15 +267,19 @@ def spread_finding(band):
     lo, hi = top.reach_range_mhz if top else (band.low, band.high)
     message = (f"The start, {band.start:.1f} MHz, reaches about {100 * band.start_probability:.0f} % "
                f"of patients like this one and the band's top, {band.high:.1f} MHz, about "
-               f"{100 * band.top_probability:.0f} % (reach {lo:.1f}-{hi:.1f} MHz from the 10th to "
-               "the 90th centile).")
+               f"{100 * band.top_probability:.0f} %")
     narrows = 0.0
-    if top is not None and top.explains > 0:
-        k_lo, k_hi = top.known_range_mhz
-        narrows = (hi - lo) - (k_hi - k_lo)
-        message += (f" {INPUT_WORDS[top.input].capitalize()} explains most of the spread "
-                    f"({100 * top.explains:.0f} %): {top.action} would narrow it to "
-                    + (f"{k_lo:.1f}-{k_hi:.1f} MHz." if k_hi - k_lo >= 0.05 else f"{k_lo:.1f} MHz."))
+    if hi - lo < 0.1:
+        message += ": nearly every patient like this one is reached up to the probe's top."
+    else:
+        message += f" (reach {lo:.1f}-{hi:.1f} MHz from the 10th to the 90th centile)."
+        if top is not None and top.explains > 0:
+            k_lo, k_hi = top.known_range_mhz
+            narrows = (hi - lo) - (k_hi - k_lo)
+            message += (f" {INPUT_WORDS[top.input].capitalize()} explains most of the spread "
+                        f"({100 * top.explains:.0f} %): {top.action} would narrow it to "
+                        + (f"{k_lo:.1f}-{k_hi:.1f} MHz." if k_hi - k_lo >= 0.05
+                           else f"{k_lo:.1f} MHz."))
     values = {"start_probability": band.start_probability, "top_probability": band.top_probability,
               "reach_range_mhz": [lo, hi], "start_median_mhz": band.start_median,
               "drivers": {d.input: d.explains for d in band.drivers}, "samples": SAMPLES}

@@ -34,7 +34,9 @@ def odds_markup(band: FrequencyBand) -> str:
             f"{100 * band.start_probability:.0f} %, top {band.high:.1f} MHz "
             f"{100 * band.top_probability:.0f} %; median patient's start "
             f"{band.start_median:.1f} MHz")
-    if band.drivers and band.drivers[0].explains > 0:
+    if band.drivers and band.drivers[0].reach_range_mhz[1] - band.drivers[0].reach_range_mhz[0] < 0.1:
+        text += "\n[$text-muted]Nearly every patient like this one is reached across the probe's band.[/]"
+    elif band.drivers and band.drivers[0].explains > 0:
         d = band.drivers[0]
         lo, hi = d.reach_range_mhz
         klo, khi = d.known_range_mhz
