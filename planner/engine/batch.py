@@ -228,16 +228,6 @@ class WindowBatch:
         return (best >= 0) & self.probes.feasible[rows, np.maximum(best, 0)]
 
 
-def curved_first_rows(stacks_list: list[StackBatch], target) -> np.ndarray | None:
-    """(N,) True where the body wall at the window reaches the target's
-    ``curved_array_from_wall_mm`` (rows of every window stacked); None when the target has none."""
-    threshold = getattr(target, "curved_array_from_wall_mm", None)
-    if threshold is None:
-        return None
-    return np.concatenate([10.0 * np.asarray(s.wall_cm, dtype=float) >= threshold
-                           for s in stacks_list])
-
-
 def assess_batch(stacks: StackBatch, target, inventory) -> WindowBatch:
     """Reach ceilings, depth errors and probe choice of one window for N patients."""
     return assess_batches([stacks], target, inventory)[0]
@@ -268,9 +258,9 @@ def assess_batches(stacks_list: list[StackBatch], target, inventory) -> list[Win
     ceil_p, ceil_hp = probe_ceilings_mhz(terms_f, terms_h, budget_f, budget_h, probes)
     depth = np.concatenate([np.cumsum(a["thickness_cm"], axis=1)[:, -1] if a["thickness_cm"].shape[1]
                             else np.zeros(n) for a, n in zip(arrays, sizes)])     # as LayerStack
+    wall_mm = np.concatenate([10.0 * np.asarray(s.wall_cm, dtype=float) for s in stacks_list])
     pa = probe_arrays(probes, fit, depth, target.detail_mm, ceil_p, target.probe_types,
-                      getattr(target, "detail_depth_fraction", 1.0),
-                      curved_first_rows(stacks_list, target))
+                      target.detail_depth_fraction, target.curved_first(wall_mm))
     rows_all = np.arange(depth.size)
     col = np.maximum(pa.best, 0)
     window_ceiling = np.where(pool.any(axis=1), np.where(pool, ceil_p, -np.inf).max(axis=1),

@@ -90,7 +90,7 @@ def band_decision(ctx: RuleContext) -> tuple[FrequencyBand, list[Finding]]:
         summary = FrequencyBand(_r(opt.low_mhz), _r(opt.high_mhz), True, start, start_basis,
                                 floor_basis, **spread)
         where = (f" {a.stack.depth_cm * target.detail_depth_fraction:.1f} cm deep"
-                 if getattr(target, "detail_depth_fraction", 1.0) < 1.0 else "")
+                 if target.detail_depth_fraction < 1.0 else "")
         floor_text = (f"{target.detail_mm:g} mm detail{where} needs at least {opt.floor_mhz:.1f} MHz at "
                       f"F/{opt.f_number:.1f}" if floor_basis == "detail" else
                       f"{target.detail_mm:g} mm detail does not bind (it needs only "

@@ -60,8 +60,9 @@ class SpreadDriver:
     """One uncertain input and how much of the reach's spread it explains.
 
     ``reach_range_mhz`` is the 10th-90th centile of the reach now, ``known_range_mhz`` the same
-    with this input known (at its median); ``explains`` the share of the spread's variance
-    that knowing it removes; ``action`` what would pin it down.
+    with this input known (its linear share removed from the draws); ``explains`` the share
+    of the spread's variance that knowing it removes; ``action`` what would pin it down
+    (:func:`planner.engine.spread.plan_draws`).
     """
 
     input: str
@@ -251,6 +252,5 @@ class Plan:
     @property
     def target_title(self) -> str:
         """The target's name, with the side planned for a paired one ("Left kidney")."""
-        from planner.library.names import in_sentence
-        side = self.inputs.side if self.inputs is not None else None
-        return f"{side.capitalize()} {in_sentence(self.target.name)}" if side else self.target.name
+        from planner.library.names import sided_name
+        return sided_name(self.target.name, self.inputs.side if self.inputs is not None else None)

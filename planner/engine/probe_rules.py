@@ -13,9 +13,8 @@ LINEAR_TYPES: frozenset[str] = frozenset({"linear", "linear_hf"})
 
 def applies(ctx: RuleContext) -> bool:
     """A target whose practice changes to a curved array in larger patients, planned on one."""
-    return (ctx.target.curved_array_from_wall_mm is not None and ctx.option is not None
-            and ctx.option.probe.type == "curvilinear"
-            and 10.0 * ctx.stack.wall_cm >= ctx.target.curved_array_from_wall_mm)
+    return (ctx.option is not None and ctx.option.probe.type == "curvilinear"
+            and bool(ctx.target.curved_first(10.0 * ctx.stack.wall_cm)))
 
 
 def curved_for_habitus_findings(ctx: RuleContext) -> list[Finding]:

@@ -58,7 +58,7 @@ ATTENUATION_SIGMA_LOG = Sourced(
 """Log-normal s.d. of a person's path attenuation about the tabulated average. [-]"""
 
 BUDGET_SD_DB = Sourced(
-    3.0, "CommonPractice", "from_memory",
+    3.0, "CommonPractice", "common_practice",
     "sensitivity, preset and gain differ by a few dB between scanners; the default budget is "
     "not calibrated against a phantom")
 """s.d. of an uncalibrated round-trip budget. [dB]"""
@@ -131,14 +131,12 @@ class SpreadInputs:
     edge: np.ndarray
 
 
-def sampled_ceilings_mhz(inputs: SpreadInputs, known: tuple[str, ...] = (),
-                         z: np.ndarray | None = None) -> np.ndarray:
-    """Reach ceilings of every draw of every row (N, S); inputs named in ``known`` are held at
-    their median. [MHz]"""
+def sampled_ceilings_mhz(inputs: SpreadInputs, z: np.ndarray | None = None) -> np.ndarray:
+    """Reach ceilings of every draw of every row (N, S), for the draws ``z`` (S, len(INPUTS);
+    default :func:`normals`). [MHz]"""
     from planner.engine.reach import grouped_terms
     from planner.physics import aberration
     z = normals() if z is None else z
-    z = np.where(np.array([name in known for name in INPUTS])[None, :], 0.0, z)
     t = np.atleast_2d(np.asarray(inputs.thickness_cm, dtype=float))
     n_rows, s = t.shape[0], z.shape[0]
     wall_factor = np.exp(np.asarray(inputs.wall_sigma_log, dtype=float)[:, None] * z[None, :, 0])
@@ -171,16 +169,9 @@ def probability_reaching(ceilings: np.ndarray, frequencies_mhz) -> np.ndarray:
 
 
 def spread_range_mhz(ceilings: np.ndarray) -> tuple[float, float]:
-    """The 10th-90th centile of one row's draws (linear interpolation between order
-    statistics, as ``numpy.quantile``; read from one sort). [MHz]"""
-    x = np.sort(np.asarray(ceilings, dtype=float))
-    out = []
-    for q in (0.1, 0.9):
-        pos = q * (x.size - 1)
-        i = int(pos)
-        j = min(i + 1, x.size - 1)
-        out.append(float(x[i] + (pos - i) * (x[j] - x[i])))
-    return out[0], out[1]
+    """The 10th-90th centile of one row's draws. [MHz]"""
+    lo, hi = np.quantile(ceilings, [0.1, 0.9])
+    return float(lo), float(hi)
 
 
 def explained_share(full: np.ndarray, fixed: np.ndarray) -> float:

@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-__all__ = ["in_sentence"]
+__all__ = ["in_sentence", "sided_name"]
 
 _PROPER_NAME_WORDS = frozenset({"Achilles", "Crass"})
 """First words of target names that are proper names and keep their capital in a sentence."""
@@ -14,3 +14,8 @@ def in_sentence(name: str) -> str:
     if name.split(" ", 1)[0] in _PROPER_NAME_WORDS:
         return name
     return name[:1].lower() + name[1:]
+
+
+def sided_name(name: str, side: str | None) -> str:
+    """The name with the side of a paired structure ("Left kidney"); the name alone without one."""
+    return f"{side.capitalize()} {in_sentence(name)}" if side else name

@@ -161,6 +161,16 @@ class Target:
     """Depth of the structures that need ``detail_mm`` in an average patient, when shallower
     than ``typical_depth_cm`` (None: the whole depth). [cm]"""
 
+    def curved_first(self, wall_mm):
+        """True where a body wall of ``wall_mm`` (a number or an array) is a larger patient's,
+        from which practice takes a curved array before a linear one (False for every wall
+        when the target has no ``curved_array_from_wall_mm``). [mm]"""
+        import numpy as np
+        wall = np.asarray(wall_mm, dtype=float)
+        if self.curved_array_from_wall_mm is None:
+            return np.zeros(wall.shape, dtype=bool)
+        return wall >= self.curved_array_from_wall_mm
+
     @property
     def detail_depth_fraction(self) -> float:
         """Share of the target's depth at which the detail is judged (1: at the deepest part);

@@ -73,6 +73,7 @@ from planner.body.patient import Patient
 from planner.engine import Plan, PlanRequest, make_plan
 from planner.engine.plan import default_exam_context
 from planner.errors import DataError, InputError
+from planner.library.names import sided_name
 from planner.library.probes import ProbeInventory, load_inventory
 from planner.library.targets import load_library
 from planner.protocol.schema import Protocol, View
@@ -156,12 +157,6 @@ def _view_context(protocol: Protocol, view: View, target, window, patient: Patie
     request = PlanRequest(view.target, patient, window_id=view.window,
                           context_overrides={"exam_type": protocol.exam_type, "modes": modes})
     return default_exam_context(request, target, window)
-
-
-def _sided_name(name: str, side: str | None) -> str:
-    """"Left kidney" for a view with a side, else the target's name."""
-    from planner.library.names import in_sentence
-    return f"{side.capitalize()} {in_sentence(name)}" if side else name
 
 
 def build_sheet(protocol: Protocol, *, protocol_path: str | os.PathLike[str] | None = None,
@@ -259,7 +254,7 @@ def _plan_views(protocol: Protocol, classes: tuple[str, ...], inv_path: str | No
             rows.append(sheet_row(c, REPRESENTATIVE_BMI[c], memo[key], rows[-1] if rows else None))
         plots.append(memo[(view.target, view.window, plot_class, ctx)])
         views.append(SheetView(
-            view.id, view.title, NamedRef(target.id, _sided_name(target.name, view.side)),
+            view.id, view.title, NamedRef(target.id, sided_name(target.name, view.side)),
             NamedRef(window.id, window.name),
             view.position, view.position_note, view.breathing, view.expected_minutes,
             _probe_ref(inventory, view.probe or protocol.equipment.probe),

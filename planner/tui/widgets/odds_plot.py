@@ -15,11 +15,11 @@ from textual.containers import Vertical
 from textual.markup import escape
 from textual.widgets import Static
 
+from planner.engine.spread import INPUT_WORDS
+
 if TYPE_CHECKING:
     from planner.engine.model import FrequencyBand, Plan
 
-INPUT_WORDS = {"wall": "the body wall", "attenuation": "the path's attenuation",
-               "budget": "the signal budget"}
 UI_ACTIONS = {"wall": "measuring the wall (Wall mm) or the depth (Depth cm)",
               "attenuation": "the last exam's fade depth (Prior MHz, Prior cm)",
               "budget": "a phantom QA log for the probe"}
