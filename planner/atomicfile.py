@@ -19,12 +19,11 @@ Every failure is a :class:`planner.errors.PathError` with one line; a bare
 
 from __future__ import annotations
 
+import _thread
 import contextlib
 import errno
-import hashlib
 import os
 import re
-import threading
 import time
 from pathlib import Path
 
@@ -100,6 +99,7 @@ def _short(text: str, limit: int = 80) -> str:
 
 
 def _digest(target: Path) -> str:
+    import hashlib          # only when writing: it loads OpenSSL (about 4 ms)
     return hashlib.sha256(os.fsencode(target.name)).hexdigest()[:12]
 
 
@@ -173,7 +173,7 @@ def _stat(path: Path, target: Path):
         raise PathError(f"cannot write {_short(str(target))}: {_reason(exc)}") from None
 
 
-_UMASK_LOCK = threading.Lock()
+_UMASK_LOCK = _thread.allocate_lock()   # threading's Lock, without importing threading
 
 
 def _default_mode() -> int:

@@ -10,8 +10,10 @@ tool's plan is itself decision support, not the right answer.
 
 from __future__ import annotations
 
-from dataclasses import dataclass, fields
+from dataclasses import fields
 from typing import Any
+
+from planner.records import record
 
 __all__ = ["START_TOLERANCE_MHZ", "ChoiceRow", "StudentChoices", "compare_choices"]
 
@@ -20,7 +22,7 @@ START_TOLERANCE_MHZ = 0.05
 one decimal). [MHz] (common practice: rounding of the displayed value)"""
 
 
-@dataclass(frozen=True)
+@record(slots=False)
 class StudentChoices:
     """What the student decided (None or empty: not decided). ``start_mhz`` in MHz."""
 
@@ -41,7 +43,7 @@ class StudentChoices:
         return {f.name: getattr(self, f.name) for f in fields(self)}
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class ChoiceRow:
     """One decision: the tool's plan, the student's choice and the verdict."""
 

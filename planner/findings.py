@@ -9,9 +9,11 @@ for the explanation view and for student drafts.
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import field
 from collections.abc import Callable, Sequence
 from typing import Any, Generic, TypeVar
+
+from planner.records import record
 
 RELEVANCES: tuple[str, ...] = ("main", "more")
 """``main``: changes how this exam is done; ``more``: true but constant across plans or too
@@ -27,7 +29,7 @@ as planned will probably fail, or a safety limit is exceeded.
 """
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class Finding:
     """One explained result of a rule."""
 
@@ -69,7 +71,7 @@ def always(ctx: object) -> bool:
     return True
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class Rule(Generic[C]):
     """One registered rule: ``run(ctx) -> findings`` when ``applies(ctx)``.
 

@@ -8,12 +8,13 @@
 from __future__ import annotations
 
 import os
-from dataclasses import dataclass
 from typing import Any
+
+from planner.records import record
 
 __all__ = ["PlanDocument", "load_plan_document", "write_document"]
 
-@dataclass(frozen=True)
+@record(slots=False)
 class PlanDocument:
     """A loaded plan file.
 

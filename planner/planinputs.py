@@ -7,17 +7,18 @@ per-field problems. The engine is imported only when a request is made.
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import field
 from typing import Any
 
 from planner.choices import StudentChoices
 from planner.errors import InputError
+from planner.records import record
 
 __all__ = ["PlanInputs", "SignOff", "custom_context", "exam_context", "make_plan_for",
            "to_request"]
 
 
-@dataclass(frozen=True)
+@record(slots=False)
 class SignOff:
     """Sign-off fields of a supervised draft (free text kept as written; the supervisor's
     name, date and comments are printed only from a verified signature, :mod:`planner.signing`)."""
@@ -35,7 +36,7 @@ class SignOff:
                 "Student's reflection": self.student_reflection}
 
 
-@dataclass(frozen=True)
+@record(slots=False)
 class PlanInputs:
     """Everything a user enters for one plan (units in the names; None = not given)."""
 

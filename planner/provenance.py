@@ -16,13 +16,14 @@ Every value in scanplan's data tables and every constant in code carries a
 
 from __future__ import annotations
 
-from dataclasses import dataclass
 from typing import Any
+
+from planner.records import record
 
 STATUSES: tuple[str, ...] = ("verified", "from_memory", "common_practice", "derived")
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class Sourced:
     """A number (or short text) with its provenance.
 

@@ -23,10 +23,10 @@ import binascii
 import hashlib
 import json
 import os
-from dataclasses import dataclass
 from typing import Any, Callable
 
 from planner.errors import InputError
+from planner.records import record
 
 __all__ = ["Verification", "canonical_bytes", "generate_key", "key_id_of", "load_private_key",
            "load_trusted_keys", "sign_document", "verify_document"]
@@ -255,7 +255,7 @@ def sign_document(path: str | os.PathLike[str], key_path: str | os.PathLike[str]
     return section
 
 
-@dataclass(frozen=True)
+@record(slots=False)
 class Verification:
     """The result of checking a plan file's signature.
 

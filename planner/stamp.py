@@ -15,10 +15,10 @@ import functools
 import os
 import re
 import sys
-from dataclasses import dataclass
 from datetime import datetime, timezone
 
 from planner.errors import InputError
+from planner.records import record
 
 __all__ = ["FIXED_TIME_ENV", "Stamp", "current_stamp", "format_time", "parse_time",
            "tool_version"]
@@ -106,7 +106,7 @@ def now_text() -> str:
     return format_time(datetime.now(timezone.utc))
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class Stamp:
     """Which tool made an output, and when (UTC, ISO 8601, seconds, ``Z``)."""
 

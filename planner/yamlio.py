@@ -30,7 +30,7 @@ from __future__ import annotations
 
 import os
 from collections.abc import Mapping
-from dataclasses import dataclass, field
+from dataclasses import field
 from pathlib import Path
 from typing import Any
 
@@ -38,6 +38,7 @@ import yaml
 from yaml.nodes import MappingNode, SequenceNode
 
 from planner.errors import DataError, InputError
+from planner.records import record
 from planner.yaml_nodes import (KeyPath, NodeBuilder, check_events, format_key_path,
                                 line_col_of_offset, syntax_problem, where)
 
@@ -49,7 +50,7 @@ __all__ = [
 _LOADER = getattr(yaml, "CSafeLoader", yaml.SafeLoader)
 _DUMPER = getattr(yaml, "CSafeDumper", yaml.SafeDumper)
 
-@dataclass(frozen=True)
+@record(slots=False)
 class LoadedYaml:
     """A user YAML file, parsed to plain data, with the position of every key.
 

@@ -150,3 +150,34 @@ def _leaf(parser: argparse.ArgumentParser, path: tuple[str, ...]) -> argparse.Ar
         sub = next(a for a in parser._actions if isinstance(a, argparse._SubParsersAction))
         parser = sub.choices[name]
     return parser
+
+
+NOT_FOR_ONE_PLAN = ("numpy.ma", "numpy.random", "statistics", "decimal", "hashlib",
+                    "importlib.resources", "zipfile", "tempfile", "threading")
+"""Modules a plan never needs whose import was measured on its start-up path (numpy.ma alone
+about 12 ms, pulled in by ``numpy.unique`` and ``numpy.quantile`` in numpy 2.4)."""
+
+
+def test_one_plan_loads_none_of_the_modules_it_does_not_need():
+    """``scanplan plan --json`` keeps off the imports it was measured to pay for nothing:
+    the masked arrays and random generators of numpy, statistics (fractions, decimal),
+    OpenSSL's hashes, importlib.resources (zipfile, tempfile) and threading."""
+    loaded = loaded_after("import io, contextlib\nfrom planner.cli import main\n"
+                          "with contextlib.redirect_stdout(io.StringIO()):\n"
+                          "    main(['plan', '--target', 'liver', '--bmi', '38', '--json'])")
+    assert "planner.engine.spread" in loaded          # the plan (and its draws) really ran
+    assert [m for m in NOT_FOR_ONE_PLAN if m in loaded] == []
+
+
+def test_a_line_starting_with_a_command_skips_the_stand_in_parser(monkeypatch):
+    """The subcommand of ``scanplan plan ...`` is read off the line (argparse matches names
+    exactly); an option or an unknown word first still goes through argparse."""
+    import planner.cli as cli
+    built = []
+    real = cli.build_parser
+    monkeypatch.setattr(cli, "build_parser", lambda commands=None: built.append(commands) or real(commands))
+    assert cli._command(["plan", "--target", "liver"]) == "plan"
+    assert built == []
+    with pytest.raises(Exception):
+        cli._command(["plna"])                         # argparse: invalid choice
+    assert built == [()]

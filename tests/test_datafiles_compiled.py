@@ -35,9 +35,9 @@ def test_a_current_twin_is_read_without_yaml(monkeypatch):
 
 
 def test_a_stale_twin_is_never_used(monkeypatch):
-    """A twin whose hash does not match the YAML beside it is ignored: the YAML is read."""
+    """A twin whose checksum does not match the YAML beside it is ignored: the YAML is read."""
     calls = _count_yaml_parses(monkeypatch)
-    monkeypatch.setattr(datafiles, "_sha256", lambda text: "0" * 64)
+    monkeypatch.setattr(datafiles, "_digest", lambda text: "0" * 8)
     data = datafiles.load_package_yaml("probes.yaml")
     assert calls == [1]
     text = (datafiles._data_dir() / "probes.yaml").read_text(encoding="utf-8")

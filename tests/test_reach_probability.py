@@ -29,16 +29,36 @@ def test_a_single_layer_matches_the_log_normal_closed_form():
     """Worked example: narrowband loss 2 a f d = B gives f = B / (2 a d) = 60 / (2 x 0.5 x 5) =
     12 MHz for the median patient. With d and a log-normal (s.d. 0.3 and 0.262), ln f is normal
     with s.d. sqrt(0.3^2 + 0.262^2) = 0.398, so P(reach f) = Phi((ln 12 - ln f) / 0.398) and the
-    reach of 80 % of patients is 12 exp(-0.8416 x 0.398) = 8.6 MHz."""
+    reach of 80 % of patients is 12 exp(-0.8416 x 0.398) = 8.6 MHz.
+
+    Tolerances are three sampling s.d. of 128 stratified draws, measured over seeds 0-39:
+    the median 2.2 %, a share 0.025, the 80 % reach 3.0 %, and the s.d. of ln f 0.4 % (the
+    draws are stratified and de-correlated, so the spread itself is nearly exact; a wrong
+    composition such as the wall alone, 0.3, would be 25 % off)."""
     ceilings = spread.sampled_ceilings_mhz(_one_layer(0.3))[0]
     s = math.hypot(0.3, spread.ATTENUATION_SIGMA_LOG.value)
-    assert float(np.median(ceilings)) == pytest.approx(12.0, rel=0.03)
+    assert float(np.std(np.log(ceilings))) == pytest.approx(s, rel=0.03)
+    assert float(np.median(ceilings)) == pytest.approx(12.0, rel=0.07)
     for f in (6.0, 9.0, 12.0, 15.0, 20.0):
         expected = _phi((math.log(12.0) - math.log(f)) / s)
         got = float(spread.probability_reaching(ceilings, [f])[0])
-        assert got == pytest.approx(expected, abs=0.04), f
+        assert got == pytest.approx(expected, abs=0.075), f
     assert float(spread.robust_reach_mhz(ceilings)) == pytest.approx(
-        12.0 * math.exp(-0.8416 * s), rel=0.05)
+        12.0 * math.exp(-0.8416 * s), rel=0.09)
+
+
+def test_the_draws_keep_their_strata_and_are_independent():
+    """Each column holds the 128 normal quantiles at (i + 1/2) / 128 (statistics.NormalDist is
+    the reference), and the columns' sample correlations are near 0 (Iman & Conover 1982
+    restricted pairing; random pairing leaves about 1 / sqrt(128) = 0.09)."""
+    from statistics import NormalDist
+    z = spread.normals()
+    strata = np.array([NormalDist().inv_cdf((i + 0.5) / spread.SAMPLES)
+                       for i in range(spread.SAMPLES)])
+    for column in z.T:
+        assert np.sort(column) == pytest.approx(strata, abs=1e-12)
+    corr = np.corrcoef(z, rowvar=False)
+    assert np.abs(corr - np.eye(len(spread.INPUTS))).max() < 0.03
 
 
 def test_a_known_input_removes_its_share_of_the_spread():

@@ -6,13 +6,13 @@ Every number carries its provenance.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
 
 from planner.errors import InputError
 from planner.provenance import Sourced
+from planner.records import record
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class ConditionSpec:
     """A condition a user may state: grades allowed and the default grade."""
 

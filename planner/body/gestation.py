@@ -23,7 +23,7 @@ Sources
 
 from __future__ import annotations
 
-from dataclasses import dataclass, replace
+from dataclasses import replace
 from functools import lru_cache
 from typing import Any
 
@@ -33,6 +33,7 @@ from planner.datafiles import package_data
 from planner.errors import InputError
 from planner.physics.tissues import Tissue, get_tissue
 from planner.provenance import Sourced
+from planner.records import record
 
 __all__ = ["GROWTH_ROLES", "GestationRange", "GestationUse", "ac_mm", "amniotic_scale",
            "bpd_mm", "crl_mm", "fetal_skull_tissue", "fl_mm", "fundal_height_cm",
@@ -188,7 +189,7 @@ def grown_thickness_cm(role: str, base_cm: float, weeks: float) -> float:
     return base_cm if ratio is None else base_cm * max(float(ratio()), 0.05)
 
 
-@dataclass(frozen=True)
+@record(slots=False)
 class GestationRange:
     """The gestational range of one obstetric view.
 
@@ -224,7 +225,7 @@ def gestation_range(target_id: str) -> GestationRange | None:
                           None if nt is None else _sourced(nt))
 
 
-@dataclass(frozen=True)
+@record(slots=False)
 class GestationUse:
     """The gestation a plan's geometry uses.
 

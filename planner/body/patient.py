@@ -3,11 +3,12 @@
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, field
+from dataclasses import field
 
 from planner.body.conditions import check_conditions
 from planner.body.habitus import bmi_from_height_weight, check_sex, who_bmi_class
 from planner.errors import InputError
+from planner.records import record
 
 DEFAULT_BMI: float = 25.0
 """BMI assumed when none is given (the body model's reference habitus). [kg/m^2]"""
@@ -23,7 +24,7 @@ def _optional_positive(name: str, value, upper: float) -> float | None:
     return float(value)
 
 
-@dataclass(frozen=True)
+@record(slots=False)
 class Patient:
     """Habitus and conditions of one patient.
 

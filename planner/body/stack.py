@@ -8,7 +8,7 @@ displayed depths come from :mod:`planner.physics.sound_speed`.
 
 from __future__ import annotations
 
-from dataclasses import dataclass, replace
+from dataclasses import replace
 
 import numpy as np
 
@@ -20,13 +20,14 @@ from planner.body.patient import Patient
 from planner.body.walls import PANNUS_BMI, WallModel, load_wall_models, pannus_fat_mm, \
     wall_layers_band_mm
 from planner.physics.tissues import Tissue, get_tissue
+from planner.records import record
 
 FAT_ROLES = frozenset({"subcutaneous_fat", "preperitoneal_fat", "perirenal_fat", "fossa_fat"})
 PREGNANCY_LATE_FAT_FACTOR = 0.9
 """Fat factor from 28 weeks when BMI >= 25 (Kennedy2012 longitudinal; derived)."""
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class Layer:
     """One layer of a stack."""
 
@@ -36,7 +37,7 @@ class Layer:
     label: str
 
 
-@dataclass(frozen=True)
+@record(slots=False)
 class LayerStack:
     """The layers from the skin to the target through one window.
 
@@ -185,7 +186,7 @@ def measured_wall_ratio(model: WallModel, patient: Patient, wall_factor: float, 
     return np.where(fat > 0, patient.fat_mm / np.where(fat > 0, fat, 1.0), 1.0)
 
 
-@dataclass(frozen=True)
+@record(slots=False)
 class StackBatch:
     """The stacks of one window for N patients who differ in BMI and measured depth.
 

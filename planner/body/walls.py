@@ -13,7 +13,7 @@ FemoralDepth2009, Tonnesen1975, SCDThresholds (per layer; see the data file).
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import field
 from functools import lru_cache
 from typing import Any
 
@@ -21,12 +21,13 @@ import numpy as np
 
 from planner.datafiles import package_data
 from planner.provenance import Sourced
+from planner.records import record
 
 BMI_MODEL_RANGE: tuple[float, float] = (17.0, 60.0)
 """BMI range the wall model is fitted over; inputs outside it are clipped and flagged. [kg/m^2]"""
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class WallLayerModel:
     """One layer of a wall model; a/b are (female, male) pairs. [mm, mm per kg/m^2]"""
 
@@ -39,7 +40,7 @@ class WallLayerModel:
     provenance: Sourced
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class WallModel:
     """A body-wall model: ordered layers from the skin inwards."""
 

@@ -75,7 +75,13 @@ def _command(argv: list[str]) -> str | None:
     """The subcommand argparse will run for ``argv`` (None: none given), read against the
     stand-in parser so that no subcommand module loads (``--version`` and ``-h`` exit here).
 
-    Without a subcommand, anything else on the line is a usage error, as argparse says it."""
+    Without a subcommand, anything else on the line is a usage error, as argparse says it.
+
+    A line that starts with a subcommand's name is that subcommand (the top-level parser has
+    no option that takes a value, and argparse matches subcommand names exactly), so the
+    stand-in parser is built only for lines that start with an option or an unknown word."""
+    if argv and argv[0] in COMMANDS:
+        return argv[0]
     parser = build_parser(())
     namespace, extras = parser.parse_known_args(argv)
     if namespace.command is None and extras:

@@ -6,7 +6,7 @@ Every number comes from :mod:`planner.physics`; this module only arranges the in
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, field
+from dataclasses import field
 
 import numpy as np
 
@@ -16,9 +16,11 @@ from planner.engine.batch import (FIT_CODES, STRONG_TISSUES, WindowBatch, assess
 from planner.library.probes import Probe, ProbeInventory
 from planner.library.targets import Window
 from planner.physics import aberration, beam, broadband
+from planner.physics.arrays import distinct
+from planner.records import record
 
 
-@dataclass(frozen=True)
+@record(slots=False)
 class ProbeOption:
     """How one probe performs through one window."""
 
@@ -38,7 +40,7 @@ class ProbeOption:
         return self.probe.low_mhz, max(self.probe.low_mhz, self.high_mhz)
 
 
-@dataclass(frozen=True)
+@record(slots=False)
 class WindowAssessment:
     """Everything the rules need about one window."""
 
@@ -105,7 +107,7 @@ def prime_losses(assessments, frequency_mhz: float) -> None:
         if "terms" not in a.memo:
             a.memo["terms"] = grouped_terms(a.arrays, a.sigma_ns)
         terms.append(a.memo["terms"])
-    exps = np.unique(np.concatenate([y for _, y in terms]))
+    exps = distinct(np.concatenate([y for _, y in terms]))
     k = np.zeros((len(todo), exps.size))
     for i, (ki, yi) in enumerate(terms):
         k[i, np.searchsorted(exps, yi)] = ki

@@ -9,7 +9,6 @@ same probe choice and the same feasibility test. Every number comes from
 
 from __future__ import annotations
 
-from dataclasses import dataclass
 from functools import lru_cache
 
 import numpy as np
@@ -22,6 +21,7 @@ from planner.library.probes import Probe
 from planner.physics import aberration, attenuation, beam, broadband, sound_speed
 from planner.physics.constants import (HARMONIC_CONVERSION_LOSS_DB, SIGNAL_BUDGET_DIFFUSE_DB,
                                        SPECULAR_ALLOWANCE_DB)
+from planner.records import record
 
 STRONG_TISSUES = frozenset({"cortical_bone", "cartilage", "tendon", "lung", "air"})
 """Target tissues whose decisive echo is a strong specular interface (bone surfaces, fibrillar
@@ -66,7 +66,7 @@ def choice_pool(probes, fit: np.ndarray, usual_types) -> np.ndarray:
     return np.where(usual.any(axis=1, keepdims=True), usual, available)
 
 
-@dataclass(frozen=True)
+@record(slots=False)
 class ProbeArrays:
     """How every probe of an inventory performs through one window, for N patients.
 
@@ -138,18 +138,22 @@ def probe_arrays(probes, window, depth_cm, detail_mm: float, ceiling_mhz,
     high = np.broadcast_to(np.minimum(p_high, ceiling), fit.shape)
     low = np.maximum(p_low, floor)
     feasible = (fit <= 1) & (high >= p_low) & (low <= high)
-    best = choose_probe_index(probes, fit, feasible, high, list(preferred), curved_first)
+    best = choose_probe_index(probes, fit, feasible, high, list(preferred), curved_first,
+                              floor_mhz=np.broadcast_to(floor, fit.shape))
     return ProbeArrays(probes, fit, floor, low, high, f_num, feasible, best)
 
 
 def choose_probe_index(probes, fit: np.ndarray, feasible: np.ndarray, high_mhz: np.ndarray,
-                       preferred: list[str], curved_first=None) -> np.ndarray:
+                       preferred: list[str], curved_first=None, floor_mhz=None) -> np.ndarray:
     """The probe a sonographer would pick, for N patients at once: index per row, -1 for none.
 
     Only the target's usual probe types are considered when the inventory has any of them
     (a linear array is not a cardiac probe, however well it reaches; :func:`choice_pool`);
     among them a usable footprint comes first, then a band that gives the needed detail, then
-    one that reaches at all, then the usual order (or, when nothing reaches, the most
+    one that reaches at all, then (when none gives the detail) the one that comes closest to
+    it: the lowest ratio of its detail floor to its reachable top, ``floor_mhz`` (N, P), to
+    0.01, so that the choice does not flip between probes as the target deepens past what
+    any probe resolves; then the usual order (or, when nothing reaches, the most
     penetrating probe: the lowest band), then a clean footprint fit, then the highest
     reachable frequency. The keys are compared in that order (lexicographic minimum per row).
     Where ``curved_first`` (N,) is True (a larger patient: the wall at the window is at least
@@ -164,7 +168,14 @@ def choose_probe_index(probes, fit: np.ndarray, feasible: np.ndarray, high_mhz: 
         curved = np.array([t == "curvilinear" for t in types], dtype=bool)[None, :]
         pref = np.where(np.asarray(curved_first, dtype=bool)[:, None] & curved, -1.0, pref)
     reaches = high_mhz >= p_low
-    keys = [~(fit <= 1), ~feasible, ~reaches, np.where(reaches, pref, p_low), fit != 0, -high_mhz]
+    if floor_mhz is None:
+        short = np.zeros(feasible.shape)
+    else:
+        with np.errstate(divide="ignore", invalid="ignore"):
+            ratio = np.asarray(floor_mhz, dtype=float) / np.asarray(high_mhz, dtype=float)
+        short = np.where(feasible, 1.0, np.round(np.nan_to_num(ratio, nan=np.inf), 2))
+    keys = [~(fit <= 1), ~feasible, ~reaches, short, np.where(reaches, pref, p_low), fit != 0,
+            -high_mhz]
     alive = pool.copy()
     for key in keys:
         k = np.where(alive, key.astype(float), np.inf)
@@ -172,7 +183,7 @@ def choose_probe_index(probes, fit: np.ndarray, feasible: np.ndarray, high_mhz: 
     return np.where(pool.any(axis=1), np.argmax(alive, axis=1), -1)
 
 
-@dataclass(frozen=True)
+@record(slots=False)
 class WindowBatch:
     """One window assessed for N patients (arrays of shape (N,) unless stated)."""
 

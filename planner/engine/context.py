@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-from dataclasses import dataclass
 from typing import TYPE_CHECKING
 
 from planner.body.patient import Patient
@@ -11,12 +10,13 @@ from planner.engine.assess import ProbeOption, WindowAssessment
 from planner.findings import Finding
 from planner.library.probes import ProbeInventory
 from planner.library.targets import Target, Window
+from planner.records import record
 
 if TYPE_CHECKING:
     from planner.engine.model import FrequencyBand, HarmonicDecision, TiltDecision
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class Decisions:
     """The typed deciders' results and the findings that explain them."""
 
@@ -28,7 +28,7 @@ class Decisions:
     tilt_findings: tuple[Finding, ...]
 
 
-@dataclass(frozen=True)
+@record(slots=False)
 class RuleContext:
     """Inputs of the rules. ``chosen`` is the window the plan recommends (or the user chose);
     ``decisions`` holds the deciders' results once they have run."""

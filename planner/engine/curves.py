@@ -25,19 +25,21 @@ from __future__ import annotations
 
 import math
 
-from dataclasses import dataclass, field
+from dataclasses import field
 from typing import Sequence
 
 import numpy as np
 
 from planner.physics import aberration, broadband
+from planner.physics.arrays import distinct
 from planner.physics.interfaces import intensity_transmission_normal
+from planner.records import record
 
 PROFILE_POINTS: int = 81
 """Evenly spaced sample depths of a plan's curves (layer boundaries are added exactly)."""
 
 
-@dataclass(frozen=True)
+@record(slots=False)
 class LayerAcoustics:
     """The acoustic properties of one layer that the loss profile needs.
 
@@ -64,7 +66,7 @@ class LayerAcoustics:
     """True for body-wall fat and muscle (the phase screen, :mod:`planner.physics.aberration`)."""
 
 
-@dataclass(frozen=True)
+@record(slots=False)
 class LossProfile:
     """Round-trip loss against depth for a few frequencies.
 
@@ -157,7 +159,7 @@ def loss_profile(layers: Sequence[LayerAcoustics], frequencies_mhz: Sequence[flo
         raise ValueError("the layers add up to zero depth")
     tops = np.concatenate(([0.0], np.cumsum(thick)[:-1]))
     bottoms = tops + thick
-    depth = np.unique(np.concatenate((np.linspace(0.0, total, points), bottoms)))
+    depth = distinct(np.concatenate((np.linspace(0.0, total, points), bottoms)))
     crossed = np.clip(depth[:, None] - tops[None, :], 0.0, thick[None, :])       # (n_z, n_layers)
     k = 2.0 * crossed * np.array([lay.attenuation_db_per_cm_mhz for lay in layers])[None, :]
     wall = np.array([lay.aberrating for lay in layers], dtype=bool)
@@ -233,7 +235,7 @@ def stack_acoustics(stack) -> list[LayerAcoustics]:
             for lay in stack.layers]
 
 
-@dataclass(frozen=True)
+@record(slots=False)
 class DepthCurves:
     """The curves a plan carries: its chosen window's layers, the frequencies to compare and the
     budget, fixed by the engine; the loss is sampled when a view first draws it (cached).

@@ -6,11 +6,13 @@ losses in dB round trip. Field metadata ``omit_none=True`` leaves a None out of 
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import field
 from typing import Any
 
+from planner.records import record
 
-@dataclass(frozen=True, slots=True)
+
+@record
 class SourcedValue:
     """A published or assumed value with its source key and status."""
 
@@ -19,7 +21,7 @@ class SourcedValue:
     status: str
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class ExpectedRange:
     """Expected velocity range of the vessel. [cm/s]"""
 
@@ -27,7 +29,7 @@ class ExpectedRange:
     high: SourcedValue
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class Threshold:
     """A diagnostic velocity threshold the plan must show unaliased. [cm/s]"""
 
@@ -37,7 +39,7 @@ class Threshold:
     status: str
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class VesselSummary:
     """Expected flow of the vessel target, each value with source and status."""
 
@@ -55,7 +57,7 @@ class VesselSummary:
     diameter_mm: SourcedValue
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class DopplerFrequency:
     """A candidate Doppler frequency and its round-trip loss against the Doppler budget."""
 
@@ -64,7 +66,7 @@ class DopplerFrequency:
     within_budget: bool
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class NyquistCell:
     """Nyquist velocity limit at one frequency and angle. [cm/s]"""
 
@@ -73,7 +75,7 @@ class NyquistCell:
     v_max_cm_s: float
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class DopplerSetting:
     """The recommended frequency and angle, and how to reach the angle."""
 
@@ -87,7 +89,7 @@ class DopplerSetting:
     how: str
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class VelocityCheck:
     """A velocity the plan must show, and whether it aliases. [cm/s]"""
 
@@ -98,7 +100,7 @@ class VelocityCheck:
     aliases: bool
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class AliasMargin:
     """Design velocity against the Nyquist limit. [cm/s]; ratio [-]"""
 
@@ -108,7 +110,7 @@ class AliasMargin:
     ratio: float
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class Remedy:
     """One remedy for aliasing, re-computed with the change applied (None limit: no range limit)."""
 
@@ -122,7 +124,7 @@ class Remedy:
     extra_gates_cm: tuple[float, ...] | None = field(default=None, metadata={"omit_none": True})
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class VelocityError:
     """Velocity error for a +/-5 deg angle error (None where undefined). [%]"""
 
@@ -130,7 +132,7 @@ class VelocityError:
     minus_5_deg: float | None
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class DopplerSafety:
     """Modes the Doppler plan uses and whether bone lies near the gate."""
 
@@ -139,7 +141,7 @@ class DopplerSafety:
     note: str
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class DopplerPlan:
     """Doppler plan of a vessel target at the chosen window."""
 

@@ -15,7 +15,7 @@ ClutterToBloodRatio (blood echoes 20-60 dB below tissue); Park2016GelPad (caroti
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, replace
+from dataclasses import replace
 from typing import Any, Callable
 
 import numpy as np
@@ -31,6 +31,7 @@ from planner.physics import doppler
 from planner.physics.constants import ANGLE_LIMIT_VELOCITY_DEG
 from planner.engine.doppler_rules import DOPPLER_BUDGET_DB, DOPPLER_RULES, DopplerContext
 from planner.provenance import Sourced
+from planner.records import record
 
 __all__ = ["CW_PROBE_TYPES", "DOPPLER_BUDGET_DB", "DOPPLER_PLAN_MODES", "POLICIES", "Vessel",
            "_parse_vessel", "doppler_frequencies_mhz", "load_vessels", "plan_angle", "plan_doppler"]
@@ -87,7 +88,7 @@ def _vmax(depth_cm: float, f_mhz: float, angle_deg: float) -> float:
     return float(doppler.max_velocity_at_depth_cm_s(depth_cm, f_mhz, angle_deg))
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class AngleAim:
     """The beam-to-flow angle to aim for and how to reach it. [deg]"""
 

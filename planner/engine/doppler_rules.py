@@ -7,7 +7,6 @@ runs. Every number comes from the Doppler plan, itself computed by :mod:`planner
 
 from __future__ import annotations
 
-from dataclasses import dataclass
 from typing import Any, Callable
 
 from planner.engine.doppler_model import DopplerPlan, Remedy
@@ -16,6 +15,7 @@ from planner.findings import Finding, RuleRegistry
 from planner.physics import doppler
 from planner.physics.constants import ANGLE_LIMIT_VELOCITY_DEG
 from planner.provenance import Sourced
+from planner.records import record
 
 DOPPLER_BUDGET_DB = Sourced(
     40.0, "CommonPractice", "common_practice",
@@ -26,7 +26,7 @@ DOPPLER_BUDGET_DB = Sourced(
 
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class DopplerContext:
     """Inputs of the Doppler rules: the vessel and its plan (None without vessel data), the
     frequencies within the Doppler budget, every candidate frequency and the path loss. [MHz, dB]"""

@@ -8,11 +8,12 @@ leaves the key out of the JSON when the value is None. Units are in the field na
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import field
 
 from planner.engine.curves import DepthCurves
 from planner.engine.doppler_model import DopplerPlan
 from planner.findings import Finding
+from planner.records import record
 from planner.safety.validity import ValidityFlag
 
 SCHEMA_VERSION = 1
@@ -23,7 +24,7 @@ HARMONIC_BASES: tuple[str, ...] = ("advised", "contraindicated", "no_harmonic_mo
 """Why harmonic imaging is or is not advised (:attr:`HarmonicDecision.basis`)."""
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class TargetSummary:
     """The target of the plan."""
 
@@ -34,7 +35,7 @@ class TargetSummary:
     detail_mm: float
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class PatientSummary:
     """The patient as the plan saw them (BMI rounded to 0.1 kg/m^2)."""
 
@@ -47,7 +48,7 @@ class PatientSummary:
     gestation_weeks: float | None
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class ReachPoint:
     """How likely a transmit frequency is to reach the target in a patient like this one."""
 
@@ -55,7 +56,7 @@ class ReachPoint:
     probability: float
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class SpreadDriver:
     """One uncertain input and how much of the reach's spread it explains.
 
@@ -72,7 +73,7 @@ class SpreadDriver:
     action: str
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class FrequencyBand:
     """Recommended band [floor, reach ceiling] on the chosen probe and the frequency to start
     at; None when no probe. [MHz]
@@ -102,7 +103,7 @@ class FrequencyBand:
     """The uncertain inputs, most of the spread first (:mod:`planner.engine.spread`)."""
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class TransmitBand:
     """Transmit band of harmonic imaging. [MHz]"""
 
@@ -110,7 +111,7 @@ class TransmitBand:
     high: float
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class HarmonicDecision:
     """Whether harmonic imaging is advised, why in words, and why as a typed basis."""
 
@@ -120,7 +121,7 @@ class HarmonicDecision:
     transmit_mhz: TransmitBand | None = field(default=None, metadata={"omit_none": True})
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class ProbeSummary:
     """The chosen probe: id, label, type, footprint fit and its band. [MHz]"""
 
@@ -131,7 +132,7 @@ class ProbeSummary:
     band_mhz: tuple[float, float]
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class WindowBand:
     """Band shown for one window. [MHz]"""
 
@@ -139,7 +140,7 @@ class WindowBand:
     high: float
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class WindowSummary:
     """One assessed window, ranked (loss at a common reference frequency)."""
 
@@ -164,14 +165,14 @@ class WindowSummary:
         return f"{self.name} (adjunct)" if self.adjunct else self.name
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class ChosenWindow(WindowSummary):
     """The window the plan recommends, with its notes."""
 
     notes: str = ""
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class TiltDecision:
     """Specular tilt tolerance (None for diffuse targets) and handling advice. [deg]"""
 
@@ -181,7 +182,7 @@ class TiltDecision:
     advice: str
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class DisplayDecision:
     """Display depth and focal depth on the scanner's 1540 m/s scale. [cm]"""
 
@@ -190,7 +191,7 @@ class DisplayDecision:
     note: str
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class PlanLayer:
     """One layer of the chosen window's stack, skin first."""
 
@@ -204,7 +205,7 @@ class PlanLayer:
     impedance_mrayl: float
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class InputsSummary:
     """What the plan was asked for: target, forced window, exam type, probe and policy files."""
 
@@ -217,7 +218,7 @@ class InputsSummary:
     """``"left"`` or ``"right"`` for a paired target; None for an unpaired one."""
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class Plan:
     """A complete plan for one patient and one target (JSON: :mod:`planner.engine.serialize`)."""
 

@@ -16,13 +16,14 @@ model allows) or more than :data:`SCALE_MAX` is refused with one line.
 
 from __future__ import annotations
 
-from dataclasses import dataclass, replace
+from dataclasses import replace
 
 import numpy as np
 
 from planner.errors import InputError
 from planner.physics import broadband
 from planner.physics.constants import SIGNAL_BUDGET_DIFFUSE_DB
+from planner.records import record
 
 __all__ = ["SCALE_MAX", "SCALE_MIN", "PriorCalibration", "organ_columns", "fade_depth_cm",
            "fade_loss_db", "prior_pair", "prior_problems", "scale_layers", "solve_prior"]
@@ -69,7 +70,7 @@ def prior_problems(frequency_mhz: float | None, fade_cm: float | None) -> dict[s
             if v is not None and (not math.isfinite(v) or v <= 0)}
 
 
-@dataclass(frozen=True)
+@record(slots=False)
 class PriorCalibration:
     """The solved scale and what it implies (units in the names)."""
 

@@ -38,6 +38,7 @@ from planner.library.probes import ProbeInventory
 from planner.library.qa_log import QaEntry, QaLog
 from planner.physics import phantom
 from planner.physics.constants import BANDWIDTH_FRACTION_DEFAULT, SIGNAL_BUDGET_DIFFUSE_DB
+from planner.records import record
 
 __all__ = ["IMPLAUSIBLE_FRACTION", "QA_ACTION_CM", "MeasurementQa", "ProbeQa", "QaReport",
            "apply_qa", "calibrated_inventory", "qa_report"]
@@ -54,7 +55,7 @@ QA_SOURCES: tuple[str, ...] = ("IEC61391", "IEC61391DOP", "Goodsitt1998", "Servi
                                 "PhantomUserGuideDOP", "Derived")
 
 
-@dataclass(frozen=True)
+@record(slots=False)
 class MeasurementQa:
     """One measurement with the budget it implies and what the checks say about it."""
 
@@ -67,7 +68,7 @@ class MeasurementQa:
     flags: tuple[str, ...] = ()
 
 
-@dataclass(frozen=True)
+@record(slots=False)
 class ProbeQa:
     """One probe's QA history and its derived budget (None: no usable measurement)."""
 
@@ -94,7 +95,7 @@ class ProbeQa:
         return self.sessions[0][2] - self.sessions[-1][2]
 
 
-@dataclass(frozen=True)
+@record(slots=False)
 class QaReport:
     """Every probe of a QA log, in order of first appearance."""
 

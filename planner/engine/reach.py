@@ -12,6 +12,7 @@ import numpy as np
 
 from planner.body.stack import FAT_ROLES, StackBatch
 from planner.physics import aberration, attenuation, broadband, ceiling
+from planner.physics.arrays import distinct
 from planner.physics.constants import SIGNAL_BUDGET_DIFFUSE_DB
 
 ABERRATING_ROLES = FAT_ROLES | {"muscle"}
@@ -76,7 +77,7 @@ def joint_terms(arrays: list[dict], sigma_ns: np.ndarray, harmonic: bool = False
         start += n
     if len(parts) == 1:
         return parts[0]
-    exps = np.unique(np.concatenate([y for _, y in parts]))
+    exps = distinct(np.concatenate([y for _, y in parts]))
     out = np.zeros((sum(sizes), exps.size))
     start = 0
     for (k, y), n in zip(parts, sizes):

@@ -2,13 +2,14 @@
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field, replace
+from dataclasses import field, replace
 
 from planner.body.patient import Patient
+from planner.records import record
 from planner.safety import ExamContext
 
 
-@dataclass(frozen=True)
+@record(slots=False)
 class PlanRequest:
     """All inputs of one plan.
 

@@ -10,7 +10,7 @@ see at which habitus a probe or a window stops working; ``scanplan sweep`` print
 
 from __future__ import annotations
 
-from dataclasses import dataclass, replace
+from dataclasses import replace
 
 import numpy as np
 
@@ -25,6 +25,7 @@ from planner.engine.request import (PlanRequest, exam_type_of, patient_for_exam,
 from planner.errors import InputError
 from planner.library.probes import ProbeInventory, default_inventory, load_inventory
 from planner.library.targets import load_library
+from planner.records import record
 
 REFERENCE_FREQUENCY_MHZ: float = 3.5
 """Frequency at which windows are compared when none is feasible (common practice). [MHz]"""
@@ -87,7 +88,7 @@ def sweep(target_id: str, bmi, *, window_id: str | None = None, sex: str | None 
             "high_mhz": pa.high_mhz[rows, col], "feasible": pa.feasible[rows, col] & stacks.valid}
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class SweepRow:
     """The headline of one plan in a sweep (as ``make_plan`` would give it)."""
 

@@ -6,7 +6,6 @@ problem of the file at once.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
 from functools import lru_cache
 from typing import Any
 
@@ -14,6 +13,7 @@ from planner.datafiles import load_package_yaml
 from planner.engine.doppler_model import ExpectedRange, SourcedValue, Threshold, VesselSummary
 from planner.errors import DataError
 from planner.provenance import Sourced, sourced_from_mapping
+from planner.records import record
 
 POLICIES = ("corrected", "zero", "indices")
 _RANGES = {"normal_low_cm_s": (0, 500), "normal_high_cm_s": (0, 500), "low_flow_below_cm_s": (0, 500),
@@ -28,7 +28,7 @@ def _item(rec: Sourced) -> SourcedValue:
     return SourcedValue(rec.value, rec.source, rec.status)
 
 
-@dataclass(frozen=True)
+@record(slots=False)
 class Vessel:
     """Expected flow and Doppler geometry of one vessel target (velocities in cm/s)."""
 

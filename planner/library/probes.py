@@ -14,18 +14,18 @@ pulse-echo spectrum; default 0.6). The default inventory's geometry is typical o
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
 from functools import lru_cache
 from pathlib import Path
 
 from planner.datafiles import load_package_yaml, vocabulary
 from planner.errors import InputError
 from planner.physics.constants import BANDWIDTH_FRACTION_DEFAULT
+from planner.records import record
 
 PROBE_TYPES: tuple[str, ...] = vocabulary()["probe_types"]
 """Probe families (``planner/data/vocabulary.yaml``)."""
 
-@dataclass(frozen=True, slots=True)
+@record
 class Probe:
     """One transducer of an inventory (units in the names)."""
 
@@ -57,7 +57,7 @@ class Probe:
         return math.sqrt(self.low_mhz * self.high_mhz)
 
 
-@dataclass(frozen=True)
+@record(slots=False)
 class ProbeInventory:
     """An ordered set of probes, with where it came from."""
 

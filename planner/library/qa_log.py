@@ -9,13 +9,14 @@ from __future__ import annotations
 
 import datetime
 import os
-from dataclasses import dataclass
 from pathlib import Path
+
+from planner.records import record
 
 __all__ = ["QaEntry", "QaLog", "load_qa_log"]
 
 
-@dataclass(frozen=True)
+@record(slots=False)
 class QaEntry:
     """One measurement (units in the names); ``index`` and ``line`` locate it in the file."""
 
@@ -31,7 +32,7 @@ class QaEntry:
     note: str = ""
 
 
-@dataclass(frozen=True)
+@record(slots=False)
 class QaLog:
     """A checked QA log: its entries in file order and where it came from."""
 

@@ -19,7 +19,7 @@ read without checks at run time.
 from __future__ import annotations
 
 import difflib
-from dataclasses import dataclass, field
+from dataclasses import field
 from functools import lru_cache
 from pathlib import Path
 from typing import Iterator
@@ -32,6 +32,7 @@ from planner.library.vocab import (BONE_WALLS, CURVATURES, ENDOCAVITARY_WALLS, E
                                    INTERCOSTAL_WALLS, LAYER_ROLES, ORIENTATIONS, REFLECTORS,
                                    REGIONS, RISK_LEVELS, SURFACE_REFLECTORS, WALL_MODEL_IDS)
 from planner.provenance import Sourced
+from planner.records import record
 
 __all__ = [
     "BONE_WALLS", "CURVATURES", "ENDOCAVITARY_WALLS", "EXAM_TYPES", "INTERCOSTAL_WALLS",
@@ -44,7 +45,7 @@ __all__ = [
 SCHEMA_VERSION: int = 1
 """The ``schema_version`` a target library file must declare."""
 
-@dataclass(frozen=True, slots=True)
+@record
 class PathLayer:
     """One organ layer between the body wall and the deepest point of the target.
 
@@ -60,7 +61,7 @@ class PathLayer:
     """The structure this layer stands for when its tissue is a stand-in ("myometrium")."""
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class Surface:
     """A surface of interest of a target.
 
@@ -78,7 +79,7 @@ class Surface:
     provenance: dict[str, Sourced] = field(default_factory=dict, hash=False, repr=False)
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class Window:
     """A candidate acoustic window of one target.
 
@@ -124,7 +125,7 @@ class Window:
         return self.rib_gap_mm is not None
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class Target:
     """A structure to be examined, with its candidate windows (usual window first).
 
@@ -216,7 +217,7 @@ class Target:
         return tuple(sorted({record.source for record in records}))
 
 
-@dataclass(frozen=True)
+@record(slots=False)
 class TargetLibrary:
     """All targets of a library file, in file order."""
 

@@ -38,6 +38,7 @@ from functools import lru_cache
 import numpy as np
 
 from planner.physics._checks import non_negative as _non_negative, positive as _positive
+from planner.physics.arrays import distinct
 
 DB_ENERGY: float = 10.0 / np.log(10.0)
 """Decibels per neper of energy, 10 / ln 10. [dB] (identity)"""
@@ -127,7 +128,7 @@ def group_exponents(k, y):
     shape = np.broadcast_shapes(k.shape, y.shape)
     k = np.broadcast_to(k, shape)
     y = np.broadcast_to(y, shape)
-    exps = np.unique(y)
+    exps = distinct(y)
     grouped = np.stack([np.where(y == e, k, 0.0).sum(axis=-1) for e in exps], axis=-1)
     return grouped, exps
 

@@ -12,18 +12,19 @@ See the ``source`` of every value (keys of :data:`planner.references.REFERENCES`
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import field
 from functools import lru_cache
 
 from planner.datafiles import load_package_yaml
 from planner.provenance import Sourced, sourced_from_mapping
+from planner.records import record
 
 TISSUE_KINDS: tuple[str, ...] = ("soft", "fluid", "bone", "gas")
 _FIELDS: tuple[str, ...] = ("speed_m_per_s", "density_kg_per_m3",
                             "attenuation_db_per_cm_mhz", "attenuation_exponent")
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class Tissue:
     """One row of the tissue table.
 

@@ -12,16 +12,16 @@ from __future__ import annotations
 
 import os
 from collections.abc import Callable, Mapping
-from dataclasses import dataclass
 from importlib import import_module
 from typing import Any
 
 from planner.errors import DataError, InputError
+from planner.records import record
 
 __all__ = ["DEFAULT_KIND", "FILE_KINDS", "FileKind", "check_department_files", "kind_of"]
 
 
-@dataclass(frozen=True)
+@record(slots=False)
 class FileKind:
     """One department file kind: how to recognise it and which loader checks it.
 

@@ -18,11 +18,12 @@ key of :data:`planner.references.REFERENCES` or of the protocol's own
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import field
 from typing import Any
 
 from planner.datafiles import vocabulary
 from planner.provenance import STATUSES, Sourced
+from planner.records import record
 
 SCHEMA_VERSION = 1
 """The only protocol ``schema_version`` this release reads."""
@@ -91,7 +92,7 @@ def _f(description: str, default: Any = ..., **constraints: Any) -> Any:
     return field(default=default, metadata=meta)
 
 
-@dataclass(frozen=True)
+@record(slots=False)
 class Preparation:
     """What the patient does before the exam."""
 
@@ -102,7 +103,7 @@ class Preparation:
     checks: tuple[str, ...] = _f("Checks before scanning (identity, consent, allergies).", ())
 
 
-@dataclass(frozen=True)
+@record(slots=False)
 class Personnel:
     """Who may perform, supervise and report the exam."""
 
@@ -112,7 +113,7 @@ class Personnel:
     reported_by: tuple[str, ...] = _f("Roles allowed to issue the report.", ())
 
 
-@dataclass(frozen=True)
+@record(slots=False)
 class Equipment:
     """Probes (labels from the department probe inventory) and setup."""
 
@@ -127,7 +128,7 @@ class Equipment:
     infection_control: str | None = _f("Cleaning and cover requirements.", None)
 
 
-@dataclass(frozen=True)
+@record(slots=False)
 class Threshold:
     """One band of a measurement, e.g. ``below: 6`` labelled normal, with its source."""
 
@@ -145,7 +146,7 @@ class Threshold:
     note: str | None = _f("Table, page or remark.", None)
 
 
-@dataclass(frozen=True)
+@record(slots=False)
 class Measurement:
     """A measurement taken in a view."""
 
@@ -161,7 +162,7 @@ class Measurement:
     thresholds: tuple[Threshold, ...] = _f("Bands with their meaning and source.", ())
 
 
-@dataclass(frozen=True)
+@record(slots=False)
 class RequiredImage:
     """An image or cine clip the view must archive."""
 
@@ -170,7 +171,7 @@ class RequiredImage:
     must_show: tuple[str, ...] = _f("Quality criteria: what must be visible.", ())
 
 
-@dataclass(frozen=True)
+@record(slots=False)
 class Fallback:
     """An alternative window (and position or probe) when the planned one fails."""
 
@@ -180,7 +181,7 @@ class Fallback:
     note: str | None = _f("When to use it.", None)
 
 
-@dataclass(frozen=True)
+@record(slots=False)
 class DopplerPlan:
     """Doppler in a view."""
 
@@ -190,7 +191,7 @@ class DopplerPlan:
     notes: tuple[str, ...] = _f("Settings and pitfalls.", ())
 
 
-@dataclass(frozen=True)
+@record(slots=False)
 class View:
     """One step of the exam: a target seen from a window, with images and measurements."""
 
@@ -214,7 +215,7 @@ class View:
     notes: tuple[str, ...] = _f("Practical advice for the view.", ())
 
 
-@dataclass(frozen=True)
+@record(slots=False)
 class SafetyLimits:
     """Local safety limits; each number with its source."""
 
@@ -231,7 +232,7 @@ class SafetyLimits:
     notes: tuple[str, ...] = _f("Other local safety rules (ALARA practice, Doppler limits).", ())
 
 
-@dataclass(frozen=True)
+@record(slots=False)
 class Escalation:
     """What to do when the exam cannot be completed or finds something urgent."""
 
@@ -242,7 +243,7 @@ class Escalation:
                                                ())
 
 
-@dataclass(frozen=True)
+@record(slots=False)
 class Documentation:
     """What is archived and reported."""
 
@@ -251,7 +252,7 @@ class Documentation:
     limitation_statement: str | None = _f("Wording used when views were limited.", None)
 
 
-@dataclass(frozen=True)
+@record(slots=False)
 class Protocol:
     """A department's written protocol for one exam."""
 

@@ -11,12 +11,13 @@ in the field docstrings (minutes [min], BMI [kg/m^2], TI and MI dimensionless).
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import field
 from typing import Any
 
 from planner.engine.model import Plan
 from planner.engine.serialize import to_json_data
 from planner.protocol.sheet_rows import SheetRow
+from planner.records import record
 
 __all__ = ["SHEET_KIND", "SHEET_SCHEMA_VERSION", "SourcedValue", "ProbeRef", "NamedRef",
            "ProtocolFacts", "Preparation", "Personnel", "Equipment", "HabitusClass",
@@ -29,7 +30,7 @@ SHEET_SCHEMA_VERSION = 1
 """``kind`` and ``schema_version`` of the sheet's JSON."""
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class SourcedValue:
     """A protocol value with its provenance (unit named by the field that holds it)."""
 
@@ -39,7 +40,7 @@ class SourcedValue:
     note: str
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class ProbeRef:
     """A probe named by the protocol; ``label`` is ``None`` when the inventory lacks it."""
 
@@ -47,7 +48,7 @@ class ProbeRef:
     label: str | None
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class NamedRef:
     """A library target or window: id and display name."""
 
@@ -55,7 +56,7 @@ class NamedRef:
     name: str
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class ProtocolFacts:
     """The protocol's identity; ``file`` is the file name only (no directories)."""
 
@@ -72,7 +73,7 @@ class ProtocolFacts:
     file: str | None
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class Preparation:
     """Patient preparation; ``fasting_hours`` [h] or ``None``."""
 
@@ -82,7 +83,7 @@ class Preparation:
     checks: tuple[str, ...]
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class Personnel:
     """Who performs and reports the exam, trainee supervision (code and words), chaperone."""
 
@@ -93,7 +94,7 @@ class Personnel:
     chaperone: str
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class Equipment:
     """Main and alternative probes, the inventory planned with (text), setup, cleaning."""
 
@@ -104,7 +105,7 @@ class Equipment:
     infection_control: str | None
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class HabitusClass:
     """A WHO adult BMI class on the sheet and the BMI planned for it [kg/m^2]."""
 
@@ -113,7 +114,7 @@ class HabitusClass:
     bmi: float
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class SheetView:
     """One view: where and how it is scanned, its minutes [min], and a row per habitus class.
 
@@ -135,7 +136,7 @@ class SheetView:
     classes: tuple[SheetRow, ...]
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class LimitRow:
     """One scan-time limit beside the planned minutes.
 
@@ -156,7 +157,7 @@ class LimitRow:
     within: bool | None
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class TableMaxTi:
     """The highest TI of a published table whose band still allows the planned minutes
     (``None``: any TI)."""
@@ -166,7 +167,7 @@ class TableMaxTi:
     max_ti: float | None
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class PublishedRow:
     """One band of a published scan-time table; ``max_minutes`` [min] or ``None``."""
 
@@ -176,7 +177,7 @@ class PublishedRow:
     status: str
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class PublishedTable:
     """A published scan-time table, every band."""
 
@@ -185,7 +186,7 @@ class PublishedTable:
     rows: tuple[PublishedRow, ...]
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class TimeSection:
     """Planned minutes [min] at the expected TI against every limit, and the verdict."""
 
@@ -200,7 +201,7 @@ class TimeSection:
     message: str
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class ProtocolLimits:
     """The protocol's own safety limits: max TI, MI and minutes [min], pulsed Doppler rule."""
 
@@ -211,7 +212,7 @@ class ProtocolLimits:
     notes: tuple[str, ...]
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class LocalPolicyRef:
     """The local limits in force; ``origin`` is ``file`` (given with --local) or ``protocol``."""
 
@@ -220,7 +221,7 @@ class LocalPolicyRef:
     origin: str
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class SheetFinding:
     """A safety finding of the exam as the sheet shows it."""
 
@@ -231,7 +232,7 @@ class SheetFinding:
     sources: tuple[str, ...]
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class SafetySection:
     """The index to watch, the protocol's limits, the local policy and the safety findings."""
 
@@ -242,7 +243,7 @@ class SafetySection:
     findings: tuple[SheetFinding, ...]
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class Sheet:
     """A built protocol sheet, and one plan per view for its depth plot (not in JSON)."""
 

@@ -6,10 +6,11 @@ the row's ``class_id`` is written under the key ``class``.
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import field
 
 from planner.body.habitus import BMI_CLASSES
 from planner.engine.model import FrequencyBand, Plan
+from planner.records import record
 
 CLASS_LABELS: dict[str, str] = {c[0]: c[1] for c in BMI_CLASSES}
 """WHO habitus class id -> label."""
@@ -29,7 +30,7 @@ HARMONIC_SHORT: dict[str, str] = {
 """Short table text for each typed harmonic basis (:attr:`HarmonicDecision.basis`)."""
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class RowProbe:
     """The probe a row's plan chose."""
 
@@ -39,7 +40,7 @@ class RowProbe:
     fit: str
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class RowHarmonic:
     """Harmonic advice with a short reason for the table and the full reason for JSON."""
 
@@ -48,7 +49,7 @@ class RowHarmonic:
     reason: str
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class RowWarning:
     """One of the row's main cautions or warnings."""
 
@@ -57,7 +58,7 @@ class RowWarning:
     title: str
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class SheetRow:
     """One habitus class of one view: probe, band, harmonic, tilt, depth, main cautions."""
 

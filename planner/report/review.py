@@ -9,18 +9,18 @@ verified signature (:class:`planner.signing.Verification`), never from the stude
 
 from __future__ import annotations
 
-from dataclasses import dataclass
 from html import escape
 from typing import Any
 
 from planner.choices import ChoiceRow, StudentChoices, compare_choices
+from planner.records import record
 
 __all__ = ["DraftReview", "draft_review", "review_html", "review_markdown", "review_text"]
 
 COLUMNS = ("Decision", "Tool", "Student", "Verdict")
 
 
-@dataclass(frozen=True)
+@record(slots=False)
 class DraftReview:
     """What a draft prints besides the plan: comparison rows and the signature's status."""
 

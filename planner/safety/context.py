@@ -3,11 +3,12 @@
 from __future__ import annotations
 
 import math
-from dataclasses import asdict, dataclass, fields
+from dataclasses import asdict, fields
 from typing import Any
 
 from planner.datafiles import vocabulary
 from planner.errors import InputError
+from planner.records import record
 from planner.safety.validity import check_inputs
 
 EXAM_TYPES: dict[str, str] = vocabulary()["exam_types"]
@@ -38,7 +39,7 @@ def _non_negative(name: str, value: Any) -> None:
         raise InputError(f"{name} must be >= 0, got {value!r}")
 
 
-@dataclass(frozen=True)
+@record(slots=False)
 class ExamContext:
     """What the exam is and how it will be done, as far as safety guidance depends on it.
 

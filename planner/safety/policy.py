@@ -36,10 +36,11 @@ from __future__ import annotations
 
 import math
 import os
-from dataclasses import dataclass, field
+from dataclasses import field
 from pathlib import Path
 from typing import Any
 
+from planner.records import record
 from planner.safety.tables import safety_data
 from planner.yamlio import ProblemCollector, load_user_yaml
 
@@ -61,7 +62,7 @@ def is_local_source(source: str) -> bool:
     return source.startswith(LOCAL_SOURCE_PREFIX)
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class LocalTimeBand:
     """A local maximum scan time for one TI band. [min]"""
 
@@ -75,7 +76,7 @@ class LocalTimeBand:
         return above and (self.ti_up_to is None or ti <= self.ti_up_to)
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class LocalExamLimits:
     """Local ceilings for one exam type; ``None`` where the department sets none."""
 
@@ -84,7 +85,7 @@ class LocalExamLimits:
     max_minutes: float | None = None
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class LocalDopplerRule:
     """A local restriction on Doppler modes for some exam types."""
 
@@ -97,7 +98,7 @@ class LocalDopplerRule:
     note: str = ""
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class LocalPreferences:
     """Preferred settings of the department for one exam type."""
 
@@ -105,7 +106,7 @@ class LocalPreferences:
     notes: tuple[str, ...] = ()
 
 
-@dataclass(frozen=True)
+@record(slots=False)
 class LocalPolicy:
     """A department's local safety policy (see the module docstring for the file format)."""
 

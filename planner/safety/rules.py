@@ -9,10 +9,10 @@ they refine, next to the published value.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
 from typing import Any
 
 from planner.findings import Finding, Rule, RuleRegistry
+from planner.records import record
 from planner.safety.context import ExamContext
 from planner.safety.mechanical import mi_findings, ophthalmic_finding, output_ceiling_finding
 from planner.safety.policy import LocalPolicy
@@ -67,7 +67,7 @@ def preferences_finding(ctx: ExamContext, policy: LocalPolicy | None) -> Finding
                    f"Local practice, {policy.label}: {'; '.join(parts)}.", values, sources)
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class SafetyContext:
     """Inputs of every safety rule: the exam context and the department's local policy."""
 
@@ -127,7 +127,7 @@ def safety_findings(ctx: ExamContext, policy: LocalPolicy | None = None) -> list
     return SAFETY_RULES.run(SafetyContext(ctx, policy))
 
 
-@dataclass(frozen=True)
+@record(slots=False)
 class SafetyReport:
     """Everything the safety section of an output shows: statement, index, findings."""
 

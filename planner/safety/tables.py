@@ -14,18 +14,19 @@ AIUM2023Lung, TerHaar2009, FDA2019Track3, KingLiuHarris2017, Abramowicz2009, WFU
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, field
+from dataclasses import field
 from functools import lru_cache
 from typing import Any
 
 from planner.datafiles import load_package_yaml
 from planner.provenance import STATUSES, Sourced, sourced_from_mapping
+from planner.records import record
 
 LIMIT_KINDS: tuple[str, ...] = ("unlimited", "limited", "not_recommended")
 """How a scan-time row limits the exam: no limit (ALARA), a time, or not recommended."""
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class TimeRow:
     """One band of a scan-time table.
 
@@ -65,7 +66,7 @@ class TimeRow:
         return f"TI {self.ti_above:.1f}-{self.ti_up_to:.1f}"
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class TimeTable:
     """A published table of recommended maximum scan time versus displayed TI."""
 
@@ -97,7 +98,7 @@ class TimeTable:
         return best
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class ExamSafety:
     """Safety data of one exam type: the thermal index to watch and its scan-time group."""
 
@@ -105,7 +106,7 @@ class ExamSafety:
     scan_time_group: Sourced
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class ValidityRange:
     """Validated and possible ranges of one input (``None`` bound = unbounded)."""
 
@@ -154,7 +155,7 @@ def _table(table_id: str, raw: dict[str, Any]) -> TimeTable:
     return TimeTable(table_id, str(raw["title"]), str(raw["source"]), rows)
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class SafetyData:
     """The parsed safety data file."""
 

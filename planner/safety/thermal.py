@@ -10,10 +10,10 @@ for pulsed Doppler with bone near the focus), IEC62359 (TIS, TIB, TIC definition
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
 from typing import Any
 
 from planner.findings import Finding
+from planner.records import record
 from planner.safety.context import ExamContext
 from planner.safety.format import minutes_text, number_text, short_title, status_text
 from planner.safety.policy import LocalPolicy
@@ -27,7 +27,7 @@ INDEX_NAMES: dict[str, str] = {
 """Standard abbreviations of the thermal indices (IEC 62359) -> plain names."""
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class IndexChoice:
     """The thermal index to watch, why, and where the rule comes from."""
 
@@ -103,7 +103,7 @@ def _reduction(ctx: ExamContext) -> float:
     return 0.0
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class TableLimit:
     """The band of one published scan-time table that holds the expected TI.
 

@@ -15,10 +15,10 @@ source and status.
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
 from typing import Any
 
 from planner.errors import InputError
+from planner.records import record
 from planner.safety.tables import ValidityRange, safety_data
 
 PARAMETERS: dict[str, str] = {
@@ -97,7 +97,7 @@ def check_inputs(*, bmi: float | None = None, wall_mm: float | None = None,
         _check_one(name, value)
 
 
-@dataclass(frozen=True, slots=True)
+@record
 class ValidityFlag:
     """An input outside the model's validated range (``source`` a REFERENCES key)."""
 

@@ -10,10 +10,11 @@ screen: the state becomes ``changed``.
 from __future__ import annotations
 
 import os
-from dataclasses import dataclass, replace
+from dataclasses import replace
 from typing import Any
 
 from planner.planfile import PlanInputs
+from planner.records import record
 
 __all__ = ["TRUSTED_KEYS_ENV", "SignedFile", "open_signed", "state_for"]
 
@@ -21,7 +22,7 @@ TRUSTED_KEYS_ENV = "SCANPLAN_TRUSTED_KEYS"
 """Environment variable: the trusted-keys file the UI verifies signatures against."""
 
 
-@dataclass(frozen=True)
+@record(slots=False)
 class SignedFile:
     """An opened file's signature check and the inputs it covers."""
 

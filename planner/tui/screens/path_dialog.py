@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-from dataclasses import dataclass
 
 from textual import on
 from textual.app import ComposeResult
@@ -11,10 +10,11 @@ from textual.containers import Vertical, VerticalScroll
 from textual.markup import escape
 from textual.widgets import Input, Static
 
+from planner.records import record
 from planner.tui.screens.closing import OnceModal
 
 
-@dataclass(frozen=True)
+@record(slots=False)
 class PathRequest:
     """What the dialog asks: a title, a hint, the proposed path, and a problem to show."""
 

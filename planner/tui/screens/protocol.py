@@ -11,7 +11,6 @@ from loading or building reaches the UI: each is shown as a problem.
 from __future__ import annotations
 
 import re
-from dataclasses import dataclass
 from pathlib import Path
 from typing import TYPE_CHECKING
 
@@ -26,6 +25,7 @@ from textual.message import Message
 from textual.widgets import Static
 
 from planner.errors import DataError, PlannerError
+from planner.records import record
 from planner.tui.screens.closing import OnceModal
 
 if TYPE_CHECKING:  # the engine and the sheet load in the worker, not at start-up
@@ -39,7 +39,7 @@ CLASS_HEADERS: tuple[str, ...] = ("Class", "BMI", "Probe", "MHz", "Harm.", "Tilt
 """Columns of a view's table: one row per WHO habitus class."""
 
 
-@dataclass(frozen=True)
+@record(slots=False)
 class Problem:
     """One problem of a protocol file, split into its parts.
 
