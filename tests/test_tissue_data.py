@@ -3,27 +3,51 @@
 Every range below is written here with the publication it comes from (never read from the
 data file it checks). Ranges carry the published spread (or the stated tolerance where one
 value is published); "(from memory)" marks a figure recalled from the named book, not re-read.
+IT'IS v4.1 rows (Hasgall 2022) give one value per tissue: speed is checked to +/-3 %, density
+to +/-5 % (+/-2 % for watery fluids), alpha0 to +/-30 % (the scatter stated in tissues.yaml)
+and b to +/-0.02 (the rounding of the read value).
 """
 
 from __future__ import annotations
 
 import math
+from pathlib import Path
 
 import pytest
+import yaml
 
 from planner.body.walls import load_wall_models, wall_layers_mm
+from planner.datafiles import load_package_yaml
 from planner.files.package import TissuesFile
 from planner.physics.tissues import get_tissue, load_tissues, resolve_tissue_id, tissue_aliases
 from planner.references import REFERENCES
 
+NP_TO_DB_PER_CM = 20.0 / math.log(10.0) / 100.0
+"""1 Np/m = 20 / ln 10 dB/m = 0.08686 dB/cm (IT'IS gives alpha0 in Np/m/MHz)."""
+
+
+def _pm(value: float, fraction: float) -> tuple[float, float]:
+    """A single published value with a stated relative tolerance."""
+    return round(value * (1 - fraction), 6), round(value * (1 + fraction), 6)
+
+
+def _itis_alpha(np_per_m_mhz: float) -> tuple[float, float]:
+    """An IT'IS alpha0 [Np/m/MHz] in dB/cm/MHz, with the +/-30 % scatter of attenuation."""
+    return _pm(np_per_m_mhz * NP_TO_DB_PER_CM, 0.30)
+
+
+def _itis_b(b: float) -> tuple[float, float]:
+    """An IT'IS exponent b, to the rounding of the value read (+/-0.02)."""
+    return round(b - 0.02, 4), round(b + 0.02, 4)
+
+
 # --- speed of sound [m/s] -------------------------------------------------------------------
-SOFT_SPAN = "MechMater 2012 Table 3: parenchymal soft tissues 1517 (muscle) - 1635 (liver) m/s"
 FLUID_SPEED = ("MechMater 2012 Table 3: aqueous humour 1518-1597 m/s, nearest tabulated watery "
                "body fluid (Duck 1990 body fluids about 1534-1540, from memory)")
 SPEED = [
     ("water", 1515, 1530, "Bilaniuk & Wong 1993: water at 37 degC 1524 m/s (+/-0.5 %)"),
     ("blood", 1559, 1590, "Park 2023 Table 7 (IT'IS): blood 1578.2 m/s, min 1559.2 max 1590"),
-    ("fat", 1412, 1488, "Park 2023 fat 1412-1485; MechMater 2012 fat 1468-1488 m/s"),
+    ("fat", 1412, 1485, "Park 2023 Table 7 (IT'IS): fat 1440.2 +/- 20.9, bounds 1412-1485 m/s"),
     ("skin", 1595, 1635, "MechMater 2012 Table 3: skin 1595-1635 m/s"),
     ("muscle_across", 1541, 1583, "Bioengineering 2025 A.2: muscle across fibres 1562 +/- 21"),
     ("muscle_along", 1564, 1633, "Bioengineering 2025 A.2: muscle along fibres 1599 +/- 34"),
@@ -32,11 +56,11 @@ SPEED = [
     ("liver_steatotic", 1500, 1545, "Imbault 2017: steatotic liver 1500-1540 m/s (from memory)"),
     ("kidney", 1530, 1590, "MechMater 2012 Table 3: kidney 1530-1590 m/s"),
     ("spleen", 1537, 1597, "MechMater 2012 Table 3: spleen 1537-1597 m/s"),
-    ("pancreas", 1517, 1635, SOFT_SPAN),
+    ("pancreas", *_pm(1591, 0.03), "IT'IS v4.1 (Hasgall 2022): pancreas 1591 m/s"),
     ("bile", 1518, 1597, FLUID_SPEED),
-    ("urine", 1518, 1597, FLUID_SPEED),
+    ("urine", *_pm(1537.67, 0.03), "IT'IS v4.1 (Hasgall 2022): urine 1537.67 m/s"),
     ("amniotic_fluid", 1518, 1597, FLUID_SPEED),
-    ("ascites", 1518, 1597, FLUID_SPEED),
+    ("ascites", *_pm(1554.2, 0.03), "IT'IS v4.1 (Hasgall 2022): extracellular fluids 1554.2"),
     ("brain", 1540, 1580, "MechMater 2012 Table 3: brain 1540-1580 m/s"),
     ("tendon", 1654, 1852, "MechMater 2012 Table 3: tendon 1654-1852 m/s"),
     ("thyroid", 1560, 1600, "Goss 1978/1980 compilations: thyroid 1560-1600 (from memory)"),
@@ -44,8 +68,8 @@ SPEED = [
     ("vessel_wall", 1500, 1532, "MechMater 2012 Table 3: blood vessel 1500-1532 m/s"),
     ("cartilage", 1565, 1770, "MechMater 2012 Table 3: cartilage 1565-1770 m/s"),
     ("cortical_bone", 3200, 4000, "MechMater 2012 Table 3: cortical bone 3200-4000 m/s"),
-    ("lung", 400, 800, "Bushberg 2012 Table 14-1: lung 600 m/s (from memory)"),
-    ("air", 325, 355, "A-level examination data: air 330 m/s; 343 m/s at 20 degC"),
+    ("lung", *_pm(949.286, 0.03), "IT'IS v4.1 (Hasgall 2022): lung (inflated) 949.286 m/s"),
+    ("air", 331.30, 351.88, "density-of-air table: 331.30 m/s at 0 degC to 351.88 at 35 degC"),
     ("tm_phantom_05", 1520, 1550, "IEC 1390 phantom data sheet: TMM 1535 +/- 15 m/s"),
     ("tm_phantom_07", 1525, 1555, "IEC 61391: TMM 1540 +/- 15 m/s (from memory)"),
 ]
@@ -65,28 +89,29 @@ DENSITY = [
     ("liver_steatotic", 950, 1060, "between fat 950 and liver 1060 kg/m3 (MechMater 2012)"),
     ("kidney", 1024, 1088, "Bioengineering 2025 A.1: kidney 1056 +/- 32 kg/m3"),
     ("spleen", 1001, 1107, "MechMater 2012: spleen 1054 kg/m3 (+/-5 %)"),
-    ("pancreas", 1040, 1060, ORGANS),
+    ("pancreas", *_pm(1086.5, 0.05), "IT'IS v4.1 (Hasgall 2022): pancreas 1086.5 kg/m3"),
     ("bile", 990, 1030, FLUID_DENSITY),
-    ("urine", 990, 1030, FLUID_DENSITY),
+    ("urine", *_pm(1023.61, 0.02), "IT'IS v4.1 (Hasgall 2022): urine 1023.61 kg/m3"),
     ("amniotic_fluid", 990, 1030, FLUID_DENSITY),
-    ("ascites", 990, 1030, FLUID_DENSITY),
+    ("ascites", *_pm(1005.64, 0.02), "IT'IS v4.1 (Hasgall 2022): extracellular fluids 1005.64"),
     ("brain", 1001, 1065, "Bioengineering 2025 A.1: white 1024 +/- 23, grey 1047 +/- 18"),
     ("tendon", 1076, 1166, "Bioengineering 2025 A.1: tendon 1121 +/- 45; MechMater 1130"),
-    ("thyroid", 1040, 1060, ORGANS),
+    ("thyroid", *_pm(1050, 0.05), "IT'IS v4.1 (Hasgall 2022): thyroid gland 1050 kg/m3"),
     ("breast", 990, 1092, "Park 2023 (IT'IS): glandular 990-1092; MechMater breast 1020"),
     ("vessel_wall", 1018, 1082, "PMB 2019 Table 1: hepatic artery 1050 kg/m3 (+/-3 %)"),
     ("cartilage", 990, 1076, "Bioengineering 2025 A.1: cartilage 1033 +/- 43 kg/m3"),
     ("cortical_bone", 1800, 2200, "MechMater 2012 Table 3: cortical bone 1800-2200 kg/m3"),
-    ("lung", 150, 600, "Bushberg 2012 Table 14-1: lung 300 kg/m3 (from memory)"),
+    ("lung", *_pm(394, 0.05), "IT'IS v4.1 (Hasgall 2022): lung (inflated) 394 kg/m3"),
     ("air", 1.14, 1.30, "density of air table: 1.1455 kg/m3 at 35 degC to 1.2922 at 0 degC"),
     ("tm_phantom_05", 1000, 1100, "IEC agar-based TMM about 1040-1060 kg/m3 (from memory)"),
     ("tm_phantom_07", 1000, 1100, "IEC agar-based TMM about 1040-1060 kg/m3 (from memory)"),
 ]
 
+
 # --- attenuation coefficient at 1 MHz [dB/cm/MHz^y] -----------------------------------------
 def _t4(value: float) -> tuple[float, float]:
     """Diagnostics 2023 Table 4 value with the +/-30 % scatter of published attenuation."""
-    return round(0.7 * value, 6), round(1.3 * value, 6)
+    return _pm(value, 0.30)
 
 
 WATERY = "between water 0.0022 and blood 0.15 (Diagnostics 2023 Table 4)"
@@ -104,17 +129,17 @@ ATTENUATION = [
     ("liver_steatotic", 0.63, 1.2, "steatosis grading: S1 cut-off 0.63-0.70 (from memory)"),
     ("kidney", *_t4(1.00), "Diagnostics 2023 Table 4: kidney 1.00"),
     ("spleen", *_t4(0.40), "Diagnostics 2023 Table 4: spleen 0.40"),
-    ("pancreas", 0.5, 0.75, AVERAGE),
-    ("bile", 0.0022, 0.15, WATERY),
-    ("urine", 0.0022, 0.15, WATERY),
+    ("pancreas", *_itis_alpha(9.5502), "IT'IS v4.1 (Hasgall 2022): pancreas 9.5502 Np/m/MHz"),
+    ("bile", *_itis_alpha(0.255), "IT'IS v4.1 (Hasgall 2022): bile 0.255 Np/m/MHz"),
+    ("urine", *_itis_alpha(0.0706), "IT'IS v4.1 (Hasgall 2022): urine 0.0706 Np/m/MHz"),
     ("amniotic_fluid", 0.0022, 0.15, WATERY),
     ("ascites", 0.0022, 0.15, WATERY),
-    ("brain", 0.4, 0.8, "Menikou 2017 brain-mimicking recipe 0.59; Szabo 0.58 (memory)"),
-    ("tendon", 0.9, 1.6, "Bushberg 0.9-1.1 (memory) to connective tissue 1.57 (Diagnostics)"),
-    ("thyroid", 0.5, 1.76, "Radiopaedia soft tissue 0.5-0.75 up to Fujii 2003 normal thyroid "
-                           "1.50 +/- 0.26 in vivo"),
+    ("brain", *_itis_alpha(6.8032), "IT'IS v4.1 (Hasgall 2022): brain 6.8032 Np/m/MHz"),
+    ("tendon", (14.506 - 1.45) * NP_TO_DB_PER_CM, (14.506 + 1.45) * NP_TO_DB_PER_CM,
+     "IT'IS v4.1: tendon/ligament 14.506 +/- 1.45 Np/m/MHz (SD as in Park 2023 Table 7)"),
+    ("thyroid", 1.24, 1.76, "Fujii 2003: normal thyroid 1.50 +/- 0.26 dB/cm/MHz in vivo"),
     ("breast", *_t4(0.75), "Diagnostics 2023 Table 4: breast 0.75"),
-    ("vessel_wall", *_t4(1.57), CONNECTIVE),
+    ("vessel_wall", *_itis_alpha(7.02), "IT'IS v4.1 (Hasgall 2022): blood vessel wall 7.02"),
     ("cartilage", *_t4(1.57), CONNECTIVE),
     ("cortical_bone", *_t4(15.0), "Diagnostics 2023 Table 4: bone 15.0"),
     ("lung", *_t4(40.0), "Diagnostics 2023 Table 4: lung 40.0"),
@@ -127,29 +152,51 @@ ATTENUATION = [
 SOFT_Y = "Szabo 2004 App. B: soft tissues y about 1.0-1.5 (from memory)"
 FLUID_Y = "between tissue (1) and water (2): classical absorption (Kinsler & Frey, from memory)"
 AGAR_Y = "Browne 2003: agar-based TMM attenuation linear in frequency"
+ITIS_ONE = "IT'IS v4.1 (Hasgall 2022): b = 1 (also its no-fit default)"
 EXPONENT = [
     ("water", 1.9, 2.1, "Pinkerton 1949 (k-Wave attenuationWater): absorption goes as f^2"),
-    ("blood", 1.1, 1.3, "Szabo 2004 App. B: blood y = 1.21 (from memory)"),
-    ("fat", 1.0, 1.5, SOFT_Y), ("skin", 1.0, 1.5, SOFT_Y),
-    ("muscle_across", 1.0, 1.5, SOFT_Y), ("muscle_along", 1.0, 1.5, SOFT_Y),
+    ("blood", *_itis_b(1.0498), "IT'IS v4.1 (Hasgall 2022): blood b = 1.0498"),
+    ("fat", 1.0, 1.0861, "IT'IS v4.1 (Hasgall 2022): SAT (subcutaneous fat) b = 1, fat 1.0861"),
+    ("skin", 1.0, 1.5, SOFT_Y),
+    ("muscle_across", *_itis_b(1.0827), "IT'IS v4.1 (Hasgall 2022): muscle b = 1.0827"),
+    ("muscle_along", *_itis_b(1.0827), "IT'IS v4.1 (Hasgall 2022): muscle b = 1.0827"),
     ("soft_tissue", 1.0, 1.0, "teaching rule 0.5 dB/cm per MHz: linear in frequency"),
     ("liver", 1.05, 1.25, "Lin 1987: normal human liver 0.399 f^1.139 (1.25-8 MHz)"),
-    ("liver_steatotic", 1.0, 1.5, SOFT_Y), ("kidney", 1.0, 1.5, SOFT_Y),
-    ("spleen", 1.0, 1.5, SOFT_Y), ("pancreas", 1.0, 1.5, SOFT_Y),
-    ("bile", 1.0, 2.0, FLUID_Y), ("urine", 1.0, 2.0, FLUID_Y),
+    ("liver_steatotic", 1.0, 1.5, SOFT_Y),
+    ("kidney", *_itis_b(1.022), "IT'IS v4.1 (Hasgall 2022): kidney b = 1.022"),
+    ("spleen", *_itis_b(1.3832), "IT'IS v4.1 (Hasgall 2022): spleen b = 1.3832"),
+    ("pancreas", *_itis_b(1.0), ITIS_ONE),
+    ("bile", *_itis_b(1.31), "IT'IS v4.1 (Hasgall 2022): bile b = 1.31"),
+    ("urine", *_itis_b(1.645), "IT'IS v4.1 (Hasgall 2022): urine b = 1.645"),
     ("amniotic_fluid", 1.0, 2.0, FLUID_Y), ("ascites", 1.0, 2.0, FLUID_Y),
-    ("brain", 1.0, 1.5, SOFT_Y), ("tendon", 1.0, 1.5, SOFT_Y), ("thyroid", 1.0, 1.5, SOFT_Y),
-    ("breast", 1.0, 1.5, "Li 2022 via Park 2023: breast 1.12-1.36; Szabo 1.5 (from memory)"),
-    ("vessel_wall", 1.0, 1.5, SOFT_Y), ("cartilage", 1.0, 1.5, SOFT_Y),
-    ("cortical_bone", 1.0, 2.0, "bone y about 1-2 (Szabo 2004, from memory)"),
-    ("lung", 1.0, 2.0, "no fit published; gas absorption up to f^2 (from memory)"),
-    ("air", 1.0, 2.0, "no fit published; classical gas absorption f^2 (from memory)"),
+    ("brain", *_itis_b(1.3), "IT'IS v4.1 (Hasgall 2022): brain b = 1.3"),
+    ("tendon", *_itis_b(1.1719), "IT'IS v4.1 (Hasgall 2022): tendon/ligament b = 1.1719"),
+    ("thyroid", *_itis_b(1.0), ITIS_ONE),
+    ("breast", 1.1151, 1.5, "Li 2022 (Park 2023 code): 1.1151-1.3635 by density; IT'IS gland 1.5"),
+    ("vessel_wall", *_itis_b(1.0), ITIS_ONE), ("cartilage", *_itis_b(1.0), ITIS_ONE),
+    ("cortical_bone", *_itis_b(1.0), ITIS_ONE), ("lung", *_itis_b(1.0), ITIS_ONE),
+    ("air", *_itis_b(2.0), "IT'IS v4.1 (Hasgall 2022): air b = 2"),
     ("tm_phantom_05", 0.95, 1.1, AGAR_Y), ("tm_phantom_07", 0.95, 1.1, AGAR_Y),
 ]
 
+KEPT_BELOW_PUBLISHED = {
+    ("attenuation_db_per_cm_mhz", "thyroid"):
+        "soft-tissue stand-in 0.5 kept (common practice) pending review of the thyroid window",
+    ("attenuation_exponent", "breast"):
+        "b = 1 kept (common practice) so that 10-18 MHz breast imaging stays as practised",
+}
+"""Values knowingly kept outside the published range, each marked common practice in the table
+with the reason in its note: the published check stays, as an expected failure."""
 
-def _ids(cases):
-    return [f"{c[0]}: {c[3]}" for c in cases]
+
+def _cases(field: str, cases):
+    """Parametrize ``cases``; a value kept outside its published range is an expected failure."""
+    out = []
+    for case in cases:
+        reason = KEPT_BELOW_PUBLISHED.get((field, case[0]))
+        marks = [pytest.mark.xfail(strict=True, reason=reason)] if reason else []
+        out.append(pytest.param(*case, marks=marks, id=f"{case[0]}: {case[3]}"))
+    return out
 
 
 def _check(tissue_id: str, field: str, low: float, high: float, source: str) -> None:
@@ -157,22 +204,24 @@ def _check(tissue_id: str, field: str, low: float, high: float, source: str) -> 
     assert low <= value <= high, f"{tissue_id}.{field} = {value} outside [{low}, {high}] ({source})"
 
 
-@pytest.mark.parametrize("tissue_id, low, high, source", SPEED, ids=_ids(SPEED))
+@pytest.mark.parametrize("tissue_id, low, high, source", _cases("speed_m_per_s", SPEED))
 def test_speed_in_published_range(tissue_id, low, high, source):
     _check(tissue_id, "speed_m_per_s", low, high, source)
 
 
-@pytest.mark.parametrize("tissue_id, low, high, source", DENSITY, ids=_ids(DENSITY))
+@pytest.mark.parametrize("tissue_id, low, high, source", _cases("density_kg_per_m3", DENSITY))
 def test_density_in_published_range(tissue_id, low, high, source):
     _check(tissue_id, "density_kg_per_m3", low, high, source)
 
 
-@pytest.mark.parametrize("tissue_id, low, high, source", ATTENUATION, ids=_ids(ATTENUATION))
+@pytest.mark.parametrize("tissue_id, low, high, source",
+                         _cases("attenuation_db_per_cm_mhz", ATTENUATION))
 def test_attenuation_in_published_range(tissue_id, low, high, source):
     _check(tissue_id, "attenuation_db_per_cm_mhz", low, high, source)
 
 
-@pytest.mark.parametrize("tissue_id, low, high, source", EXPONENT, ids=_ids(EXPONENT))
+@pytest.mark.parametrize("tissue_id, low, high, source",
+                         _cases("attenuation_exponent", EXPONENT))
 def test_exponent_in_published_range(tissue_id, low, high, source):
     _check(tissue_id, "attenuation_exponent", low, high, source)
 
@@ -184,28 +233,98 @@ def test_every_tissue_has_a_published_check_of_every_value():
         assert {c[0] for c in cases} == ids
 
 
+@pytest.mark.parametrize("field, tissue_id", sorted(KEPT_BELOW_PUBLISHED))
+def test_values_kept_outside_the_published_range_say_so(field, tissue_id):
+    """A value kept outside its published range is common practice, never verified."""
+    sourced = load_tissues()[tissue_id].provenance[field]
+    assert sourced.status == "common_practice"
+    assert any(word in (sourced.note or "") for word in ("kept", "not adopted")), tissue_id
+
+
+# --- IT'IS v4.1 rows (Hasgall 2022), read in full -------------------------------------------
+def test_neper_to_decibel():
+    """20 / ln 10 = 8.686 dB per neper: 1 Np/m = 0.08686 dB/cm."""
+    assert NP_TO_DB_PER_CM == pytest.approx(0.08686, abs=1e-5)
+
+
+@pytest.mark.parametrize("tissue_id, np_per_m_mhz", [
+    ("pancreas", 9.5502), ("bile", 0.255), ("urine", 0.0706), ("brain", 6.8032),
+    ("tendon", 14.506), ("vessel_wall", 7.02)])
+def test_adopted_itis_attenuation_is_the_row_read(tissue_id, np_per_m_mhz):
+    """Where the table takes alpha0 from IT'IS v4.1 it is the row's value converted to dB
+    (to the 2 % of rounding), and the note names it."""
+    tissue = load_tissues()[tissue_id]
+    assert tissue.attenuation_db_per_cm_mhz == pytest.approx(
+        np_per_m_mhz * NP_TO_DB_PER_CM, rel=0.02)
+    assert tissue.provenance["attenuation_db_per_cm_mhz"].source == "Hasgall2022ITIS"
+    assert f"{np_per_m_mhz:g}" in tissue.provenance["attenuation_db_per_cm_mhz"].note
+
+
+@pytest.mark.parametrize("tissue_id, np_per_m_mhz", [
+    ("water", 0.0253284), ("blood", 2.3676), ("fat", 7.0), ("liver", 6.915),
+    ("spleen", 4.3726), ("breast", 8.635)])
+def test_kept_attenuation_agrees_with_itis(tissue_id, np_per_m_mhz):
+    """Where Diagnostics 2023 Table 4 is kept, IT'IS v4.1 agrees within the +/-50 % scatter of
+    published attenuation (fat: the SAT, subcutaneous-fat, row)."""
+    value = load_tissues()[tissue_id].attenuation_db_per_cm_mhz
+    assert 0.5 <= value / (np_per_m_mhz * NP_TO_DB_PER_CM) <= 1.5
+
+
+@pytest.mark.parametrize("tissue_id, np_per_m_mhz", [
+    ("skin", 21.158), ("kidney", 2.8067), ("cartilage", 0.4397), ("cortical_bone", 54.553),
+    ("lung", 230.94), ("air", 0.0391439)])
+def test_disagreements_with_itis_are_noted(tissue_id, np_per_m_mhz):
+    """Where the kept attenuation and IT'IS v4.1 differ beyond the +/-50 % scatter, the note
+    records the IT'IS value, so the disagreement is visible rather than silent."""
+    sourced = load_tissues()[tissue_id].provenance["attenuation_db_per_cm_mhz"]
+    ratio = sourced.value / (np_per_m_mhz * NP_TO_DB_PER_CM)
+    assert not 0.5 <= ratio <= 1.5
+    assert "IT'IS" in sourced.note and f"{np_per_m_mhz:g}"[:5] in sourced.note
+
+
+def test_an_itis_b_of_one_is_flagged_as_its_default():
+    """IT'IS takes b = 1 where its data allow no fit: every exponent verified by a listed b = 1
+    says so in its note."""
+    for tissue in load_tissues().values():
+        sourced = tissue.provenance["attenuation_exponent"]
+        if sourced.source == "Hasgall2022ITIS" and sourced.value == 1.0:
+            assert "no-fit default" in sourced.note, tissue.id
+
+
+def test_fat_speed_for_body_temperature():
+    """Fat 1450 m/s: inside IT'IS fat 1440.2 +/- 20.9 (Park 2023 Table 7) and ex vivo
+    1462 +/- 26 at room temperature (Bioengineering 2025 A.2); kept below the room-temperature
+    compilation MechMater 2012 (1468-1488) because fat slows as it warms (see the note)."""
+    speed = get_tissue("fat").speed_m_per_s
+    assert 1440.2 - 20.9 <= speed <= 1440.2 + 20.9
+    assert 1461.77 - 26.11 <= speed <= 1461.77 + 26.11
+    assert speed < 1468
+    assert "warms" in get_tissue("fat").provenance["speed_m_per_s"].note
+
+
+def test_cortical_bone_impedance_inside_the_published_table():
+    """Sensors 2023 Table A2: substantia corticalis 3432 m/s and 6.50 MRayl; with the ex vivo
+    1862 kg/m3 (Bioengineering 2025 A.1) the impedance stays at or below 6.50."""
+    bone = get_tissue("cortical_bone")
+    assert bone.speed_m_per_s == pytest.approx(3432)
+    assert 6.0 <= bone.impedance_mrayl <= 6.50
+
+
 # --- provenance ------------------------------------------------------------------------------
 def _statuses() -> list[str]:
     return [s.status for t in load_tissues().values() for s in t.provenance.values()]
 
 
-VERIFIED_FLOOR = 0.55
-"""Share of values read in a named publication (60 of 108 when written; a value inside a range
-the publication states counts, with the range in the note). The exponents and the body fluids
-are from memory: no readable copy of Duck 1990, Szabo App. B, Azhari App. A or the IT'IS table
-was found. The floor stops the share from slipping back."""
+VERIFIED_FLOOR = 0.80
+"""Share of values read in a named publication (87 of 108 when written; a value inside a range
+the publication states counts, with the range in the note). Still from memory: amniotic fluid,
+the steatotic liver, bile speed and density, the thyroid speed, skin's exponent and the 0.7
+dB/cm/MHz phantom. The floor is the target of issue 12 and stops the share from slipping."""
 
 
-def test_verified_share_does_not_fall():
+def test_verified_share_reaches_the_target():
     statuses = _statuses()
     assert statuses.count("verified") / len(statuses) >= VERIFIED_FLOOR
-
-
-@pytest.mark.xfail(strict=True, reason="target of 80 % verified not reached: exponents and "
-                   "body-fluid values are from memory; remove this mark when it passes")
-def test_verified_share_reaches_target():
-    statuses = _statuses()
-    assert statuses.count("verified") / len(statuses) >= 0.80
 
 
 def test_every_source_is_in_the_bibliography_and_memory_is_said():
@@ -216,17 +335,36 @@ def test_every_source_is_in_the_bibliography_and_memory_is_said():
                 assert sourced.note, f"{tissue.id}.{field}: a derived value states its inputs"
 
 
+def test_stand_ins_are_not_marked_verified():
+    """Pancreas now carries its own IT'IS row; the thyroid's attenuation is still the
+    soft-tissue average and is marked so."""
+    t = load_tissues()
+    for field, sourced in t["pancreas"].provenance.items():
+        assert sourced.source == "Hasgall2022ITIS" and sourced.status == "verified", field
+    thyroid = t["thyroid"].provenance["attenuation_db_per_cm_mhz"]
+    assert thyroid.status == "common_practice" and "stand-in" in thyroid.note
+
+
 @pytest.mark.parametrize("key, words", [
     ("Diagnostics2023", ("2023;13(5):855", "doi:10.3390/diagnostics13050855", "Table 4")),
     ("PMB2019Liver", ("2019;64(22):225001", "doi:10.1088/1361-6560/ab5010", "Table 1")),
     ("Bioengineering2025", ("Fernandes", "Carvalho", "2025;12(9):946",
                             "doi:10.3390/bioengineering12090946", "Appendix A.1")),
+    ("Hasgall2022ITIS", ("Hasgall", "Kuster", "Version 4.1", "doi:10.13099/VIP21000-04-1",
+                         "Np/m/MHz", "optimuslib/optimus")),
 ])
 def test_tissue_sources_are_full_citations(key, words):
-    """The three compilations most of the table rests on carry journal, volume, article
-    number, DOI and the table read (as printed on the journal and PubMed Central pages)."""
+    """The compilations most of the table rests on carry journal or publisher, volume or
+    version, DOI and the table read (and where it was read)."""
     for word in words:
         assert word in REFERENCES[key], f"{key}: {word}"
+
+
+def test_tissue_bibliography_keys_are_not_reused_by_the_practice_table():
+    """The practice-concordance bibliography may not repeat a key of the tissue bibliography."""
+    practice = yaml.safe_load((Path(__file__).parent / "practice" / "references.yaml")
+                              .read_text(encoding="utf-8"))
+    assert not set(load_package_yaml("references/tissue_data.yaml")) & set(practice)
 
 
 def test_water_absorption_two_sources_agree():
@@ -250,10 +388,18 @@ def test_air_density_follows_the_ideal_gas_law():
 
 def test_corrections_follow_the_published_tables():
     """Values corrected against the source read: Diagnostics 2023 Table 4 lists air 7.50 dB/cm
-    at 1 MHz (not the 40 of lung); water at 37 degC is 1524 m/s (Bilaniuk & Wong 1993)."""
+    at 1 MHz (not the 40 of lung); water at 37 degC is 1524 m/s (Bilaniuk & Wong 1993);
+    IT'IS v4.1 lists inflated lung 949.286 m/s and 394 kg/m3, pancreas 1591 m/s and 1086.5
+    kg/m3, urine 1537.67 m/s and air b = 2."""
     assert get_tissue("air").attenuation_db_per_cm_mhz == pytest.approx(7.5)
     assert get_tissue("lung").attenuation_db_per_cm_mhz == pytest.approx(40.0)
     assert get_tissue("water").speed_m_per_s == pytest.approx(1524, abs=3)
+    assert get_tissue("lung").speed_m_per_s == pytest.approx(949.286, abs=1)
+    assert get_tissue("lung").density_kg_per_m3 == pytest.approx(394)
+    assert get_tissue("pancreas").speed_m_per_s == pytest.approx(1591)
+    assert get_tissue("pancreas").density_kg_per_m3 == pytest.approx(1086.5, abs=1)
+    assert get_tissue("urine").speed_m_per_s == pytest.approx(1537.67, abs=1)
+    assert get_tissue("air").attenuation_exponent == pytest.approx(2.0)
 
 
 # --- aliases ---------------------------------------------------------------------------------
