@@ -101,7 +101,7 @@ class PriorCalibration:
 
     def implication(self) -> str:
         """What the effective attenuation implies, with its source; not a diagnosis."""
-        a = self.slope_db_per_cm_mhz
+        a = round(self.slope_db_per_cm_mhz, 2)     # judged as shown: 0.7999 reads 0.80
         what = f"effective {self.organ} attenuation {a:.2f} dB/cm/MHz at " \
                f"{self.frequency_mhz:g} MHz ({self.scale:.2f} x the population value)"
         if not self.tissue_id.startswith("liver"):
