@@ -19,7 +19,7 @@ import yaml
 
 from planner.cli import main
 
-cryptography = pytest.importorskip("cryptography")
+import cryptography  # noqa: E402,F401  (a declared dependency: a missing one must fail, not skip)
 
 
 def run(*argv: str) -> tuple[int, str, str]:

@@ -43,7 +43,6 @@ def test_each_kind_is_recognised():
 def test_plan_and_trusted_key_files_are_checked(tmp_path):
     plan, trusted = tmp_path / "plan.yaml", tmp_path / "trusted.yaml"
     assert main(["plan", "--target", "liver", "--bmi", "30", "--save", str(plan)]) == 0
-    pytest.importorskip("cryptography")
     with redirect_stdout(io.StringIO()):
         assert main(["draft", "keygen", "--name", "G. Mentor", "-o", str(tmp_path / "k.pem"),
                      "--public", str(trusted)]) == 0

@@ -212,12 +212,25 @@ def test_local_policy_file_adds_its_own_row(capsys):
     assert data["safety"]["local_policy"]["origin"] == "file"
 
 
-def test_views_with_the_same_target_and_window_share_their_plans():
-    """renal-tract.yaml scans each kidney through the same flank window."""
-    sheet = sheet_from_file(RENAL, habitus=("normal",))
-    first, second = sheet.views[0].classes[0], sheet.views[1].classes[0]
-    assert first == second
+def test_views_with_the_same_target_window_and_side_share_their_plans(tmp_path):
+    """A view repeated under another id (the same target, window, side and context) reuses
+    its plan and the sheet says so; the renal protocol's right and left kidney do not share."""
+    import shutil
+
+    import yaml
+    data = yaml.safe_load(RENAL.read_text())
+    shutil.copy(RENAL.parent / "probes.yaml", tmp_path / "probes.yaml")
+    if (RENAL.parent / "qa.yaml").exists():           # the inventory may name its QA log
+        shutil.copy(RENAL.parent / "qa.yaml", tmp_path / "qa.yaml")
+    repeat = {k: v for k, v in data["views"][0].items() if k != "measurements"}
+    data["views"] = [data["views"][0], dict(repeat, id="repeat-view")]
+    path = tmp_path / "repeat.yaml"
+    path.write_text(yaml.safe_dump(data, sort_keys=False))
+    sheet = sheet_from_file(path, habitus=("normal",))
+    assert sheet.views[0].classes[0] == sheet.views[1].classes[0]
     assert any("share one plan" in a for a in sheet.assumptions)
+    renal = sheet_from_file(RENAL, habitus=("normal",))
+    assert not any("share one plan" in a for a in renal.assumptions)
 
 
 def test_probes_option_replaces_the_inventory(capsys):

@@ -115,3 +115,21 @@ def test_renderers_refuse_a_dict_shaped_sheet(upper):
                    protocol_screen.sheet_widgets):
         with pytest.raises(AttributeError):
             render(data)  # type: ignore[arg-type]
+
+
+def test_each_row_names_where_its_reach_doubt_comes_from(upper):
+    """The Band and start cell of every habitus class says which sampled input explains most of
+    the spread of its reach (the plan's top driver), unless nearly everyone is reached."""
+    from planner.engine.spread import INPUT_WORDS
+    named = 0
+    for view in upper.views:
+        for row in view.classes:
+            cell = sheet_render._cells(row)[2]
+            band = row.band_mhz
+            if not band.feasible or not band.drivers:
+                continue
+            top = band.drivers[0]
+            narrows = top.explains > 0 and top.reach_range_mhz[1] - top.reach_range_mhz[0] >= 0.1
+            assert (f"doubt mostly from {INPUT_WORDS[top.input]}" in cell) == narrows, cell
+            named += narrows
+    assert named > 0

@@ -99,7 +99,7 @@ def test_a_bad_log_reports_every_problem_with_file_key_and_line(tmp_path):
 
 
 def test_schema_lists_the_qa_kind_and_it_validates_the_demo_logs():
-    jsonschema = pytest.importorskip("jsonschema")
+    import jsonschema           # a declared test dependency: missing must fail, not skip
     from planner.yamlio import load_user_yaml
     code, out, _ = run("schema", "qa")
     assert code == 0
@@ -319,3 +319,43 @@ def test_sessions_at_other_frequencies_stay_finite_for_a_wide_pulse(tmp_path):
     (probe,) = json.loads(out)["probes"]
     assert all(math.isfinite(s["dop_equivalent_cm"]) for s in probe["sessions"])
     assert probe["sessions"][1]["dop_equivalent_cm"] > probe["sessions"][0]["dop_equivalent_cm"]
+
+
+# -- the scatter of a probe's own log -----------------------------------------------------
+def test_the_pooled_scatter_worked_by_hand():
+    """Sessions (60, 62, 64) and (50, 52) dB: deviations from the session means (-2, 0, 2) and
+    (-1, 1), squared sum 10 over 2 + 1 = 3 degrees of freedom: sqrt(10 / 3) = 1.826 dB. One
+    measurement per session has no degree of freedom."""
+    from planner.engine.qa_budget import budget_scatter_db
+    sd, dof = budget_scatter_db([[60.0, 62.0, 64.0], [50.0, 52.0]])
+    assert dof == 3 and sd == pytest.approx(math.sqrt(10.0 / 3.0), abs=1e-12)
+    assert budget_scatter_db([[60.0], [58.0], [57.0]]) == (None, 0)
+    assert budget_scatter_db([[60.0, 61.0]]) == (None, 1)
+
+
+def _repeat_log(tmp_path: Path, dops: list[float]) -> Path:
+    return write_log(tmp_path / "qa.yaml",
+                     [("abdominal-curved", "2026-10-01", 3.5, 0.5, d) for d in dops])
+
+
+def test_a_scattered_log_widens_its_probes_budget_spread(tmp_path):
+    """Three repeats at 15.6, 16.5 and 17.4 cm (within the 1 cm session limit of their median)
+    scatter by several dB: the probe's spread is the pooled s.d. of the three derived budgets,
+    the plan draws with it, and the budget then explains more of the reach spread than with
+    close repeats (16.4, 16.5, 16.6 cm), whose scatter falls below the reading precision."""
+    wide = json.loads(run("qa", str(_repeat_log(tmp_path, [15.6, 16.5, 17.4])), "--json")[1])
+    probe = next(p for p in wide["probes"] if p["probe"] == "abdominal-curved")
+    budgets = [m["budget_db"] for m in probe["measurements"]]
+    mean = sum(budgets) / 3
+    by_hand = math.sqrt(sum((b - mean) ** 2 for b in budgets) / 2)
+    assert probe["scatter_dof"] == 2 and probe["scatter_db"] == pytest.approx(by_hand, abs=0.01)
+    assert probe["budget_sd_db"] == pytest.approx(max(by_hand, 1.4), abs=0.01) and by_hand > 1.4
+    wide_plan = _plan("--qa", str(tmp_path / "qa.yaml"))
+    close = json.loads(run("qa", str(_repeat_log(tmp_path, [16.4, 16.5, 16.6])), "--json")[1])
+    probe = next(p for p in close["probes"] if p["probe"] == "abdominal-curved")
+    assert probe["scatter_db"] < 1.4 and probe["budget_sd_db"] == pytest.approx(1.4)
+    close_plan = _plan("--qa", str(tmp_path / "qa.yaml"))
+
+    def budget_share(plan):
+        return next(d["explains"] for d in plan["frequency_mhz"]["drivers"] if d["input"] == "budget")
+    assert budget_share(wide_plan) > budget_share(close_plan)

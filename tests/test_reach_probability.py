@@ -109,12 +109,14 @@ def test_a_measured_wall_narrows_the_spread_and_drops_the_wall_driver():
 
 
 def test_a_qa_calibrated_probe_has_the_narrower_budget_spread():
-    class Calibrated:
-        budget_db = 66.0
-
-    class Default:
-        budget_db = None
-
-    assert spread.budget_sd_db(Calibrated()) == spread.QA_BUDGET_SD_DB.value
-    assert spread.budget_sd_db(Default()) == spread.BUDGET_SD_DB.value
+    """Without QA the stated 3 dB; with a QA budget the reading precision (1.4 dB), or the
+    log's own scatter when it measured one (planner.engine.qa_budget)."""
+    import dataclasses
+    from planner.library.probes import load_inventory
+    probe = load_inventory(None).probes[0]
+    calibrated = dataclasses.replace(probe, budget_db=66.0)
+    scattered = dataclasses.replace(probe, budget_db=66.0, budget_sd_db=2.3)
+    assert spread.budget_sd_db(probe) == spread.BUDGET_SD_DB.value
+    assert spread.budget_sd_db(calibrated) == spread.QA_BUDGET_SD_DB.value
+    assert spread.budget_sd_db(scattered) == 2.3
     assert spread.QA_BUDGET_SD_DB.value < spread.BUDGET_SD_DB.value

@@ -92,3 +92,21 @@ def test_wall_aberration_is_main_through_a_thick_wall_and_more_over_a_tendon():
     thin = _plan("achilles-tendon", 21.0)
     assert "artefact.wall_aberration" in _codes(thick.findings, "main")
     assert "artefact.wall_aberration" in _codes(thin.findings, "more")
+
+
+def _spread_relevance(target: str, bmi: float) -> tuple[str, str, float]:
+    from planner.body.patient import Patient
+    from planner.engine import PlanRequest, make_plan
+    plan = make_plan(PlanRequest(target, Patient.from_inputs(bmi=bmi)))
+    found = next(f for f in plan.findings if f.code == "band.reach_spread")
+    return found.relevance, plan.frequency_mhz.start_basis, plan.frequency_mhz.start_probability
+
+
+def test_the_reach_spread_is_main_only_where_the_doubt_changes_the_start():
+    """A slim liver starts on the reach of 80 % of patients: the doubt is the start's, so it is
+    main. A slim thyroid starts at the usual 15 MHz (UVAThyroidTechnique) that 96 % reach: the
+    spread changes nothing a sonographer does, so it goes to More."""
+    relevance, basis, share = _spread_relevance("liver", 21)
+    assert (relevance, basis) == ("main", "margin")
+    relevance, basis, share = _spread_relevance("thyroid", 21)
+    assert basis == "practice" and share >= 0.9 and relevance == "more"

@@ -74,3 +74,29 @@ def test_the_renal_sheet_names_each_kidney_by_its_side():
     sheet = build_sheet(load_protocol(root / "renal-tract.yaml"), habitus=("normal",))
     names = [view.target.name for view in sheet.views if view.target.id == "kidney"]
     assert names == ["Right kidney", "Left kidney"]
+
+
+def test_a_sheet_plans_each_side_of_a_paired_view_on_its_own(tmp_path):
+    """Two views of one paired target through a window serving both sides (the carotid's
+    window), one right and one left: each view's plan is made for its own side (its title
+    names that side), not the first view's plan reused."""
+    import shutil
+    from pathlib import Path
+
+    import yaml
+
+    from planner.protocol import load_protocol
+    from planner.protocol.sheet import build_sheet
+
+    root = Path(__file__).resolve().parents[1] / "protocols" / "fellbrook"
+    data = yaml.safe_load((root / "carotid-doppler.yaml").read_text())
+    shutil.copy(root / "probes.yaml", tmp_path / "probes.yaml")
+    view = next(v for v in data["views"] if v["target"] == "carotid-bifurcation")
+    view = {k: v for k, v in view.items() if k not in ("measurements", "side")}
+    data["views"] = [dict(view, id="right-bifurcation", side="right"),
+                     dict(view, id="left-bifurcation", side="left")]
+    path = tmp_path / "both-sides.yaml"
+    path.write_text(yaml.safe_dump(data, sort_keys=False))
+    sheet = build_sheet(load_protocol(path), habitus=("normal",))
+    titles = [p.target_title for p in sheet.plot_plans]
+    assert titles[0].startswith("Right") and titles[1].startswith("Left"), titles

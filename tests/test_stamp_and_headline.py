@@ -53,7 +53,7 @@ def test_every_format_carries_version_and_time():
 
 
 def test_the_json_stamp_is_in_the_output_schema():
-    jsonschema = pytest.importorskip("jsonschema")
+    import jsonschema           # a declared test dependency: missing must fail, not skip
     from planner.engine.serialize import plan_output_schema
     schema = plan_output_schema()
     assert {"generated_by", "generated_at"} <= set(schema["required"])

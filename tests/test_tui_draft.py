@@ -131,7 +131,6 @@ async def test_opening_a_file_whose_headline_changed_asks(tmp_path):
 
 
 async def test_a_signed_draft_shows_its_signer_and_when_it_changed(tmp_path, monkeypatch):
-    pytest.importorskip("cryptography")
     path = _saved(tmp_path, "--draft")
     key, trusted = tmp_path / "k.pem", tmp_path / "t.yaml"
     assert main(["draft", "keygen", "--name", "B. Mentor", "-o", str(key), "--public",

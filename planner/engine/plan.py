@@ -293,6 +293,9 @@ def _assumptions(patient: Patient, chosen: WindowAssessment, inventory: ProbeInv
     out.append(f"Probes from the {inventory.origin}.")
     origin = chosen.best.probe.budget_origin if chosen.best is not None else ""
     where = f" from {origin}," if origin else ""
+    if chosen.best is not None and origin:
+        from planner.engine.spread import budget_sd_db
+        where += f" +/-{budget_sd_db(chosen.best.probe):g} dB (s.d.),"
     out.append(f"Signal budget {chosen.budget_db:g} dB{where} round trip; tissue values are population "
                "averages (speed +/-3 %, attenuation +/-30-50 %).")
     if prior is not None:

@@ -25,10 +25,19 @@ Checks (each a QA warning with the file and line of the measurement):
   from the previous one is used but flagged (repeat the test before relying on it);
 - trend: a fall of the DOP of more than 1 cm from the probe's baseline (first session) is the
   QA finding departments act on (Goodsitt1998; ServiceManualPenetration).
+
+Scatter: the repeatability of the probe's own measurements sets the spread of its budget in the
+reach probability (:func:`planner.engine.spread.budget_sd_db`). It is the pooled s.d. of the
+used measurements' budgets about their session means (sum of squared deviations over the sum of
+``n - 1``: repeats and other frequencies on one date measure the same budget), once the log has
+at least :data:`SCATTER_MIN_DOF` degrees of freedom; it never falls below the reading precision
+:data:`planner.engine.spread.QA_BUDGET_SD_DB` (a close agreement of a few repeats does not make
+a DOP read finer than about 0.4 cm; derived). A log without repeats keeps that precision.
 """
 
 from __future__ import annotations
 
+import math
 import statistics
 from dataclasses import dataclass, field, replace
 
@@ -40,8 +49,8 @@ from planner.physics import phantom
 from planner.physics.constants import BANDWIDTH_FRACTION_DEFAULT, SIGNAL_BUDGET_DIFFUSE_DB
 from planner.records import record
 
-__all__ = ["IMPLAUSIBLE_FRACTION", "QA_ACTION_CM", "MeasurementQa", "ProbeQa", "QaReport",
-           "apply_qa", "calibrated_inventory", "qa_report"]
+__all__ = ["IMPLAUSIBLE_FRACTION", "QA_ACTION_CM", "SCATTER_MIN_DOF", "MeasurementQa", "ProbeQa",
+           "QaReport", "apply_qa", "budget_scatter_db", "calibrated_inventory", "qa_report"]
 
 QA_ACTION_CM: float = 1.0
 """Change of depth of penetration that calls for action: 1 cm from baseline (Goodsitt1998,
@@ -50,6 +59,10 @@ from memory; ServiceManualPenetration, verified: "degradation in excess of 1 cm"
 IMPLAUSIBLE_FRACTION: float = 0.50
 """Largest relative distance of a derived budget from the default budget that is still used
 (derived: beyond the 33 % between the 40/f rule's budget and the default, module docstring). [-]"""
+
+SCATTER_MIN_DOF: int = 2
+"""Degrees of freedom (measurements beyond one per session) from which a log's own scatter
+sets its probe's budget spread (fewer: the reading precision alone; common practice). [-]"""
 
 QA_SOURCES: tuple[str, ...] = ("IEC61391", "IEC61391DOP", "Goodsitt1998", "ServiceManualPenetration",
                                 "PhantomUserGuideDOP", "Derived")
@@ -86,6 +99,14 @@ class ProbeQa:
     baseline: tuple[float, float] | None = None
     """``(frequency_mhz, phantom_attenuation_db_per_cm_mhz)`` of the first used measurement: the
     conditions the sessions' DOP equivalents are given at."""
+    scatter_db: float | None = None
+    """Pooled within-session s.d. of the used measurements' budgets (None below
+    :data:`SCATTER_MIN_DOF` degrees of freedom). [dB]"""
+    scatter_dof: int = 0
+    """Its degrees of freedom. [-]"""
+    budget_sd_db: float | None = None
+    """The spread of the budget the plans use: the scatter, but never below the reading
+    precision (module docstring); None when no budget is derived. [dB]"""
 
     @property
     def fall_cm(self) -> float | None:
@@ -166,6 +187,17 @@ def _check_session(log: QaLog, items: list[_Rated], bw: float) -> None:
                            f"MHz (limit {QA_ACTION_CM:g} cm): not used")
 
 
+def budget_scatter_db(sessions: list[list[float]]) -> tuple[float | None, int]:
+    """Pooled within-session s.d. of budgets and its degrees of freedom: ``sqrt(sum (b - mean of
+    its session)^2 / sum (n - 1))`` over the sessions' used budgets; None below
+    :data:`SCATTER_MIN_DOF` degrees of freedom. [dB], [-]"""
+    dof = sum(len(b) - 1 for b in sessions if b)
+    if dof < SCATTER_MIN_DOF:
+        return None, dof
+    ss = sum(sum((x - statistics.fmean(b)) ** 2 for x in b) for b in sessions if b)
+    return math.sqrt(ss / dof), dof
+
+
 def _probe_qa(log: QaLog, probe_id: str, entries: list[QaEntry], inventory: ProbeInventory) -> ProbeQa:
     probe = next((p for p in inventory.probes if p.id == probe_id), None)
     bw = probe.bandwidth_fraction if probe is not None else BANDWIDTH_FRACTION_DEFAULT.value
@@ -211,8 +243,13 @@ def _probe_qa(log: QaLog, probe_id: str, entries: list[QaEntry], inventory: Prob
     budget = sessions[-1][1] if sessions and probe is not None else None
     date = sessions[-1][0] if sessions else None
     baseline = None if not sessions else (base.frequency_mhz, base.phantom_attenuation_db_per_cm_mhz)
+    scatter, dof = budget_scatter_db([[r.budget_db for r in items if r.used]
+                                      for items in by_date.values()])
+    from planner.engine.spread import QA_BUDGET_SD_DB
+    spread_db = None if budget is None else round(max(scatter or 0.0, QA_BUDGET_SD_DB.value), 2)
     return ProbeQa(probe_id, probe is not None, bw, measurements, budget, date, tuple(sessions),
-                   trend, tuple(flags), baseline)
+                   trend, tuple(flags), baseline,
+                   None if scatter is None else round(scatter, 2), dof, spread_db)
 
 
 def _dop_equivalent_cm(budget_db: float, base: QaEntry, bw: float) -> float:
@@ -258,7 +295,7 @@ def apply_qa(inventory: ProbeInventory, report: QaReport) -> ProbeInventory:
         if q is None or q.budget_db is None:
             probes.append(p)
             continue
-        probes.append(replace(p, budget_db=q.budget_db,
+        probes.append(replace(p, budget_db=q.budget_db, budget_sd_db=q.budget_sd_db,
                               budget_origin=f"QA on {q.date}, probe {p.id} ({report.path})"))
     return replace(inventory, probes=tuple(probes))
 

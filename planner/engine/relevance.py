@@ -87,7 +87,20 @@ def _likely_condition(finding: Finding, target: Any) -> str:
     return "main" if finding.values.get("band_changes") else "more"
 
 
+def _reach_spread(finding: Finding, target: Any) -> str:
+    """Main when knowing the top driver would narrow the reach by at least
+    :data:`planner.engine.spread.NARROWING_MHZ` and the start is not already settled (set by
+    the wall, the exam's usual start or the probe, and reached by at least 90 % of the draws)."""
+    from planner.engine.spread import NARROWING_MHZ, SETTLED_PROBABILITY
+    narrows = _number(finding.values, "narrows_mhz")
+    share = _number(finding.values, "start_probability")
+    settled = (finding.values.get("start_basis") != "margin" and share is not None
+               and share >= SETTLED_PROBABILITY)
+    return "main" if narrows is not None and narrows >= NARROWING_MHZ and not settled else "more"
+
+
 RELEVANCE_GRADERS: dict[str, Callable[[Finding, Any], str]] = {
+    "band.reach_spread": _reach_spread,
     "condition.likely_steatosis": _likely_condition,
     "artefact.wall_aberration": _wall_aberration,
     "artefact.sound_speed": _sound_speed,

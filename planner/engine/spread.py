@@ -236,10 +236,12 @@ def wall_sigma_log(wall_low_cm, wall_high_cm, depth_known: bool) -> np.ndarray:
 
 
 def budget_sd_db(probe) -> float:
-    """s.d. of the probe's budget: :data:`QA_BUDGET_SD_DB` when a QA phantom calibrated it,
-    :data:`BUDGET_SD_DB` otherwise. [dB]"""
-    calibrated = getattr(probe, "budget_db", None) is not None
-    return QA_BUDGET_SD_DB.value if calibrated else BUDGET_SD_DB.value
+    """s.d. of the probe's budget: the scatter of its own QA log when that set it
+    (``Probe.budget_sd_db``, :mod:`planner.engine.qa_budget`), :data:`QA_BUDGET_SD_DB` when a QA
+    phantom calibrated it otherwise, :data:`BUDGET_SD_DB` without QA. [dB]"""
+    if probe.budget_db is None:
+        return BUDGET_SD_DB.value
+    return probe.budget_sd_db if probe.budget_sd_db is not None else QA_BUDGET_SD_DB.value
 
 
 def assessment_inputs(assessment, probe, depth_known: bool) -> SpreadInputs:
@@ -308,7 +310,8 @@ def spread_finding(band):
                            else f"{k_lo:.1f} MHz."))
     values = {"start_probability": band.start_probability, "top_probability": band.top_probability,
               "reach_range_mhz": [lo, hi], "start_median_mhz": band.start_median,
-              "drivers": {d.input: d.explains for d in band.drivers}, "samples": SAMPLES}
+              "drivers": {d.input: d.explains for d in band.drivers}, "samples": SAMPLES,
+              "narrows_mhz": round(narrows, 2), "start_basis": band.start_basis}
     return Finding(
         "band.reach_spread", "info", "Reach across patients like this one", message, values,
         ("HabitusPracticeModel", "Duck1990", "IEC61391DOP"),
@@ -317,4 +320,10 @@ def spread_finding(band):
         f"{BUDGET_SD_DB.value:g} dB, {QA_BUDGET_SD_DB.value:g} dB after phantom QA); each draw's "
         "reach is solved with the plan's broadband model. A driver's share is the part of the "
         "spread of the log reach that vanishes when that input alone is known.",
-        relevance="main" if narrows >= NARROWING_MHZ else "more")
+        relevance="more")       # graded by planner.engine.relevance (_reach_spread)
+
+
+SETTLED_PROBABILITY: float = 0.9
+"""A start that the wall, the exam's usual start or the probe set, and that at least this share
+of the draws reach, is settled: the doubt does not change what to do, so the spread goes to
+More (common practice). [-]"""

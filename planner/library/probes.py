@@ -50,6 +50,10 @@ class Probe:
     penetration (:mod:`planner.engine.qa_budget`); None uses the default budget. [dB]"""
     budget_origin: str = ""
     """Where ``budget_db`` came from, for the plan's assumptions (e.g. "QA on 2026-10-01")."""
+    budget_sd_db: float | None = None
+    """The spread (s.d.) of ``budget_db`` from the scatter of the probe's QA log
+    (:func:`planner.engine.qa_budget.budget_scatter_db`); None: the stated default spreads of
+    :mod:`planner.engine.spread`. [dB]"""
 
     @property
     def centre_mhz(self) -> float:

@@ -247,12 +247,12 @@ def _plan_views(protocol: Protocol, classes: tuple[str, ...], inv_path: str | No
         contexts.append(ctx)
         rows: list[SheetRow] = []
         for c in classes:
-            key = (view.target, view.window, c, ctx)    # a named window fixes the path:
-            if key not in memo:                          # the side only names the view
+            key = (view.target, view.window, view.side, c, ctx)   # the side names the plan's
+            if key not in memo:                                      # title and assumptions
                 memo[key] = make_plan(PlanRequest(view.target, patients[c], window_id=view.window,
                                                   side=view.side, context=ctx, probes_path=inv_path))
             rows.append(sheet_row(c, REPRESENTATIVE_BMI[c], memo[key], rows[-1] if rows else None))
-        plots.append(memo[(view.target, view.window, plot_class, ctx)])
+        plots.append(memo[(view.target, view.window, view.side, plot_class, ctx)])
         views.append(SheetView(
             view.id, view.title, NamedRef(target.id, sided_name(target.name, view.side)),
             NamedRef(window.id, window.name),
@@ -304,7 +304,7 @@ def _assumptions(classes: tuple[str, ...], sex: str | None, weeks: float | None,
     out.append(f"The depth plot of each view is drawn for {CLASS_LABELS[classes[-1]]}, the "
                "heaviest class on the sheet.")
     if shared:
-        out.append("Views with the same target, window and exam context share one plan per class.")
+        out.append("Views with the same target, window, side and exam context share one plan per class.")
     return tuple(out)
 
 

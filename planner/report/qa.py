@@ -2,7 +2,8 @@
 
 Input: :class:`planner.engine.qa_budget.QaReport`. JSON keys (sorted): ``qa_log``, ``demo``,
 ``inventory``, ``default_budget_db``, ``action_level_cm``, ``implausible_fraction``,
-``probes`` (per probe: ``probe``, ``known``, ``bandwidth_fraction``, ``budget_db``, ``date``,
+``probes`` (per probe: ``probe``, ``known``, ``bandwidth_fraction``, ``budget_db``,
+``budget_sd_db``, ``scatter_db``, ``scatter_dof``, ``date``,
 ``fall_cm``, ``trend_cm_per_month``, ``baseline``, ``sessions``, ``measurements``, ``flags``), ``flags``
 (every flag), ``sources``, ``note``, ``generated_by``, ``generated_at``.
 """
@@ -26,7 +27,8 @@ NOTE = ("Budgets are derived with the engine's broadband pulse-echo loss model f
 def _probe_data(p: ProbeQa) -> dict[str, Any]:
     return {
         "probe": p.probe, "known": p.known, "bandwidth_fraction": p.bandwidth_fraction,
-        "budget_db": p.budget_db, "date": p.date,
+        "budget_db": p.budget_db, "budget_sd_db": p.budget_sd_db, "scatter_db": p.scatter_db,
+        "scatter_dof": p.scatter_dof, "date": p.date,
         "fall_cm": None if p.fall_cm is None else round(p.fall_cm, 2),
         "trend_cm_per_month": p.trend_cm_per_month,
         "baseline": None if p.baseline is None else {"frequency_mhz": p.baseline[0],
@@ -60,6 +62,11 @@ def qa_text(report: QaReport, inventory_origin: str, stamp: Any) -> str:
     for p in report.probes:
         budget = f"{p.budget_db:g} dB (from {p.date})" if p.budget_db is not None else "not derived"
         out.append(f"{p.probe}: budget {budget}, pulse bandwidth {p.bandwidth_fraction:g}")
+        if p.budget_sd_db is not None:
+            why = (f"the log's repeats scatter {p.scatter_db:g} dB, {p.scatter_dof} degrees of "
+                   f"freedom; never below the reading precision" if p.scatter_db is not None
+                   else "the reading precision: too few repeats to measure the log's own scatter")
+            out.append(f"  spread in plans +/-{p.budget_sd_db:g} dB (s.d.; {why})")
         if p.baseline is not None:
             out.append(f"  sessions: budget, and depth of penetration at the baseline's "
                        f"{p.baseline[0]:g} MHz in {p.baseline[1]:g} dB/cm/MHz")
