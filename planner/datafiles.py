@@ -58,8 +58,8 @@ def _yaml_load(text: str) -> Any:
 
 def _digest(text: str) -> str:
     """Checksum of a YAML text: CRC-32 and byte length. It only has to notice an edited file
-    (not resist a forged one: the package data is trusted), and ``zlib`` is already loaded
-    where ``hashlib`` would load OpenSSL (about 4 ms) at every start-up."""
+    (not resist a forged one: the package data is trusted); ``zlib`` imports in about
+    0.3 ms where ``hashlib`` loads OpenSSL (about 4 ms) at every start-up."""
     raw = text.encode("utf-8")
     return f"{zlib.crc32(raw):08x}-{len(raw)}"
 

@@ -43,6 +43,7 @@ from dataclasses import dataclass, field, replace
 
 import numpy as np
 
+from planner.engine.spread import QA_BUDGET_SD_DB
 from planner.library.probes import ProbeInventory
 from planner.library.qa_log import QaEntry, QaLog
 from planner.physics import phantom
@@ -245,7 +246,6 @@ def _probe_qa(log: QaLog, probe_id: str, entries: list[QaEntry], inventory: Prob
     baseline = None if not sessions else (base.frequency_mhz, base.phantom_attenuation_db_per_cm_mhz)
     scatter, dof = budget_scatter_db([[r.budget_db for r in items if r.used]
                                       for items in by_date.values()])
-    from planner.engine.spread import QA_BUDGET_SD_DB
     spread_db = None if budget is None else round(max(scatter or 0.0, QA_BUDGET_SD_DB.value), 2)
     return ProbeQa(probe_id, probe is not None, bw, measurements, budget, date, tuple(sessions),
                    trend, tuple(flags), baseline,

@@ -15,7 +15,7 @@ from collections.abc import Sequence
 from html import escape
 
 from planner.engine.model import FrequencyBand
-from planner.engine.spread import INPUT_WORDS
+from planner.engine.spread import INPUT_WORDS, top_driver
 from planner.protocol.sheet_model import (LimitRow, ProbeRef, PublishedRow, Sheet, SheetView,
                                           SourcedValue, TimeSection, sheet_to_json_data)
 from planner.protocol.sheet_rows import SheetRow
@@ -54,10 +54,8 @@ def _band(band: FrequencyBand) -> str:
 def _driver(band: FrequencyBand) -> str:
     """The input most of the reach's doubt comes from, as the sheet says it ("" when none
     narrows it: nearly everyone is reached across the band)."""
-    top = band.drivers[0] if band.drivers else None
-    if top is None or top.explains <= 0 or top.reach_range_mhz[1] - top.reach_range_mhz[0] < 0.1:
-        return ""
-    return f"; doubt mostly from {INPUT_WORDS.get(top.input, top.input)}"
+    top = top_driver(band)
+    return "" if top is None else f"; doubt mostly from {INPUT_WORDS.get(top.input, top.input)}"
 
 
 def _cells(row: SheetRow) -> list[str]:

@@ -15,7 +15,7 @@ from textual.containers import Vertical
 from textual.markup import escape
 from textual.widgets import Static
 
-from planner.engine.spread import INPUT_WORDS
+from planner.engine.spread import INPUT_WORDS, collapsed, top_driver
 
 if TYPE_CHECKING:
     from planner.engine.model import FrequencyBand, Plan
@@ -34,10 +34,10 @@ def odds_markup(band: FrequencyBand) -> str:
             f"{100 * band.start_probability:.0f} %, top {band.high:.1f} MHz "
             f"{100 * band.top_probability:.0f} %; median patient's start "
             f"{band.start_median:.1f} MHz")
-    if band.drivers and band.drivers[0].reach_range_mhz[1] - band.drivers[0].reach_range_mhz[0] < 0.1:
+    d = top_driver(band)
+    if band.drivers and collapsed(band.drivers[0]):
         text += "\n[$text-muted]Nearly every patient like this one is reached across the probe's band.[/]"
-    elif band.drivers and band.drivers[0].explains > 0:
-        d = band.drivers[0]
+    elif d is not None:
         lo, hi = d.reach_range_mhz
         klo, khi = d.known_range_mhz
         text += (f"\n[$text-muted]Most of the spread ({100 * d.explains:.0f} %): "
