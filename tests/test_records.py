@@ -97,3 +97,68 @@ def test_repr_names_the_shown_fields_and_survives_recursion():
 
 def test_a_record_pickles():
     assert pickle.loads(pickle.dumps(Point(1.0, 2.0, "a"))) == Point(1.0, 2.0, "a")
+
+
+def test_construction_follows_the_generated_init():
+    """Positional or keyword arguments in field order, defaults, default factories,
+    ``init=False`` fields and ``__post_init__``, and the TypeErrors of a bad call, as the
+    ``__init__`` that ``dataclasses`` generates behaves."""
+    @record
+    class Full:
+        a: int
+        b: list = dataclasses.field(default_factory=list)
+        c: int = 3
+        d: int = dataclasses.field(default=7, init=False)
+        e: tuple = dataclasses.field(default_factory=tuple, init=False)
+
+        def __post_init__(self):
+            object.__setattr__(self, "c", self.c * 10)
+
+    full = Full(1)
+    assert (full.a, full.b, full.c, full.d, full.e) == (1, [], 30, 7, ())
+    assert Full(1, [2], c=4).c == 40 and Full(a=5).a == 5
+    assert Full(1).b is not Full(1).b                 # a fresh list per instance
+    for bad in [lambda: Full(), lambda: Full(1, [], 3, 4), lambda: Full(1, a=2),
+                lambda: Full(1, z=2), lambda: Full(1, d=2)]:
+        with pytest.raises(TypeError):
+            bad()
+    assert Full.__match_args__ == ("a", "b", "c")
+    assert [f.name for f in dataclasses.fields(Full)] == ["a", "b", "c", "d", "e"]
+
+
+def test_bad_definitions_are_refused_as_dataclasses_refuses_them():
+    with pytest.raises(TypeError):
+        @record
+        class Order:
+            a: int = 1
+            b: int
+    with pytest.raises(ValueError):
+        @record
+        class Mutable:
+            a: list = []
+
+
+def test_a_record_extends_a_record():
+    @record
+    class Base:
+        x: int
+        y: int = 2
+
+    @record
+    class Child(Base):
+        z: int = 5
+
+    child = Child(1, z=9)
+    assert (child.x, child.y, child.z) == (1, 2, 9)
+    assert [f.name for f in dataclasses.fields(Child)] == ["x", "y", "z"]
+    assert Child.__slots__ == ("z",) and not hasattr(child, "__dict__")
+    assert child != Base(1, 2) and dataclasses.replace(child, y=0).y == 0
+
+
+def test_a_loose_record_keeps_its_class_defaults_and_is_frozen():
+    assert Loose.items == () and Loose().items == ()
+    loose = Loose()
+    with pytest.raises(dataclasses.FrozenInstanceError):
+        loose.items = (1,)
+    with pytest.raises(dataclasses.FrozenInstanceError):
+        loose.other = 1
