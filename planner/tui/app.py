@@ -70,7 +70,16 @@ class ScanplanApp(App[int]):
 
 
 def run_app() -> int:
-    """Run the terminal UI until the user quits; return the exit code (0)."""
+    """Run the terminal UI until the user quits; return the exit code (0).
+
+    The objects made by the imports so far (Textual's, mostly) are moved out of the garbage
+    collector's reach with :func:`gc.freeze`: they live as long as the app, and every full
+    collection would walk them again. Measured on this project's machine: with them frozen,
+    decoding the target library's JSON twin after the UI has loaded takes 3-5 ms instead of
+    29-41 ms (the decode's allocations set off full collections over Textual's objects).
+    """
+    import gc
     app = ScanplanApp()
+    gc.freeze()
     app.run()
     return int(app.return_code or 0)

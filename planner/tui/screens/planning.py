@@ -11,6 +11,7 @@ exception escape.
 
 from __future__ import annotations
 
+import gc
 import time
 
 from textual import work
@@ -165,8 +166,10 @@ class PlanningScreen(FileActions):
             from planner.engine import make_plan  # noqa: F401 - imported to warm the cache
             from planner.library.targets import load_library
             from planner.safety.context import EXAM_TYPES, MODES
+            gc.freeze()     # numpy's and the engine's objects live as long as the app (run_app)
             library = load_library()
             first = compute(form_values(self.baseline))    # the opening inputs; warms the caches
+            gc.freeze()     # and so do the library and the data tables
             self.post_message(EngineLoaded((library, dict(EXAM_TYPES), dict(MODES),
                                             list(CONDITIONS)), first=first))
         except Exception as exc:  # noqa: BLE001 - shown to the user instead of a crash
