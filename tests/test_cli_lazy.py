@@ -89,7 +89,12 @@ def test_the_ui_starts_before_numpy_or_any_subcommand_loads():
     """What is loaded at the moment ``scanplan`` (no arguments) hands over to the UI."""
     code = ("import planner.tui.app as app\n"
             "seen = []\n"
-            "app.run_app = lambda: seen.append(sorted(sys.modules)) or 0\n"
+            "helpers = []\n"
+            "def run(first_plan=None):\n"
+            "    seen.append(sorted(sys.modules)); helpers.append(first_plan)\n"
+            "    if first_plan is not None: first_plan.close()\n"
+            "    return 0\n"
+            "app.run_app = run\n"
             "from planner.cli import main\n"
             "assert main([]) == 0\n"
             "sys.modules.clear(); sys.modules.update({m: None for m in seen[0]})\n")

@@ -90,9 +90,14 @@ def _command(argv: list[str]) -> str | None:
 
 
 def run_ui(args: argparse.Namespace | None = None) -> int:
-    """Start the terminal UI (imports Textual only now); return its exit code."""
+    """Start the terminal UI (imports Textual only now); return its exit code.
+
+    The helper that plans the opening inputs on another core starts first, so that it works
+    while Textual loads (:mod:`planner.tui.first_plan`)."""
+    from planner.tui.first_plan import start
+    first_plan = start()
     from planner.tui.app import run_app
-    return run_app()
+    return run_app(first_plan)
 
 
 def main(argv: Sequence[str] | None = None) -> int:

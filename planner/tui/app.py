@@ -7,6 +7,7 @@ work; see :mod:`planner.tui.screens.planning`.
 from __future__ import annotations
 
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 from textual.app import App
 from textual.binding import Binding
@@ -15,6 +16,9 @@ from planner.planfile import PlanInputs
 from planner.tui.demo import DEMO_INPUTS, DEMO_LABEL
 from planner.tui.screens.help import HelpScreen
 from planner.tui.screens.planning import PlanningScreen
+
+if TYPE_CHECKING:
+    from planner.tui.first_plan import FirstPlan
 
 
 class ScanplanApp(App[int]):
@@ -26,6 +30,9 @@ class ScanplanApp(App[int]):
         The plan to open with; the invented demo patient by default.
     source : str
         How the masthead names where the inputs came from.
+    first_plan : FirstPlan, optional
+        The start-up helper planning the opening inputs on another core
+        (:mod:`planner.tui.first_plan`); without it the screen plans them itself.
     """
 
     CSS_PATH = Path(__file__).with_name("app.tcss")
@@ -36,8 +43,10 @@ class ScanplanApp(App[int]):
         Binding("f9", "toggle_theme", "Theme", show=False),
     ]
 
-    def __init__(self, inputs: PlanInputs | None = None, source: str | None = None) -> None:
+    def __init__(self, inputs: PlanInputs | None = None, source: str | None = None,
+                 first_plan: FirstPlan | None = None) -> None:
         super().__init__()
+        self.first_plan = first_plan
         self._inputs = inputs if inputs is not None else DEMO_INPUTS
         self._source = source if source is not None else (DEMO_LABEL if inputs is None else "")
 
@@ -69,7 +78,7 @@ class ScanplanApp(App[int]):
         self.theme = "textual-light" if self.theme != "textual-light" else "textual-dark"
 
 
-def run_app() -> int:
+def run_app(first_plan: FirstPlan | None = None) -> int:
     """Run the terminal UI until the user quits; return the exit code (0).
 
     The objects made by the imports so far (Textual's, mostly) are moved out of the garbage
@@ -79,7 +88,11 @@ def run_app() -> int:
     29-41 ms (the decode's allocations set off full collections over Textual's objects).
     """
     import gc
-    app = ScanplanApp()
+    app = ScanplanApp(first_plan=first_plan)
     gc.freeze()
-    app.run()
+    try:
+        app.run()
+    finally:
+        if first_plan is not None:
+            first_plan.close()
     return int(app.return_code or 0)

@@ -8,7 +8,7 @@ from __future__ import annotations
 
 from typing import TYPE_CHECKING, Any
 
-from textual.markup import escape
+from planner.tui.markup import escape
 
 from planner.findings import Finding
 

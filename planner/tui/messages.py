@@ -46,3 +46,12 @@ class EngineLoaded(Message):
         self.error = error
         self.first = first
         """The outcome of the opening inputs, computed with the engine (None: compute it)."""
+
+
+class FirstPlanReady(Message):
+    """The start-up helper answered (``content`` None: it failed, was late or disagreed)."""
+
+    def __init__(self, content: Any = None) -> None:
+        super().__init__()
+        self.content = content
+        """The Plan view's text (:class:`planner.tui.plan_text.SummaryContent`) or None."""

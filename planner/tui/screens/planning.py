@@ -24,7 +24,8 @@ from textual.widgets import Checkbox, Footer, Input, Static
 from planner.planfile import PlanInputs
 from planner.tui.compute import FIELD_LABELS, Outcome, compute, form_values
 from planner.tui.demo import DEMO_INPUTS, DEMO_LABEL
-from planner.tui.messages import EngineLoaded, FindingOpened, InputsEdited, PlanComputed
+from planner.tui.messages import (EngineLoaded, FindingOpened, FirstPlanReady, InputsEdited,
+                                  PlanComputed)
 from planner.tui.screens.explain import ExplainScreen
 from planner.tui.screens.planning_files import FileActions
 from planner.tui.widgets import guards
@@ -85,6 +86,8 @@ class PlanningScreen(FileActions):
         self._building = False
         self._pane_mounted = False
         self._pending_engine: EngineLoaded | None = None
+        self._pending_first: FirstPlanReady | None = None
+        self._first_title = ""          # the target's name in the start-up helper's plan
         self._library_info: tuple | None = None
         self._last_raw: dict | None = None
         self.mounting_form = False
@@ -113,13 +116,20 @@ class PlanningScreen(FileActions):
         if self._building:
             return
         self._building = True
-        self.load_engine()
+        helper = getattr(self.app, "first_plan", None)
+        if helper is None:
+            self.load_engine()
+        else:                   # the engine loads once the helper's plan is on screen
+            self.await_first_plan(helper)
         from planner.tui.widgets.plan_pane import PlanPane
         body = Horizontal(Static("Loading the form…", id="inputs-placeholder"), id="body")
         await self.mount(body, before=self.query_one(Footer))
         await body.mount(PlanPane())
         await self.query_one("#loading").remove()
         self._pane_mounted = True
+        if self._pending_first is not None:
+            first, self._pending_first = self._pending_first, None
+            self.on_first_plan_ready(first)
         if self._pending_engine is not None:
             event, self._pending_engine = self._pending_engine, None
             self.on_engine_loaded(event)
@@ -158,6 +168,27 @@ class PlanningScreen(FileActions):
         return self.query_one("#plan-pane")
 
     # -- engine -----------------------------------------------------------------------------
+    @work(thread=True, exclusive=True, group="first-plan")
+    def await_first_plan(self, helper) -> None:
+        """Wait (off the main thread, without the interpreter lock) for the start-up helper's
+        first plan (:mod:`planner.tui.first_plan`)."""
+        content = None
+        try:
+            content = helper.result(form_values(self.baseline))
+        finally:
+            self.post_message(FirstPlanReady(content))
+
+    def on_first_plan_ready(self, event: FirstPlanReady) -> None:
+        if not self._pane_mounted:
+            self._pending_first = event
+            return
+        if event.content is not None:
+            self.pane.show_first(event.content)
+            self._first_title = event.content.title
+            self._update_masthead(self.baseline)
+        # the engine loads after this frame: its imports would hold the interpreter lock
+        self.call_after_refresh(self.load_engine)
+
     @work(thread=True, exclusive=True, group="engine")
     def load_engine(self) -> None:
         """Import the engine and load the library off the main thread."""
@@ -241,12 +272,10 @@ class PlanningScreen(FileActions):
 
     def _show_plan(self, plan) -> None:
         """Show ``plan`` in the views and its band and window on the status line."""
+        from planner.tui.plan_text import status_markup
         pane = self.pane
         pane.show_plan(plan)
-        band = plan.frequency_mhz
-        band_text = (f"{band.low:.1f}–{band.high:.1f} MHz"
-                     if band.low is not None and band.high is not None else "no usable band")
-        pane.show_status(f"[$success]✓[/] [b]{band_text}[/b] · {escape(plan.window.name)}")
+        pane.show_status(status_markup(plan))
 
     def _update_masthead(self, inputs: PlanInputs) -> None:
         name = inputs.target_id
@@ -256,6 +285,8 @@ class PlanningScreen(FileActions):
         plan = self.outcome.plan if self.outcome is not None else None
         if plan is not None and plan.target.id == inputs.target_id:
             name = plan.target_title  # with the side planned ("Left kidney")
+        elif plan is None and self._first_title and inputs == self.baseline:
+            name = self._first_title
         signature = ""
         if self.signed is not None:
             from planner.tui.signoff import state_for, supervisor_fields

@@ -22,6 +22,7 @@ from planner.tui.widgets.summary_view import PlanSummary
 
 if TYPE_CHECKING:  # the engine loads after the first paint
     from planner.engine.model import Plan
+    from planner.tui.plan_text import SummaryContent
 
 VIEWS: dict[str, str] = {"plan": "Plan", "findings": "Findings", "safety": "Safety",
                          "depth": "Depth", "doppler": "Doppler"}
@@ -73,6 +74,13 @@ class PlanPane(Vertical):
         self._refresh_view(self.query_one(TabbedContent).active)
         if self.has_class("-stale"):
             self.set_class(False, "-stale")
+
+    def show_first(self, content: SummaryContent) -> None:
+        """Show the start-up helper's text of the first plan in the Plan view and the status
+        line (the views fill from the screen's own first plan, which follows)."""
+        if self.plan is None:
+            self.query_one(PlanSummary).show_content(content)
+            self.show_status(content.status)
 
     def _refresh_view(self, view: str) -> None:
         if self.plan is None or view not in self._stale:

@@ -8,10 +8,9 @@ from textual.app import ComposeResult
 from textual.containers import Horizontal, Vertical, VerticalScroll
 from textual.content import Content
 from textual.coordinate import Coordinate
-from textual.markup import escape
 from textual.widgets import DataTable, Label, Static
 
-from planner.tui.format import summary_rows
+from planner.tui.plan_text import SummaryContent, summary_content
 
 if TYPE_CHECKING:  # the engine loads after the first paint
     from planner.engine.model import Plan
@@ -19,17 +18,6 @@ if TYPE_CHECKING:  # the engine loads after the first paint
 SUMMARY_LABELS: tuple[str, ...] = ("Target", "Patient", "Band", "Probe", "Harmonic", "Window",
                                    "Position", "Depth", "Tilt", "Watch")
 """The rows of the summary card, in order (see :func:`planner.tui.format.summary_rows`)."""
-
-
-def windows_rows(plan: Plan) -> list[tuple[str, ...]]:
-    """Rows of the ranked-window table: rank, name, usable, loss, depth, band."""
-    rows: list[tuple[str, ...]] = []
-    for rank, w in enumerate(plan.windows, 1):
-        band = w.band_mhz
-        rows.append((str(rank), w.label, "yes" if w.feasible else "NO",
-                     f"{w.round_trip_loss_db:.0f}", f"{w.depth_cm:.1f}",
-                     f"{band.low:.1f}–{band.high:.1f}" if band else "–"))
-    return rows
 
 
 def _line_count(markup: str, width: int) -> int:
@@ -47,17 +35,6 @@ def set_markup(static: Static, markup: str) -> None:
     same_height = old is not None and width > 0 and \
         _line_count(old, width) == _line_count(markup, width)
     static.update(markup, layout=not same_height)
-
-
-def layers_markup(plan: Plan) -> str:
-    """The layer stack of the chosen window, skin first."""
-    lines = []
-    depth = 0.0
-    for layer in plan.layers:
-        depth += layer.thickness_cm
-        lines.append(f"  {depth:5.1f} cm  {escape(layer.label)} "
-                     f"[$text-muted]({layer.thickness_cm:.2f} cm thick)[/]")
-    return "\n".join(lines)
 
 
 class PlanSummary(VerticalScroll):
@@ -82,19 +59,19 @@ class PlanSummary(VerticalScroll):
 
     def show_plan(self, plan: Plan) -> None:
         """Show ``plan``."""
+        self.show_content(summary_content(plan))
+
+    def show_content(self, content: SummaryContent) -> None:
+        """Show a plan's text (from this process or the start-up helper)."""
         message, card = self.query_one("#summary-message"), self.query_one("#summary-card")
         if message.display:
             message.display = False
         if not card.display:
             card.display = True
-        for index, (_, value) in enumerate(summary_rows(plan)):
+        for index, (_, value) in enumerate(content.rows):
             set_markup(self.query_one(f"#summary-{index}", Static), value)
-        windows = plan.windows
-        reference = windows[0].reference_frequency_mhz if windows else None
-        set_markup(self.query_one("#windows-title", Static),
-                   "Windows, best first" + (f" [$text-muted](dB = round-trip loss at "
-                                            f"{reference:g} MHz)[/]" if reference else ""))
-        rows = windows_rows(plan)
+        set_markup(self.query_one("#windows-title", Static), content.windows_title)
+        rows = list(content.windows)
         table: DataTable[str] = self.query_one("#windows-table", DataTable)
         shown = getattr(table, "_rows_shown", None)
         if rows != shown:
@@ -109,20 +86,10 @@ class PlanSummary(VerticalScroll):
                 table.clear()
                 for row in rows:
                     table.add_row(*row)
-        advice = plan.tilt.advice
-        set_markup(self.query_one("#tilt-advice", Static),
-                   f"[b]Tilt[/b]  {escape(advice)}" if advice else "")
-        set_markup(self.query_one("#layers", Static),
-                   "[b]Layers on the path[/b] [$text-muted](depth of each layer's bottom)[/]\n"
-                   + layers_markup(plan))
-        assumptions = plan.assumptions
-        set_markup(self.query_one("#assumptions", Static),
-                   "[b]Assumptions[/b]\n" + "\n".join(f"  • {escape(a)}" for a in assumptions)
-                   if assumptions else "")
-        pitfalls = plan.pitfalls
-        set_markup(self.query_one("#pitfalls", Static),
-                   "[b]Pitfalls[/b]\n" + "\n".join(f"  • {escape(p)}" for p in pitfalls)
-                   if pitfalls else "")
+        set_markup(self.query_one("#tilt-advice", Static), content.tilt)
+        set_markup(self.query_one("#layers", Static), content.layers)
+        set_markup(self.query_one("#assumptions", Static), content.assumptions)
+        set_markup(self.query_one("#pitfalls", Static), content.pitfalls)
 
     def on_mount(self) -> None:
         self.query_one("#summary-card").display = False
