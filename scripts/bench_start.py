@@ -9,7 +9,7 @@ Prints one JSON object (medians over alternating launches, milliseconds)::
 - **Terminal.** Each app is started as the command a user types, in a fresh tmux window
   (a private tmux server, 120 x 36, ``TERM=xterm-256color``). The clock starts just before
   tmux is asked to start the command, and the pane is read with ``capture-pane`` every few
-  milliseconds: *first paint* is the first read that shows the app's own text (the bare
+  milliseconds, through one control-mode client (:class:`Control`: no process per read): *first paint* is the first read that shows the app's own text (the bare
   app's label; scanplan's masthead), *first plan* the first read that shows scanplan's
   planned band (``Band  a–b MHz``). The bare app is a Textual app holding one Label,
   started the same way with the same interpreter. Targets: first paint <= 1.3x and first plan
@@ -81,16 +81,56 @@ def _tmux(*args: str) -> str:
                           check=False, env=ENV).stdout
 
 
-def _terminal_launch(command: list[str], want_plan: bool, timeout_s: float = 30.0):
+class Control:
+    """One tmux control-mode client (``tmux -C``) that runs commands and returns their output.
+
+    Reading the pane through it costs no process per read: the older way, a ``tmux
+    capture-pane`` process every 10 ms, kept about a third of a core busy during every
+    launch, which this two-core machine then took from the app being measured (and from
+    the bare app alike). The client asks for no pane output (``-f no-output``)."""
+
+    def __init__(self) -> None:
+        self.process = subprocess.Popen(["tmux", "-L", SOCKET, "-C", "attach-session", "-t", "keep",
+                                         "-f", "no-output"], stdin=subprocess.PIPE,
+                                        stdout=subprocess.PIPE, text=True, env=ENV, bufsize=1)
+
+    def run(self, command: str) -> str:
+        """The output of one tmux command (as ``tmux COMMAND`` would print it)."""
+        stdin, stdout = self.process.stdin, self.process.stdout
+        assert stdin is not None and stdout is not None
+        stdin.write(command + "\n")
+        stdin.flush()
+        lines: list[str] = []
+        inside = False
+        for line in stdout:
+            if line.startswith("%begin"):
+                inside = True
+            elif inside and line.startswith(("%end", "%error")):
+                return "".join(lines)
+            elif inside:
+                lines.append(line)
+        raise RuntimeError("the tmux control client ended")
+
+    def close(self) -> None:
+        try:
+            if self.process.stdin is not None:
+                self.process.stdin.close()
+            self.process.wait(timeout=5)
+        except (OSError, subprocess.TimeoutExpired):
+            self.process.kill()
+
+
+def _terminal_launch(control: Control, command: list[str], want_plan: bool,
+                     timeout_s: float = 30.0):
     """(first paint, first plan or None) in ms for one launch in a new tmux window."""
     kind = "scanplan" if want_plan else "bare"
     line = "TERM=xterm-256color exec " + shlex.join(command)
     start = time.perf_counter()
-    _tmux("new-window", "-d", "-t", "keep", "-n", "run", line)
+    control.run(f"new-window -d -t keep -n run {shlex.quote(line)}")
     paint = plan = None
     try:
         while time.perf_counter() - start < timeout_s:
-            screen = _tmux("capture-pane", "-p", "-t", "keep:run")
+            screen = control.run("capture-pane -p -t keep:run")
             now = (time.perf_counter() - start) * 1000.0
             if paint is None and PAINTED[kind].search(screen):
                 paint = now
@@ -102,7 +142,7 @@ def _terminal_launch(command: list[str], want_plan: bool, timeout_s: float = 30.
                 break
             time.sleep(0.010)
     finally:
-        _tmux("kill-window", "-t", "keep:run")
+        control.run("kill-window -t keep:run")
     if paint is None or (want_plan and plan is None):
         raise RuntimeError(f"{kind} showed nothing within {timeout_s:g} s in tmux")
     return paint, plan
@@ -118,16 +158,18 @@ def terminal(repeats: int, root: str | None) -> dict:
         bare_script.write_text(BARE_APP, encoding="utf-8")
         bare = [sys.executable, str(bare_script)]
         _tmux("new-session", "-d", "-s", "keep", "-x", "120", "-y", "36", "sleep 3600")
+        control = Control()
         try:
-            _terminal_launch(bare, False)            # warm the caches of both
-            _terminal_launch(ours, True)
+            _terminal_launch(control, bare, False)            # warm the caches of both
+            _terminal_launch(control, ours, True)
             bare_paint, paint, plan = [], [], []
             for _ in range(repeats):
-                bare_paint.append(_terminal_launch(bare, False)[0])
-                p, q = _terminal_launch(ours, True)
+                bare_paint.append(_terminal_launch(control, bare, False)[0])
+                p, q = _terminal_launch(control, ours, True)
                 paint.append(p)
                 plan.append(q)
         finally:
+            control.close()
             _tmux("kill-server")
     b, p, q = (statistics.median(v) for v in (bare_paint, paint, plan))
     return {"first_paint_ms": round(p, 1), "first_plan_ms": round(q, 1),
