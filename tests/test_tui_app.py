@@ -323,6 +323,11 @@ async def test_new_plan_and_escape_back_to_the_inputs():
         assert "bmi" in screen.outcome.problems and "BMI" in text_of(screen, "#plan-status")
         assert "new plan" in text_of(screen, "#masthead")
         assert "DEMO DATA" not in text_of(screen, "#masthead")
+        # the new patient starts at the BMI: typing goes there, not into the last field used
+        assert screen.focused.id == "bmi"
+        await pilot.press("2", "1")
+        await pilot.pause()
+        assert screen.outcome.plan is not None and screen.outcome.inputs.bmi == 21
 
 
 async def test_the_side_field_shows_for_paired_targets_and_plans_that_side():

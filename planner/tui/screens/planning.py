@@ -349,6 +349,8 @@ class PlanningScreen(FileActions):
         self.signed = None
         target = self.outcome.inputs.target_id if self.outcome else self.baseline.target_id
         self._adopt(PlanInputs(target_id=target), "new plan")
+        if self.built:      # a new patient starts at the first field (the BMI)
+            self.query_one("#bmi", Input).focus()
 
     def _adopt(self, inputs: PlanInputs, source: str, signed=None) -> None:
         self.baseline, self.source, self.signed = inputs, source, signed
