@@ -54,12 +54,15 @@ def test_speed_ordering_MechMater2012():
         < t["cortical_bone"].speed_m_per_s
 
 
-@pytest.mark.parametrize("tissue_id, alpha, tol", [("liver", 0.5, 0.2), ("fat", 0.63, 0.2),
-                                                    ("blood", 0.15, 0.05), ("lung", 40, 5),
-                                                    ("cortical_bone", 15, 5)])
-def test_attenuation_Diagnostics2023(tissue_id, alpha, tol):
-    """alpha at 1 MHz from Diagnostics 2023;13:855 Table 4 (verified)."""
-    assert load_tissues()[tissue_id].attenuation_db_per_cm_mhz == pytest.approx(alpha, abs=tol)
+@pytest.mark.parametrize("f_mhz", [1.25, 2.0, 3.5, 5.0, 8.0])
+def test_liver_attenuation_against_a_second_publication_Lin1987(f_mhz):
+    """The liver's one-way attenuation at f (alpha0 from Diagnostics 2023 Table 4 with the
+    exponent of Lin 1987) against Lin et al. 1987's own fit for normal human liver in vitro,
+    0.399 f^1.139 dB/cm over 1.25-8 MHz, within the +/-30 % inter-study scatter of published
+    attenuation (a check of alpha0 by a publication other than the one it was taken from)."""
+    liver = load_tissues()["liver"]
+    ours = liver.attenuation_db_per_cm_mhz * f_mhz ** liver.attenuation_exponent
+    assert 0.7 <= ours / (0.399 * f_mhz ** 1.139) <= 1.3
 
 
 def test_muscle_anisotropy_Diagnostics2023():

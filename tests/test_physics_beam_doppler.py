@@ -21,11 +21,36 @@ def test_axial_resolution_Kremkau2015(f, n, res):
     assert beam.axial_resolution_mm(f, n) == pytest.approx(res, abs=0.005)
 
 
-@pytest.mark.parametrize("f_num, deg", [(1, 13.3), (1.5, 9.2), (2, 7.0), (3, 4.7)])
-def test_specular_tolerance_derived(f_num, deg):
-    """theta_max = 0.5 atan(1/(2F)) (derived; consistent with Crass1988's 2-7 deg)."""
-    assert beam.specular_tolerance_f_number_deg(f_num) == pytest.approx(deg, abs=0.1)
-    assert beam.specular_tolerance_deg(10.0 / (2 * f_num), 1.0) == pytest.approx(deg, abs=0.1)
+def _edge_tilt_by_reflection_deg(half_aperture_mm: float, depth_mm: float) -> float:
+    """An independent geometric trace: the central ray leaves the aperture's centre along the
+    axis, reflects (d' = d - 2 (d.n) n) off a flat mirror at ``depth_mm`` tilted by theta, and
+    returns to the probe face; bisection finds the tilt at which it lands on the aperture's
+    edge (the echo's axis leaves the receiving aperture)."""
+    import math
+
+    def landing_mm(theta: float) -> float:
+        n = (math.sin(theta), -math.cos(theta))          # mirror normal, facing the probe
+        d = (0.0, 1.0)
+        dot = d[0] * n[0] + d[1] * n[1]
+        r = (d[0] - 2 * dot * n[0], d[1] - 2 * dot * n[1])
+        return abs(depth_mm * r[0] / r[1])               # back at the face, from (0, depth)
+
+    lo, hi = 0.0, math.radians(44.0)
+    for _ in range(80):
+        mid = 0.5 * (lo + hi)
+        lo, hi = (mid, hi) if landing_mm(mid) < half_aperture_mm else (lo, mid)
+    return math.degrees(0.5 * (lo + hi))
+
+
+@pytest.mark.parametrize("half_aperture_mm, depth_cm", [(5.0, 1.0), (10.0, 4.0), (20.0, 8.0),
+                                                        (6.5, 12.0), (2.5, 3.0)])
+def test_geometric_specular_tolerance_matches_a_reflection_trace(half_aperture_mm, depth_cm):
+    """The ray (geometric) tilt tolerance, which plans show beside the wave model's, equals a
+    reflection traced by vectors within 0.01 deg; the F-number form agrees (F = z / 2a)."""
+    traced = _edge_tilt_by_reflection_deg(half_aperture_mm, depth_cm * 10.0)
+    assert beam.specular_tolerance_deg(half_aperture_mm, depth_cm) == pytest.approx(traced, abs=0.01)
+    f_number = depth_cm * 10.0 / (2.0 * half_aperture_mm)
+    assert beam.specular_tolerance_f_number_deg(f_number) == pytest.approx(traced, abs=0.01)
 
 
 def test_detail_floor_inverts_resolution():
