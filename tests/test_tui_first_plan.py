@@ -128,3 +128,15 @@ async def test_a_failed_helper_leaves_the_screen_planning_by_itself():
     async with app.run_test(size=(120, 36)) as pilot:
         screen = await _plan_shown(app, pilot)
         assert "MHz" in screen.query_one("#plan-status").render().plain
+
+
+def test_the_helper_runs_this_planner_whatever_the_working_directory(tmp_path):
+    """A ``planner`` package and a ``json`` module in the user's folder cannot stand in for
+    ours: the helper never puts the working directory on its path (``-P``)."""
+    (tmp_path / "planner").mkdir()
+    (tmp_path / "planner" / "__init__.py").write_text("raise SystemExit('wrong planner')\n")
+    (tmp_path / "json.py").write_text("raise SystemExit('wrong json')\n")
+    done = subprocess.run(first_plan.helper_command(), capture_output=True, text=True,
+                          timeout=60, cwd=tmp_path, check=True)
+    answer = json.loads(done.stdout)
+    assert "content" in answer and answer["values"]["target_id"] == DEMO_INPUTS.target_id

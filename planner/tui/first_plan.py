@@ -3,7 +3,7 @@
 Loading the engine takes about as long as loading Textual (numpy, the data tables, the
 target library), and one Python process does the two one after the other: its threads share
 one interpreter lock, so a thread gains nothing on this work. When the machine has a second
-core, :func:`start` launches ``python -m planner.tui.first_plan`` at once, before Textual
+core, :func:`start` launches the helper (:func:`helper_command`) at once, before Textual
 loads; the helper loads the engine on the other core, plans the opening inputs (the invented
 demo patient) and prints the plan's text (:func:`planner.tui.plan_text.summary_content`) as
 one JSON object. The screen shows that text as soon as its plan views are mounted, then
@@ -25,7 +25,7 @@ from typing import TYPE_CHECKING, Any
 if TYPE_CHECKING:
     from planner.tui.plan_text import SummaryContent
 
-__all__ = ["start", "FirstPlan", "WAIT_S", "main"]
+__all__ = ["start", "helper_command", "FirstPlan", "WAIT_S", "main"]
 
 WAIT_S: float = 5.0
 """Longest wait for the helper's answer before the screen plans by itself [s] (common
@@ -85,14 +85,24 @@ class FirstPlan:
                     pass
 
 
+def helper_command() -> list[str]:
+    """The helper's command line: this interpreter, the planner this process runs (its folder
+    first on the path unless it is there already) and never the working directory (``-P``),
+    so a ``planner`` or ``json`` module where the user stands cannot stand in for ours."""
+    root = os.path.dirname(os.path.dirname(os.path.dirname(os.path.abspath(__file__))))
+    code = (f"import sys; r = {root!r}; sys.path.insert(0, r) if r not in sys.path else None; "
+            "from planner.tui.first_plan import main; sys.exit(main())")
+    return [sys.executable, "-P", "-c", code]
+
+
 def start() -> FirstPlan | None:
     """Launch the helper on another core (None on a single core, when the environment sets
     ``SCANPLAN_FIRST_PLAN_HELPER=0``, or if it cannot start)."""
     if _cores() < 2 or os.environ.get("SCANPLAN_FIRST_PLAN_HELPER", "1") == "0":
         return None
     try:
-        process = subprocess.Popen([sys.executable, "-m", "planner.tui.first_plan"],
-                                   stdin=subprocess.DEVNULL, stdout=subprocess.PIPE,
+        process = subprocess.Popen(helper_command(), stdin=subprocess.DEVNULL,
+                                   stdout=subprocess.PIPE,
                                    stderr=subprocess.DEVNULL, close_fds=True)
     except OSError:
         return None
