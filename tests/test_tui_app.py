@@ -59,7 +59,8 @@ async def test_first_screen_shows_a_plan_with_its_band_in_mhz():
         band = screen.plan.frequency_mhz
         status = text_of(screen, "#plan-status")
         assert f"{band.low:.1f}–{band.high:.1f} MHz" in status
-        assert "MHz" in text_of(screen, "#summary-2")
+        card = screen.query_one("#summary-card")
+        assert [label for label, _ in card.rows][2] == "Band" and "MHz" in card.row_text(2)
         assert "DEMO DATA: invented patient" in text_of(screen, "#masthead")
 
 

@@ -140,3 +140,27 @@ def test_the_helper_runs_this_planner_whatever_the_working_directory(tmp_path):
                           timeout=60, cwd=tmp_path, check=True)
     answer = json.loads(done.stdout)
     assert "content" in answer and answer["values"]["target_id"] == DEMO_INPUTS.target_id
+
+
+async def test_the_summary_card_wraps_each_value_beside_its_label():
+    """One widget for the card: a value too long for the line continues under the value
+    column, the label column stays blank there, and the card is as tall as its lines."""
+    from textual.app import App
+
+    from planner.tui.widgets.summary_view import LABEL_WIDTH, SummaryCard
+
+    class One(App):
+        def compose(self):
+            yield SummaryCard(id="card")
+
+    app = One()
+    async with app.run_test(size=(40, 12)) as pilot:
+        card = app.query_one(SummaryCard)
+        card.set_rows((("Band", "start 2.9 MHz · band 1.2–3.7 MHz, the top reached by 48 %"),
+                       ("Probe", "[b]curved[/b] array")))
+        await pilot.pause()
+        lines = [line.plain.rstrip() for line in card.render().split("\n")]
+        assert lines[0].startswith("Band".ljust(LABEL_WIDTH) + "start 2.9 MHz")
+        assert len(lines) == 3 and lines[1].startswith(" " * LABEL_WIDTH)
+        assert lines[1].strip() and lines[2] == "Probe".ljust(LABEL_WIDTH) + "curved array"
+        assert card.size.height == 3 and card.row_text(1) == "curved array"

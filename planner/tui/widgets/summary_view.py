@@ -5,19 +5,17 @@ from __future__ import annotations
 from typing import TYPE_CHECKING
 
 from textual.app import ComposeResult
-from textual.containers import Horizontal, Vertical, VerticalScroll
+from textual.containers import VerticalScroll
 from textual.content import Content
 from textual.coordinate import Coordinate
-from textual.widgets import DataTable, Label, Static
+from textual.widget import Widget
+from textual.widgets import DataTable, Static
 
+from planner.tui.markup import escape
 from planner.tui.plan_text import SummaryContent, summary_content
 
 if TYPE_CHECKING:  # the engine loads after the first paint
     from planner.engine.model import Plan
-
-SUMMARY_LABELS: tuple[str, ...] = ("Target", "Patient", "Band", "Probe", "Harmonic", "Window",
-                                   "Position", "Depth", "Tilt", "Watch")
-"""The rows of the summary card, in order (see :func:`planner.tui.format.summary_rows`)."""
 
 
 def _line_count(markup: str, width: int) -> int:
@@ -37,16 +35,63 @@ def set_markup(static: Static, markup: str) -> None:
     static.update(markup, layout=not same_height)
 
 
+LABEL_WIDTH: int = 9
+"""Width of the card's label column, in cells (the longest label and a space)."""
+
+
+class SummaryCard(Widget):
+    """The summary card: one label per row and its value wrapped beside it, in one widget.
+
+    One widget instead of a row container, a label and a value per row (31 widgets): the
+    card mounts and lays out in one step, which the first plan on screen waits for.
+    """
+
+    DEFAULT_CSS = """
+    SummaryCard { height: auto; }
+    """
+
+    def __init__(self, *, id: str | None = None) -> None:
+        super().__init__(id=id)
+        self.rows: tuple[tuple[str, str], ...] = ()
+
+    def set_rows(self, rows: tuple[tuple[str, str], ...]) -> None:
+        """Show ``rows`` ((label, value markup) pairs); a relayout only when the height changes."""
+        if rows == self.rows:
+            return
+        width = self.content_region.width
+        same_height = width > 0 and len(self._lines(self.rows, width)) == \
+            len(self._lines(rows, width))
+        self.rows = rows
+        self.refresh(layout=not same_height)
+
+    def row_text(self, index: int) -> str:
+        """The plain text of row ``index``'s value (for tests and screen readers)."""
+        return Content.from_markup(self.rows[index][1]).plain
+
+    @staticmethod
+    def _lines(rows: tuple[tuple[str, str], ...], width: int) -> list[Content]:
+        value_width = max(8, width - LABEL_WIDTH)
+        indent = Content(" " * LABEL_WIDTH)
+        lines: list[Content] = []
+        for label, markup in rows:
+            head = Content.from_markup(f"[$text-muted]{escape(label.ljust(LABEL_WIDTH))}[/]")
+            for i, line in enumerate(Content.from_markup(markup).wrap(value_width) or [Content("")]):
+                lines.append((head if i == 0 else indent) + line)
+        return lines
+
+    def get_content_height(self, container, viewport, width: int) -> int:
+        return len(self._lines(self.rows, width))
+
+    def render(self) -> Content:
+        return Content("\n").join(self._lines(self.rows, self.content_region.width))
+
+
 class PlanSummary(VerticalScroll):
     """Summary card, windows table and the guidance under them."""
 
     def compose(self) -> ComposeResult:
         yield Static("Working out the plan…", id="summary-message")
-        with Vertical(id="summary-card"):
-            for index, label in enumerate(SUMMARY_LABELS):
-                with Horizontal(classes="summary-row"):
-                    yield Label(label, classes="summary-label")
-                    yield Static("", id=f"summary-{index}", classes="summary-value")
+        yield SummaryCard(id="summary-card")
         yield Static("", id="windows-title", classes="subhead")
         table: DataTable[str] = DataTable(id="windows-table", cursor_type="row", zebra_stripes=False,
                           show_cursor=False)
@@ -68,8 +113,7 @@ class PlanSummary(VerticalScroll):
             message.display = False
         if not card.display:
             card.display = True
-        for index, (_, value) in enumerate(content.rows):
-            set_markup(self.query_one(f"#summary-{index}", Static), value)
+        self.query_one(SummaryCard).set_rows(content.rows)
         set_markup(self.query_one("#windows-title", Static), content.windows_title)
         rows = list(content.windows)
         table: DataTable[str] = self.query_one("#windows-table", DataTable)
