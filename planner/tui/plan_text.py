@@ -20,6 +20,7 @@ if TYPE_CHECKING:  # the engine loads after the first paint
 __all__ = ["SummaryContent", "summary_content", "status_markup", "windows_rows",
            "layers_markup"]
 
+
 @record
 class SummaryContent:
     """The text of the Plan view and the status line for one plan (content markup)."""

@@ -53,6 +53,7 @@ class SummaryCard(Widget):
     def __init__(self, *, id: str | None = None) -> None:
         super().__init__(id=id)
         self.rows: tuple[tuple[str, str], ...] = ()
+        self._laid_out: tuple[tuple, int, list[Content]] | None = None
 
     def set_rows(self, rows: tuple[tuple[str, str], ...]) -> None:
         """Show ``rows`` ((label, value markup) pairs); a relayout only when the height changes."""
@@ -68,8 +69,18 @@ class SummaryCard(Widget):
         """The plain text of row ``index``'s value (for tests and screen readers)."""
         return Content.from_markup(self.rows[index][1]).plain
 
+    def _lines(self, rows: tuple[tuple[str, str], ...], width: int) -> list[Content]:
+        """The card's lines at ``width``; the last layout is kept, as the height, the render
+        and the next update all ask for the same one."""
+        cached = self._laid_out
+        if cached is not None and cached[0] == rows and cached[1] == width:
+            return cached[2]
+        lines = self._wrap(rows, width)
+        self._laid_out = (rows, width, lines)
+        return lines
+
     @staticmethod
-    def _lines(rows: tuple[tuple[str, str], ...], width: int) -> list[Content]:
+    def _wrap(rows: tuple[tuple[str, str], ...], width: int) -> list[Content]:
         value_width = max(8, width - LABEL_WIDTH)
         indent = Content(" " * LABEL_WIDTH)
         lines: list[Content] = []
