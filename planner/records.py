@@ -199,18 +199,19 @@ def _setstate(self, state):
         object.__setattr__(self, name, value)
 
 
-def _params() -> Any:
+def _params(slots: bool) -> Any:
     """``__dataclass_params__`` for a frozen record (its constructor grew arguments in later
     Pythons; each is given by name where it exists)."""
     wanted = {"init": True, "repr": True, "eq": True, "order": False, "unsafe_hash": False,
-              "frozen": True, "match_args": True, "kw_only": False, "slots": True,
+              "frozen": True, "match_args": True, "kw_only": False, "slots": slots,
               "weakref_slot": False}
     code = _DataclassParams.__init__.__code__
     accepted = code.co_varnames[1:code.co_argcount]
     return _DataclassParams(**{name: wanted.get(name, False) for name in accepted})
 
 
-_PARAMS_VALUE = _params()
+_PARAMS_VALUE = {True: _params(True), False: _params(False)}
+"""The parameters of slotted and of loose records (shared: they are never changed)."""
 
 
 def _finish(cls: T, slots: bool) -> T:
@@ -248,7 +249,7 @@ def _finish(cls: T, slots: bool) -> T:
             elif name in own:
                 setattr(cls, name, own[name])
     setattr(cls, _FIELDS, found)
-    setattr(cls, _PARAMS, _PARAMS_VALUE)
+    setattr(cls, _PARAMS, _PARAMS_VALUE[slots])
     cls.__record_names__ = names                              # type: ignore[attr-defined]
     if "__init__" not in own:
         cls.__init__ = _make_init(cls.__qualname__, fs,       # type: ignore[misc]
